@@ -1,0 +1,89 @@
+package sim
+
+// Config is everything one run depends on. A run is a pure function of its
+// Config: same Config, same Result.
+type Config struct {
+	Net      *Net
+	Duration Time // simulated time; must exceed Warmup
+	Warmup   Time // packets generated before this are not measured
+	Bin      Time // width of the Result.Series bins
+	HopLimit int  // packets are dropped on reaching this many hops; 0 means DefaultHopLimit
+	Traffic  Traffic
+	Failures Failures
+	Agent    Agent
+	// ControlDelay is the age of a central agent's telemetry and the delay
+	// before its tables take effect.
+	ControlDelay Time
+	// Seed identifies the run's random streams; see Stream.
+	Seed uint64
+	// AgentSeed seeds the agent's own randomness (exploration), kept apart so
+	// that agents compared in one cell see identical traffic and failures.
+	AgentSeed uint64
+}
+
+// DefaultHopLimit is the hop limit when Config.HopLimit is zero.
+const DefaultHopLimit = 64
+
+// Traffic describes what the sources emit.
+type Traffic struct {
+	// Rates[s][d] is the Poisson rate, packets per second, from node s to d.
+	Rates [][]float64
+	Size  SizeDist
+	// Redraw draws a fresh size at every hop (Kleinrock's independence
+	// assumption) instead of keeping it.
+	Redraw bool
+	// Flows is the number of flow labels per source–destination pair that
+	// ECMP hashing can spread; 0 means DefaultFlows.
+	Flows int
+}
+
+// DefaultFlows is the number of flow labels per pair when Traffic.Flows is zero.
+const DefaultFlows = 8
+
+// SizeKind names a packet size distribution.
+type SizeKind uint8
+
+// Size distributions.
+const (
+	Fixed SizeKind = iota
+	Exponential
+	Bimodal
+)
+
+// SizeDist is a packet size distribution in bytes.
+type SizeDist struct {
+	Kind          SizeKind
+	Bytes         int     // Fixed
+	MeanBytes     float64 // Exponential (sizes are rounded up to whole bytes, at least 1)
+	SmallBytes    int     // Bimodal
+	LargeBytes    int     // Bimodal
+	LargeFraction float64 // Bimodal: probability of LargeBytes
+}
+
+// Mean returns the mean packet size in bytes.
+func (d SizeDist) Mean() float64 {
+	switch d.Kind {
+	case Fixed:
+		return float64(d.Bytes)
+	case Exponential:
+		return d.MeanBytes
+	default:
+		return float64(d.SmallBytes)*(1-d.LargeFraction) + float64(d.LargeBytes)*d.LargeFraction
+	}
+}
+
+// Failures is a run's failure schedule, resolved to element indices.
+type Failures struct {
+	// Detection is the time after a link change until its end nodes notice.
+	Detection Time
+	Events    []FailureEvent // in any order; applied by (At, position)
+}
+
+// FailureEvent takes links or a node down or up at a time.
+type FailureEvent struct {
+	At      Time
+	Links   []int  // links that change together (a shared-risk group has several)
+	Node    int    // node that changes, or -1
+	Up      bool   // true brings the element back
+	Element string // how results name it: "c-d", "h", a group's name
+}

@@ -1,0 +1,872 @@
+package sim
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sort"
+)
+
+// Run simulates cfg and returns what it measured. It is deterministic: the
+// same Config gives the same Result. Cost: O(events · log events).
+func Run(cfg *Config) (*Result, error) {
+	e, err := newEngine(cfg)
+	if err != nil {
+		return nil, err
+	}
+	e.loop()
+	return e.finish()
+}
+
+type chanState struct {
+	q       pktQueue
+	qBytes  int
+	busy    bool
+	txPkt   int32
+	txStart Time
+	txEnd   Time
+	epoch   uint32 // bumped when the channel goes down: what was in flight is lost
+	up      bool   // physically usable
+	seenUp  bool   // the sending node's belief (after detection)
+	detGen  uint32 // bumped at every physical change; stale detections are ignored
+
+	busyTotal Time // cumulative transmitting time (any packet)
+	sent      int64
+	downAt    Time
+	downTotal Time // within the measured window
+
+	redraw *rand.Rand
+}
+
+type nodeState struct {
+	up      bool
+	downCnt int
+}
+
+type source struct {
+	rate  float64
+	dst   alias
+	rArr  *rand.Rand
+	rDst  *rand.Rand
+	rSize *rand.Rand
+	rFlow *rand.Rand
+}
+
+type engine struct {
+	cfg      *Config
+	net      *Net
+	now      Time
+	seq      uint64
+	heap     eventHeap
+	hopLimit int
+	flows    int
+	bin      Time
+	nbins    int
+
+	pkts []Packet
+	free []int32
+	live int64 // measured data packets in the network
+
+	ch       []chanState
+	linkDown []int // reasons a link is down (its own failure, a failed end node)
+	nodes    []nodeState
+	src      []source
+
+	routers []Router
+	arr     []Arrivals
+	rcv     []Receiver
+	det     []Detector
+	ls      []LinkStater
+	timed   []Timed
+	anyLS   bool
+	central Central
+	cTimed  Timed
+	cview   *ControlView
+
+	snaps      []*Snapshot
+	pairDel    []int64
+	pairDelay  []float64
+	pairDrop   []int64
+	binBusy    []Time // nbins × channels
+	res        *Result
+	failures   []FailureEvent
+	floodDist  []float64
+	floodHeap  []int
+	floodReady bool
+}
+
+func newEngine(cfg *Config) (*engine, error) {
+	if cfg.Net == nil {
+		return nil, errors.New("sim: config has no network")
+	}
+	if cfg.Agent == nil {
+		return nil, errors.New("sim: config has no agent")
+	}
+	if cfg.Duration <= 0 {
+		return nil, errors.New("sim: duration must be positive")
+	}
+	if cfg.Warmup < 0 || cfg.Warmup >= cfg.Duration {
+		return nil, fmt.Errorf("sim: warm-up %v must be in [0, duration %v)", cfg.Warmup.Seconds(), cfg.Duration.Seconds())
+	}
+	if cfg.Bin <= 0 {
+		return nil, errors.New("sim: bin must be positive")
+	}
+	net := cfg.Net
+	N := net.NumNodes()
+	e := &engine{cfg: cfg, net: net, hopLimit: cfg.HopLimit, flows: cfg.Traffic.Flows, bin: cfg.Bin}
+	if e.hopLimit <= 0 {
+		e.hopLimit = DefaultHopLimit
+	}
+	if e.flows <= 0 {
+		e.flows = DefaultFlows
+	}
+	e.nbins = int((cfg.Duration + cfg.Bin - 1) / cfg.Bin)
+	if err := checkTraffic(cfg, N); err != nil {
+		return nil, err
+	}
+	e.ch = make([]chanState, len(net.Channels))
+	for i := range e.ch {
+		e.ch[i].up, e.ch[i].seenUp = true, true
+		if cfg.Traffic.Redraw {
+			e.ch[i].redraw = Stream(cfg.Seed, StreamRedraw, uint64(i))
+		}
+	}
+	e.linkDown = make([]int, len(net.Graph.Links))
+	e.nodes = make([]nodeState, N)
+	for i := range e.nodes {
+		e.nodes[i].up = true
+	}
+	e.binBusy = make([]Time, e.nbins*len(net.Channels))
+	e.res = &Result{
+		Delivery: NewHistogram(),
+		Channels: make([]ChannelResult, len(net.Channels)),
+		Series:   make([]Bin, e.nbins),
+	}
+	for b := range e.res.Series {
+		e.res.Series[b].Start = Time(b) * cfg.Bin
+		e.res.Series[b].End = min(Time(b+1)*cfg.Bin, cfg.Duration)
+	}
+	// traffic sources
+	e.src = make([]source, N)
+	for s := 0; s < N; s++ {
+		var items []int32
+		var w []float64
+		var rate float64
+		if s < len(cfg.Traffic.Rates) {
+			for d, r := range cfg.Traffic.Rates[s] {
+				if r > 0 && d != s {
+					items = append(items, int32(d))
+					w = append(w, r)
+					rate += r
+				}
+			}
+		}
+		src := &e.src[s]
+		src.rate = rate
+		if rate > 0 {
+			src.dst = newAlias(items, w)
+			src.rArr = Stream(cfg.Seed, StreamArrivals, uint64(s))
+			src.rDst = Stream(cfg.Seed, StreamDestinations, uint64(s))
+			src.rSize = Stream(cfg.Seed, StreamSizes, uint64(s))
+			src.rFlow = Stream(cfg.Seed, StreamFlows, uint64(s))
+			e.schedule(Time(math.Ceil(src.rArr.ExpFloat64()/rate*1e9)), evGen, int32(s), 0, 0)
+		}
+	}
+	// failures, applied in (time, position) order
+	e.failures = append([]FailureEvent(nil), cfg.Failures.Events...)
+	sort.SliceStable(e.failures, func(i, j int) bool { return e.failures[i].At < e.failures[j].At })
+	for i, f := range e.failures {
+		for _, l := range f.Links {
+			if l < 0 || l >= len(net.Graph.Links) {
+				return nil, fmt.Errorf("sim: failure event %d names link %d, which does not exist", i, l)
+			}
+		}
+		if f.Node >= N {
+			return nil, fmt.Errorf("sim: failure event %d names node %d, which does not exist", i, f.Node)
+		}
+		if f.At <= cfg.Duration {
+			e.schedule(f.At, evFail, int32(i), 0, 0)
+		}
+	}
+	e.res.Failures = e.failures
+	// agent
+	switch a := cfg.Agent.(type) {
+	case PerNode:
+		e.routers = make([]Router, N)
+		e.arr = make([]Arrivals, N)
+		e.rcv = make([]Receiver, N)
+		e.det = make([]Detector, N)
+		e.ls = make([]LinkStater, N)
+		e.timed = make([]Timed, N)
+		for v := 0; v < N; v++ {
+			view := &NodeView{e: e, node: v, rng: Stream(cfg.AgentSeed, StreamAgent, uint64(v))}
+			r := a.Node(view)
+			e.routers[v] = r
+			e.arr[v], _ = r.(Arrivals)
+			e.rcv[v], _ = r.(Receiver)
+			e.det[v], _ = r.(Detector)
+			e.ls[v], _ = r.(LinkStater)
+			e.timed[v], _ = r.(Timed)
+			if e.ls[v] != nil {
+				e.anyLS = true
+			}
+		}
+	case Central:
+		e.central = a
+		e.cTimed, _ = a.(Timed)
+		e.pairDel = make([]int64, N*N)
+		e.pairDelay = make([]float64, N*N)
+		e.pairDrop = make([]int64, N*N)
+		e.cview = &ControlView{e: e, rng: Stream(cfg.AgentSeed, StreamAgent, math.MaxUint32)}
+		a.Start(e.cview)
+	default:
+		return nil, fmt.Errorf("sim: agent %q is neither per-node nor central", cfg.Agent.Name())
+	}
+	return e, nil
+}
+
+func checkTraffic(cfg *Config, N int) error {
+	t := &cfg.Traffic
+	if len(t.Rates) > N {
+		return fmt.Errorf("sim: traffic matrix has %d rows for %d nodes", len(t.Rates), N)
+	}
+	for s, row := range t.Rates {
+		if len(row) > N {
+			return fmt.Errorf("sim: traffic matrix row %d has %d entries for %d nodes", s, len(row), N)
+		}
+		for d, r := range row {
+			if r < 0 || math.IsNaN(r) || math.IsInf(r, 0) {
+				return fmt.Errorf("sim: traffic rate %d→%d is %g", s, d, r)
+			}
+		}
+	}
+	switch t.Size.Kind {
+	case Fixed:
+		if t.Size.Bytes <= 0 {
+			return errors.New("sim: fixed packet size must be positive")
+		}
+	case Exponential:
+		if !(t.Size.MeanBytes > 0) {
+			return errors.New("sim: mean packet size must be positive")
+		}
+	case Bimodal:
+		if t.Size.SmallBytes <= 0 || t.Size.LargeBytes <= 0 || t.Size.LargeFraction < 0 || t.Size.LargeFraction > 1 {
+			return errors.New("sim: bimodal sizes must be positive and the fraction in [0, 1]")
+		}
+	default:
+		return fmt.Errorf("sim: unknown size distribution %d", t.Size.Kind)
+	}
+	return nil
+}
+
+func (e *engine) schedule(at Time, kind uint8, a, b int32, c uint32) {
+	e.seq++
+	e.heap.push(event{at: at, seq: e.seq, kind: kind, a: a, b: b, c: c})
+}
+
+func (e *engine) loop() {
+	end := e.cfg.Duration
+	for e.heap.len() > 0 {
+		if e.heap.ev[0].at > end {
+			break
+		}
+		ev := e.heap.pop()
+		e.now = ev.at
+		e.res.Events++
+		switch ev.kind {
+		case evGen:
+			e.generate(int(ev.a))
+		case evTxDone:
+			e.txDone(int(ev.a), ev.c)
+		case evArrive:
+			e.arrive(int(ev.a), ev.b, ev.c)
+		case evForward:
+			e.forwardAfterProcessing(int(ev.a), ev.b, ev.c)
+		case evTimer:
+			e.fireTimer(int(ev.a), int(ev.b))
+		case evFail:
+			e.applyFailure(int(ev.a))
+		case evDetect:
+			e.detect(int(ev.a), ev.b == 1, ev.c)
+		case evLSA:
+			if e.nodes[ev.a].up {
+				e.ls[ev.a].LinkChanged(int(ev.b), ev.c == 1)
+			}
+		case evSnapshot:
+			s := e.snaps[ev.b]
+			e.snaps[ev.b] = nil
+			e.central.Telemetry(s)
+		}
+	}
+	e.now = end
+}
+
+// ---- packets ----
+
+func (e *engine) alloc() int32 {
+	if n := len(e.free); n > 0 {
+		id := e.free[n-1]
+		e.free = e.free[:n-1]
+		return id
+	}
+	e.pkts = append(e.pkts, Packet{})
+	id := int32(len(e.pkts) - 1)
+	e.pkts[id].id = id
+	return id
+}
+
+func (e *engine) release(id int32) {
+	p := &e.pkts[id]
+	p.Route = nil
+	p.Msg.Vec = nil
+	e.free = append(e.free, id)
+}
+
+func (e *engine) drawSize(s *SizeDist, r *rand.Rand) int {
+	switch s.Kind {
+	case Fixed:
+		return s.Bytes
+	case Exponential:
+		return max(1, int(math.Ceil(r.ExpFloat64()*s.MeanBytes)))
+	default:
+		if r.Float64() < s.LargeFraction {
+			return s.LargeBytes
+		}
+		return s.SmallBytes
+	}
+}
+
+func (e *engine) generate(s int) {
+	src := &e.src[s]
+	// the Poisson process keeps ticking even while the node is down, so that
+	// a failure does not shift the random streams of later packets
+	e.schedule(e.now+Time(math.Ceil(src.rArr.ExpFloat64()/src.rate*1e9)), evGen, int32(s), 0, 0)
+	d := src.dst.draw(src.rDst)
+	size := e.drawSize(&e.cfg.Traffic.Size, src.rSize)
+	flow := uint32(src.rFlow.IntN(e.flows))
+	if !e.nodes[s].up {
+		return
+	}
+	id := e.alloc()
+	p := &e.pkts[id]
+	*p = Packet{id: id, Kind: Data, Src: s, Dst: int(d), Size: size, Born: e.now, Prev: -1,
+		Flow: uint32(Mix(uint64(s)<<32|uint64(d), uint64(flow))), Measured: e.now >= e.cfg.Warmup,
+		bin: e.binOf(e.now)}
+	b := &e.res.Series[p.bin]
+	b.Generated++
+	if p.Measured {
+		e.res.Generated++
+		e.live++
+	}
+	e.forward(s, id)
+}
+
+func (e *engine) binOf(t Time) int32 {
+	return int32(min(int(t/e.bin), e.nbins-1))
+}
+
+func (e *engine) route(node int, p *Packet) int {
+	if e.central != nil {
+		return e.central.Route(node, p)
+	}
+	return e.routers[node].Route(p)
+}
+
+func (e *engine) forward(node int, id int32) {
+	p := &e.pkts[id]
+	if p.Dst == node {
+		e.deliver(id)
+		return
+	}
+	if p.Hops >= e.hopLimit {
+		e.drop(id, HopLimit, -1)
+		return
+	}
+	c := e.route(node, p)
+	if c == NoRoute {
+		e.drop(id, NoRouteDrop, -1)
+		return
+	}
+	if c < 0 || c >= len(e.ch) || e.net.Channels[c].From != node {
+		panic(fmt.Sprintf("sim: agent %s at node %d chose channel %d, which does not leave it", e.cfg.Agent.Name(), node, c))
+	}
+	e.enqueue(c, id)
+}
+
+func (e *engine) enqueue(c int, id int32) {
+	ch := &e.ch[c]
+	p := &e.pkts[id]
+	if !ch.up {
+		e.drop(id, LinkDown, c)
+		return
+	}
+	if ch.redraw != nil && p.Kind == Data && p.Hops > 0 {
+		p.Size = e.drawSize(&e.cfg.Traffic.Size, ch.redraw)
+	}
+	p.queuedAt = e.now
+	if !ch.busy {
+		e.startTx(c, id)
+		return
+	}
+	if ch.q.len() >= e.net.Channels[c].Buffer {
+		e.drop(id, QueueFull, c)
+		return
+	}
+	ch.q.push(id)
+	ch.qBytes += p.Size
+}
+
+func (e *engine) startTx(c int, id int32) {
+	ch := &e.ch[c]
+	p := &e.pkts[id]
+	dur := Time(math.Round(float64(p.Size) * 8 / e.net.Channels[c].Bandwidth * 1e9))
+	p.LastWait = e.now - p.queuedAt
+	p.LastTx = dur
+	ch.busy = true
+	ch.txPkt = id
+	ch.txStart = e.now
+	ch.txEnd = e.now + dur
+	e.schedule(ch.txEnd, evTxDone, int32(c), 0, ch.epoch)
+}
+
+// addBusy accounts transmitting time [from, to) on channel c.
+func (e *engine) addBusy(c int, from, to Time) {
+	if to <= from {
+		return
+	}
+	ch := &e.ch[c]
+	ch.busyTotal += to - from
+	nch := len(e.ch)
+	for b := int(from / e.bin); b < e.nbins; b++ {
+		bs, be := Time(b)*e.bin, Time(b+1)*e.bin
+		if bs >= to {
+			break
+		}
+		e.binBusy[b*nch+c] += min(to, be) - max(from, bs)
+	}
+	if lo := max(from, e.cfg.Warmup); to > lo {
+		e.res.Channels[c].Util += float64(to - lo) // converted to a fraction in finish
+	}
+}
+
+func (e *engine) txDone(c int, epoch uint32) {
+	ch := &e.ch[c]
+	if epoch != ch.epoch || !ch.busy {
+		return // the transmission was cut by a failure
+	}
+	id := ch.txPkt
+	e.addBusy(c, ch.txStart, e.now)
+	ch.busy = false
+	ch.sent++
+	if e.now >= e.cfg.Warmup {
+		e.res.Channels[c].Packets++
+	}
+	p := &e.pkts[id]
+	p.Prev = e.net.Channels[c].From
+	e.schedule(e.now+e.net.Channels[c].Delay, evArrive, int32(c), id, ch.epoch)
+	if ch.q.len() > 0 {
+		next := ch.q.pop()
+		ch.qBytes -= e.pkts[next].Size
+		e.startTx(c, next)
+	}
+}
+
+func (e *engine) arrive(c int, id int32, epoch uint32) {
+	ch := &e.ch[c]
+	if epoch != ch.epoch {
+		e.drop(id, LinkDown, c)
+		return
+	}
+	to := e.net.Channels[c].To
+	p := &e.pkts[id]
+	if !e.nodes[to].up {
+		e.drop(id, NodeDown, -1)
+		return
+	}
+	p.Hops++
+	if p.Kind == Control {
+		if r := e.rcv; r != nil && r[to] != nil {
+			m := p.Msg
+			e.release(id)
+			r[to].Receive(&m, c)
+			return
+		}
+		e.release(id)
+		return
+	}
+	if e.arr != nil && e.arr[to] != nil {
+		e.arr[to].Arrived(p, c)
+	}
+	if proc := e.net.Graph.Nodes[to].Processing; proc > 0 && p.Dst != to {
+		e.schedule(e.now+proc, evForward, int32(to), id, 0)
+		return
+	}
+	e.forward(to, id)
+}
+
+func (e *engine) forwardAfterProcessing(node int, id int32, _ uint32) {
+	if !e.nodes[node].up {
+		e.drop(id, NodeDown, -1)
+		return
+	}
+	e.forward(node, id)
+}
+
+func (e *engine) deliver(id int32) {
+	p := &e.pkts[id]
+	delay := (e.now - p.Born).Seconds()
+	b := &e.res.Series[p.bin]
+	b.Delivered++
+	b.DelaySum += delay
+	if b.Delivery == nil {
+		b.Delivery = NewHistogram()
+	}
+	b.Delivery.Add(delay)
+	if e.pairDel != nil {
+		k := p.Src*len(e.nodes) + p.Dst
+		e.pairDel[k]++
+		e.pairDelay[k] += delay
+	}
+	if p.Measured {
+		r := e.res
+		r.Delivered++
+		e.live--
+		r.Delivery.Add(delay)
+		r.DeliverySum += delay
+		r.DeliveryMax = math.Max(r.DeliveryMax, delay)
+		r.HopsSum += int64(p.Hops)
+		if h := e.net.Hops[p.Src][p.Dst]; h > 0 {
+			r.StretchSum += float64(p.Hops) / float64(h)
+		}
+		r.DeliveredBits += float64(p.Size) * 8
+	}
+	e.release(id)
+}
+
+// drop discards packet id for reason; c is the channel involved, or -1.
+func (e *engine) drop(id int32, reason DropReason, c int) {
+	p := &e.pkts[id]
+	if p.Kind == Control {
+		if e.now >= e.cfg.Warmup {
+			e.res.ControlDropped++
+		}
+		e.release(id)
+		return
+	}
+	e.res.Series[p.bin].Dropped++
+	if e.pairDrop != nil {
+		e.pairDrop[p.Src*len(e.nodes)+p.Dst]++
+	}
+	if p.Measured {
+		e.res.Dropped[reason]++
+		e.live--
+		if c >= 0 {
+			switch reason {
+			case QueueFull:
+				e.res.Channels[c].DroppedQueueFull++
+			case LinkDown:
+				e.res.Channels[c].DroppedLinkDown++
+			}
+		}
+	}
+	e.release(id)
+}
+
+// ---- control traffic ----
+
+func (e *engine) sendControl(node, c int, m Message) bool {
+	if m.Bytes <= 0 {
+		panic("sim: in-band control message without a size")
+	}
+	measured := e.now >= e.cfg.Warmup
+	if measured {
+		e.res.ControlPackets++
+		e.res.ControlBytes += int64(m.Bytes)
+	}
+	if !e.nodes[node].up {
+		if measured {
+			e.res.ControlDropped++
+		}
+		return false
+	}
+	id := e.alloc()
+	p := &e.pkts[id]
+	m.From = node
+	*p = Packet{id: id, Kind: Control, Src: node, Dst: e.net.Channels[c].To, Size: m.Bytes, Born: e.now, Prev: -1, Msg: m, bin: e.binOf(e.now)}
+	ch := &e.ch[c]
+	if !ch.up || (ch.busy && ch.q.len() >= e.net.Channels[c].Buffer) {
+		e.drop(id, QueueFull, c)
+		return false
+	}
+	e.enqueue(c, id)
+	return true
+}
+
+func (e *engine) tell(node, c int, m *Message) {
+	to := e.net.Channels[c].To
+	if !e.nodes[to].up || e.rcv == nil || e.rcv[to] == nil {
+		return
+	}
+	m.From = node
+	e.rcv[to].Receive(m, c)
+}
+
+func (e *engine) schedTimer(d Time, node, tag int) {
+	if d < 0 {
+		d = 0
+	}
+	e.schedule(e.now+d, evTimer, int32(node), int32(tag), 0)
+}
+
+func (e *engine) fireTimer(node, tag int) {
+	if node < 0 {
+		if e.cTimed != nil {
+			e.cTimed.Timer(tag)
+		}
+		return
+	}
+	if e.timed[node] != nil {
+		e.timed[node].Timer(tag)
+	}
+}
+
+func (e *engine) requestSnapshot() {
+	N := len(e.nodes)
+	s := &Snapshot{
+		Taken:  e.now,
+		Busy:   make([]Time, len(e.ch)),
+		Sent:   make([]int64, len(e.ch)),
+		Queue:  make([]int, len(e.ch)),
+		Up:     make([]bool, len(e.ch)),
+		NodeUp: make([]bool, N),
+	}
+	for c := range e.ch {
+		ch := &e.ch[c]
+		s.Busy[c] = ch.busyTotal
+		if ch.busy {
+			s.Busy[c] += e.now - ch.txStart
+		}
+		s.Sent[c] = ch.sent
+		s.Queue[c] = ch.q.len()
+		s.Up[c] = ch.up
+	}
+	for v := range e.nodes {
+		s.NodeUp[v] = e.nodes[v].up
+	}
+	s.PairDelivered = append([]int64(nil), e.pairDel...)
+	s.PairDelay = append([]float64(nil), e.pairDelay...)
+	s.PairDropped = append([]int64(nil), e.pairDrop...)
+	idx := -1
+	for i, x := range e.snaps {
+		if x == nil {
+			idx = i
+			break
+		}
+	}
+	if idx < 0 {
+		e.snaps = append(e.snaps, nil)
+		idx = len(e.snaps) - 1
+	}
+	e.snaps[idx] = s
+	e.schedule(e.now+e.cfg.ControlDelay, evSnapshot, 0, int32(idx), 0)
+}
+
+// ---- failures ----
+
+func (e *engine) applyFailure(i int) {
+	f := &e.failures[i]
+	if f.Node >= 0 {
+		e.setNode(f.Node, f.Up)
+	}
+	for _, l := range f.Links {
+		e.setLink(l, f.Up)
+	}
+}
+
+func (e *engine) setNode(v int, up bool) {
+	n := &e.nodes[v]
+	if up == n.up {
+		return
+	}
+	if !up {
+		n.up = false
+		// what the node holds is lost with it
+		for _, c := range e.net.Out[v] {
+			e.flush(c, NodeDown)
+		}
+		for _, c := range e.net.Out[v] {
+			e.setLink(e.net.Channels[c].Link, false)
+		}
+		return
+	}
+	n.up = true
+	for _, c := range e.net.Out[v] {
+		e.setLink(e.net.Channels[c].Link, true)
+	}
+}
+
+// flush drops everything queued or transmitting on channel c.
+func (e *engine) flush(c int, reason DropReason) {
+	ch := &e.ch[c]
+	if ch.busy {
+		e.addBusy(c, ch.txStart, e.now)
+		ch.busy = false
+		ch.epoch++ // cancels the pending end of transmission
+		e.drop(ch.txPkt, reason, c)
+	}
+	for ch.q.len() > 0 {
+		id := ch.q.pop()
+		e.drop(id, reason, c)
+	}
+	ch.qBytes = 0
+}
+
+func (e *engine) setLink(l int, up bool) {
+	was := e.linkDown[l] == 0
+	if up {
+		if e.linkDown[l] > 0 {
+			e.linkDown[l]--
+		}
+	} else {
+		e.linkDown[l]++
+	}
+	is := e.linkDown[l] == 0
+	if was == is {
+		return
+	}
+	lk := e.net.Graph.Links[l]
+	for _, c := range []int{2 * l, 2*l + 1} {
+		ch := &e.ch[c]
+		ch.detGen++
+		if !is {
+			e.flush(c, LinkDown)
+			ch.epoch++
+			ch.up = false
+			ch.downAt = e.now
+		} else {
+			ch.up = true
+			e.addDown(c, ch.downAt, e.now)
+		}
+	}
+	det := e.cfg.Failures.Detection
+	var isUp int32
+	if is {
+		isUp = 1
+	}
+	e.schedule(e.now+det, evDetect, int32(2*l), isUp, e.ch[2*l].detGen)
+	e.schedule(e.now+det, evDetect, int32(2*l+1), isUp, e.ch[2*l+1].detGen)
+	if e.anyLS {
+		e.flood(l, lk.A, lk.B, is)
+	}
+}
+
+func (e *engine) addDown(c int, from, to Time) {
+	if lo := max(from, e.cfg.Warmup); to > lo {
+		e.res.Channels[c].Down += to - lo
+	}
+}
+
+func (e *engine) detect(c int, up bool, gen uint32) {
+	ch := &e.ch[c]
+	if gen != ch.detGen {
+		return // the link changed again before this was noticed
+	}
+	from := e.net.Channels[c].From
+	if !e.nodes[from].up {
+		return
+	}
+	ch.seenUp = up
+	if e.det != nil && e.det[from] != nil {
+		e.det[from].Detected(c, up)
+	}
+}
+
+// flood schedules link-state news of link l at every node: detection time
+// plus the propagation-delay distance from the nearer end node over links
+// up now.
+func (e *engine) flood(l, a, b int, up bool) {
+	N := len(e.nodes)
+	if !e.floodReady {
+		e.floodDist = make([]float64, N)
+		e.floodReady = true
+	}
+	dist := e.floodDist
+	for i := range dist {
+		dist[i] = math.Inf(1)
+	}
+	done := make([]bool, N)
+	if e.nodes[a].up {
+		dist[a] = 0
+	}
+	if e.nodes[b].up {
+		dist[b] = 0
+	}
+	// O(N^2) Dijkstra: failures are rare
+	for {
+		u, best := -1, math.Inf(1)
+		for v := 0; v < N; v++ {
+			if !done[v] && dist[v] < best {
+				u, best = v, dist[v]
+			}
+		}
+		if u < 0 {
+			break
+		}
+		done[u] = true
+		for _, c := range e.net.Out[u] {
+			if !e.ch[c].up {
+				continue
+			}
+			w := e.net.Channels[c].To
+			if nd := best + float64(e.net.Channels[c].Delay); nd < dist[w] {
+				dist[w] = nd
+			}
+		}
+	}
+	var u uint32
+	if up {
+		u = 1
+	}
+	for v := 0; v < N; v++ {
+		if math.IsInf(dist[v], 1) || e.ls[v] == nil {
+			continue
+		}
+		e.schedule(e.now+e.cfg.Failures.Detection+Time(dist[v]), evLSA, int32(v), int32(l), u)
+	}
+}
+
+// ---- end of run ----
+
+func (e *engine) finish() (*Result, error) {
+	r := e.res
+	end := e.cfg.Duration
+	window := float64(end - e.cfg.Warmup)
+	for c := range e.ch {
+		ch := &e.ch[c]
+		if ch.busy {
+			e.addBusy(c, ch.txStart, end)
+			ch.busy = false
+		}
+		if !ch.up {
+			e.addDown(c, ch.downAt, end)
+		}
+		r.Channels[c].Util /= window
+	}
+	nch := len(e.ch)
+	for b := range r.Series {
+		bin := &r.Series[b]
+		w := float64(bin.End - bin.Start)
+		for c := 0; c < nch; c++ {
+			if u := float64(e.binBusy[b*nch+c]) / w; u > bin.UtilMax {
+				bin.UtilMax = u
+			}
+		}
+	}
+	r.InFlight = e.live
+	if got := r.Generated - r.Delivered - r.DroppedTotal(); got != r.InFlight {
+		return nil, fmt.Errorf("sim: conservation violated: generated %d, delivered %d, dropped %d, in flight %d",
+			r.Generated, r.Delivered, r.DroppedTotal(), r.InFlight)
+	}
+	return r, nil
+}
