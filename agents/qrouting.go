@@ -1,0 +1,481 @@
+package agents
+
+import (
+	"fmt"
+	"math"
+
+	"hoplore/sim"
+)
+
+// Q-routing variants.
+const (
+	variantPlain = iota
+	variantPredictive
+	variantDual
+	variantConfidence
+)
+
+// Constants of the Q-routing variants.
+const (
+	// FeedbackBytes is the size on the wire of one in-band feedback message
+	// (feedback: in-band): a small control header carrying a destination
+	// and two values (common practice for a minimal control packet).
+	FeedbackBytes = 64
+	// predictiveBeta and predictiveGamma are the recovery-rate learning and
+	// decay factors of predictive Q-routing (Choi & Yeung 1996, β = 0.7,
+	// γ = 0.9).
+	predictiveBeta  = 0.7
+	predictiveGamma = 0.9
+	// confidenceDecay is the factor by which an estimate's confidence
+	// decays each time another estimate for the same destination at the
+	// same node is updated (Kumar & Miikkulainen 1998 decay non-updated
+	// confidences; the factor 0.95 is from memory).
+	confidenceDecay = 0.95
+)
+
+func init() { builders[QRoutingKind] = newQRouting }
+
+// QRouting is per-node tabular Q-routing (Boyan & Littman, "Packet routing in
+// dynamically changing networks: a reinforcement learning approach", NIPS 6,
+// 1994) with the variants predictive (Choi & Yeung, NIPS 8, 1996), dual
+// (Kumar & Miikkulainen 1997) and confidence (Kumar & Miikkulainen 1998),
+// and optional neighbour consensus.
+//
+// Node x keeps Q_x(d,y), its estimate in seconds of the delivery time of a
+// packet for d sent now into its channel towards neighbour y, including the
+// wait in that channel's queue. Tables are dense: one row per destination,
+// one column per outgoing channel in Net.Out order. They start at zero-load
+// times: the transmission time of an AssumedPacketBytes packet plus
+// propagation (plus processing) on the channel, plus the least such cost
+// from y to d over the static topology.
+//
+// Decision: argmin over channels the node believes up (NodeView.Up) of
+// Q_x(d,·), lowest Out index on ties; with probability Explore a uniformly
+// random usable channel instead.
+//
+// Update: when y receives the packet from x it returns
+// t = V_y(d) = min_z Q_y(d,z) over its usable channels, plus y's processing
+// delay (0 when y = d), and q+s, the packet's wait in x's queue and its
+// transmission time. x adds the channel's propagation delay δ and updates
+// Q_x(d,y) += η(q + s + δ + t − Q_x(d,y)). Feedback "instant" delivers this
+// out of band (NodeView.Tell); "in-band" sends it as a FeedbackBytes control
+// packet that queues with data and is lost on failed links.
+//
+// Deviations and choices, by variant:
+//   - predictive: tables B (best), R (recovery rate, ≤ 0) and U (last update
+//     time) as Choi & Yeung; after the update with ΔQ = target − Q_old:
+//     B = min(B,Q); if ΔQ < 0, R += β·ΔQ/(now − U); if ΔQ > 0, R = γ·R;
+//     U = now; decisions use Q' = max(Q + (now − U)·R, B). The queue term
+//     is the wait in x's own output queue, as Boyan & Littman, because here
+//     every channel has its own queue (Choi & Yeung's nodes have one queue
+//     each, so they use the queue at y). α is learning_rate.
+//   - dual: each hop x also writes V_x(src) into p.Aux[0]; the next node y
+//     updates its backward estimate Q_y(src,x) += η(V_x(src) + w + s' + δ −
+//     Q_y(src,x)), where w is y's own current backlog towards x divided by
+//     the bandwidth and s' the packet's transmission time on that channel.
+//   - confidence: each entry has a confidence C in [0,1] (1 for the channel
+//     to the destination itself, 0 elsewhere at start). y reports
+//     C_est, the confidence of its best entry (1 when y = d). x uses the
+//     rate η = max(C_est, 1 − C_old) in place of learning_rate, and sets
+//     C += η(C_est − C). Every other entry of the same destination row
+//     decays by confidenceDecay at each update of that row (lazily).
+//
+// On detecting a channel down the node stops using it at once (the decision
+// skips channels not Up). On detecting it up again, that column is reset to
+// its zero-load values (confidence 0), so the link is retried.
+type QRouting struct {
+	p      Params
+	shared *qrShared
+	nodes  []*qrNode // for tests and inspection only; nodes do not see this
+}
+
+// qrShared is the static, read-only knowledge every node starts with.
+type qrShared struct {
+	p        Params
+	variant  int
+	inBand   bool
+	n        int
+	zl       []float64   // zero-load cost per channel, seconds
+	dist     [][]float64 // zero-load least cost dist[u][d]
+	qCap     float64     // ceiling on estimates (unreachable)
+	consVals bool
+}
+
+var (
+	_ sim.PerNode  = (*QRouting)(nil)
+	_ sim.Router   = (*qrNode)(nil)
+	_ sim.Arrivals = (*qrNode)(nil)
+	_ sim.Receiver = (*qrNode)(nil)
+	_ sim.Detector = (*qrNode)(nil)
+	_ sim.Timed    = (*qrNode)(nil)
+)
+
+func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
+	s := &qrShared{p: p, n: net.NumNodes(), inBand: p.Feedback == "in-band"}
+	switch p.Variant {
+	case "plain":
+		s.variant = variantPlain
+	case "predictive":
+		s.variant = variantPredictive
+	case "dual":
+		s.variant = variantDual
+	case "confidence":
+		s.variant = variantConfidence
+	default:
+		return nil, fmt.Errorf("agents: q-routing: unknown variant %q", p.Variant)
+	}
+	s.zl = zeroLoadCosts(net, AssumedPacketBytes)
+	s.dist = allPairsDist(net, s.zl)
+	s.qCap = qCeiling(s.dist)
+	return &QRouting{p: p, shared: s}, nil
+}
+
+// qCeiling returns the value estimates are clamped to: far above any
+// plausible delivery time, so that an unreachable destination looks
+// hopeless without overflowing.
+func qCeiling(dist [][]float64) float64 {
+	m := 0.0
+	for _, row := range dist {
+		for _, v := range row {
+			if !math.IsInf(v, 1) && v > m {
+				m = v
+			}
+		}
+	}
+	return math.Max(1000*m, 1)
+}
+
+// Name returns the agent's label.
+func (a *QRouting) Name() string { return a.p.Canonical() }
+
+// Node builds the router of the node behind v.
+func (a *QRouting) Node(v *sim.NodeView) sim.Router {
+	r := newQRNode(a.shared, v)
+	a.nodes = append(a.nodes, r)
+	return r
+}
+
+// qrNode is one node's Q-routing state. It sees the network only through v.
+type qrNode struct {
+	s   *qrShared
+	v   *sim.NodeView
+	id  int
+	out []int
+	deg int
+	net *sim.Net
+
+	q []float64 // [d*deg+k] seconds
+	// predictive
+	b, r []float64
+	u    []sim.Time
+	// confidence
+	c     []float64
+	stamp []uint32 // row counter value at the entry's last update
+	rowN  []uint32 // updates per destination row
+
+	proc float64 // this node's processing delay, seconds
+	cons *consensusState
+}
+
+func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
+	out := v.Out()
+	r := &qrNode{s: s, v: v, id: v.ID(), out: out, deg: len(out), net: v.Net()}
+	r.proc = r.net.Graph.Nodes[r.id].Processing.Seconds()
+	r.q = make([]float64, s.n*r.deg)
+	switch s.variant {
+	case variantPredictive:
+		r.b = make([]float64, len(r.q))
+		r.r = make([]float64, len(r.q))
+		r.u = make([]sim.Time, len(r.q))
+	case variantConfidence:
+		r.c = make([]float64, len(r.q))
+		r.stamp = make([]uint32, len(r.q))
+		r.rowN = make([]uint32, s.n)
+	}
+	for k := range out {
+		r.resetColumn(k)
+	}
+	if s.p.Consensus != nil {
+		r.cons = newConsensusState(s.p.Consensus)
+		v.After(s.p.Consensus.Every, tagConsensus)
+	}
+	return r
+}
+
+// localIndex returns k with out[k] == c, or -1.
+func (r *qrNode) localIndex(c int) int {
+	for k, o := range r.out {
+		if o == c {
+			return k
+		}
+	}
+	return -1
+}
+
+// resetColumn sets every estimate via out[k] to its zero-load value.
+func (r *qrNode) resetColumn(k int) {
+	c := r.out[k]
+	y := r.net.Channels[c].To
+	for d := 0; d < r.s.n; d++ {
+		i := d*r.deg + k
+		v := r.s.zl[c] + r.s.dist[y][d]
+		if math.IsInf(v, 1) || v > r.s.qCap {
+			v = r.s.qCap
+		}
+		r.q[i] = v
+		switch r.s.variant {
+		case variantPredictive:
+			r.b[i], r.r[i], r.u[i] = v, 0, r.v.Now()
+		case variantConfidence:
+			r.c[i] = 0
+			if y == d {
+				r.c[i] = 1
+			}
+			r.stamp[i] = r.rowN[d]
+		}
+	}
+}
+
+// estimate returns the value the decision compares for entry i.
+func (r *qrNode) estimate(i int, now sim.Time) float64 {
+	if r.s.variant == variantPredictive {
+		return math.Max(r.q[i]+(now-r.u[i]).Seconds()*r.r[i], r.b[i])
+	}
+	return r.q[i]
+}
+
+// Route picks the outgoing channel for p. Cost: O(degree), no allocation.
+func (r *qrNode) Route(p *sim.Packet) int {
+	d := p.Dst
+	base := d * r.deg
+	best, bestV := -1, 0.0
+	now := r.v.Now()
+	if e := r.s.p.Explore; e > 0 && r.v.Rand().Float64() < e {
+		best = r.randomUp()
+	} else {
+		for k, c := range r.out {
+			if !r.v.Up(c) {
+				continue
+			}
+			val := r.estimate(base+k, now)
+			if best < 0 || val < bestV {
+				best, bestV = k, val
+			}
+		}
+	}
+	if best < 0 {
+		return sim.NoRoute
+	}
+	if r.s.variant == variantDual {
+		if p.Src == r.id {
+			p.Aux[0] = 0
+		} else {
+			v, _ := r.value(p.Src)
+			p.Aux[0] = v
+		}
+	}
+	return r.out[best]
+}
+
+// randomUp returns a uniformly chosen usable column, or -1.
+func (r *qrNode) randomUp() int {
+	n := 0
+	for _, c := range r.out {
+		if r.v.Up(c) {
+			n++
+		}
+	}
+	if n == 0 {
+		return -1
+	}
+	j := r.v.Rand().IntN(n)
+	for k, c := range r.out {
+		if r.v.Up(c) {
+			if j == 0 {
+				return k
+			}
+			j--
+		}
+	}
+	return -1
+}
+
+// value returns V_x(d) = processing + min over usable channels of Q_x(d,·)
+// (0 for d = x; qCap when no channel is usable) and the best column (-1 if
+// none).
+func (r *qrNode) value(d int) (float64, int) {
+	if d == r.id {
+		return 0, -1
+	}
+	base := d * r.deg
+	best, bestV := -1, r.s.qCap
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		if best < 0 || r.q[base+k] < bestV {
+			best, bestV = k, r.q[base+k]
+		}
+	}
+	if best < 0 {
+		return r.s.qCap, -1
+	}
+	return math.Min(r.proc+bestV, r.s.qCap), best
+}
+
+// confidenceOf returns entry i's confidence after lazy decay.
+func (r *qrNode) confidenceOf(d, i int) float64 {
+	age := r.rowN[d] - r.stamp[i]
+	if age == 0 {
+		return r.c[i]
+	}
+	return r.c[i] * math.Pow(confidenceDecay, float64(age))
+}
+
+// Message types of the per-node agents.
+const (
+	msgFeedback     uint8 = iota + 1 // Value = t, Aux = q+s
+	msgFeedbackConf                  // Value = q+s+t, Aux = confidence of t
+	msgValues                        // consensus: Vec = V_y(d) for all d
+	msgParams                        // consensus: Vec = network parameters
+	msgNetFeedback                   // q-network: Value = q+s+t, Aux = decision's queue feature
+)
+
+// Arrived runs at y when a data packet comes in from x: it returns the
+// feedback to x and, for dual, applies the backward update.
+func (r *qrNode) Arrived(p *sim.Packet, in int) {
+	back := in ^ 1 // this node → previous node
+	d := p.Dst
+	qs := (p.LastWait + p.LastTx).Seconds()
+	t, bk := r.value(d)
+	m := sim.Message{Type: msgFeedback, Dst: d, Value: t, Aux: qs}
+	if r.s.variant == variantConfidence {
+		conf := 1.0
+		if d != r.id {
+			conf = 0
+			if bk >= 0 {
+				conf = r.confidenceOf(d, d*r.deg+bk)
+			}
+		}
+		m = sim.Message{Type: msgFeedbackConf, Dst: d, Value: qs + t, Aux: conf}
+	}
+	if r.s.inBand {
+		m.Bytes = FeedbackBytes
+		r.v.Send(back, m)
+	} else {
+		r.v.Tell(back, m)
+	}
+	if r.s.variant == variantDual && p.Src != r.id {
+		k := r.localIndex(back)
+		if k >= 0 {
+			ch := &r.net.Channels[back]
+			target := p.Aux[0] + r.v.Backlog(back)/ch.Bandwidth + float64(p.Size)*8/ch.Bandwidth + ch.Delay.Seconds()
+			r.update(p.Src, k, target, 1)
+		}
+	}
+}
+
+// Receive handles feedback and consensus messages from a neighbour.
+func (r *qrNode) Receive(m *sim.Message, in int) {
+	k := r.localIndex(in ^ 1)
+	if k < 0 {
+		return
+	}
+	delay := r.net.Channels[r.out[k]].Delay.Seconds()
+	switch m.Type {
+	case msgFeedback:
+		r.update(m.Dst, k, m.Value+m.Aux+delay, 1)
+	case msgFeedbackConf:
+		r.update(m.Dst, k, m.Value+delay, m.Aux)
+	case msgValues:
+		r.blend(k, m.Vec)
+	}
+}
+
+// update moves Q_x(d, out[k]) towards target (seconds); conf is the
+// confidence of the target (confidence variant only).
+func (r *qrNode) update(d, k int, target, conf float64) {
+	if d == r.id || d < 0 || d >= r.s.n {
+		return
+	}
+	target = math.Min(target, r.s.qCap)
+	i := d*r.deg + k
+	old := r.q[i]
+	switch r.s.variant {
+	case variantPredictive:
+		now := r.v.Now()
+		dq := target - old
+		r.q[i] = old + r.s.p.LearningRate*dq
+		r.b[i] = math.Min(r.b[i], r.q[i])
+		if dq < 0 {
+			if dt := (now - r.u[i]).Seconds(); dt > 0 {
+				r.r[i] += predictiveBeta * dq / dt
+			}
+		} else if dq > 0 {
+			r.r[i] *= predictiveGamma
+		}
+		r.r[i] = math.Min(r.r[i], 0)
+		r.u[i] = now
+	case variantConfidence:
+		cOld := r.confidenceOf(d, i)
+		eta := math.Max(conf, 1-cOld)
+		r.q[i] = old + eta*(target-old)
+		r.rowN[d]++
+		r.c[i] = cOld + eta*(conf-cOld)
+		r.stamp[i] = r.rowN[d]
+	default:
+		r.q[i] = old + r.s.p.LearningRate*(target-old)
+	}
+}
+
+// Detected resets a channel's column when its link comes back; a channel
+// going down is skipped by decisions from now on (NodeView.Up).
+func (r *qrNode) Detected(out int, up bool) {
+	if !up {
+		return
+	}
+	if k := r.localIndex(out); k >= 0 {
+		r.resetColumn(k)
+	}
+}
+
+// Timer runs a consensus round.
+func (r *qrNode) Timer(tag int) {
+	if tag != tagConsensus || r.cons == nil {
+		return
+	}
+	vec := make([]float64, r.s.n) // shared by this round's messages; receivers only read it
+	for d := range vec {
+		vec[d], _ = r.value(d)
+	}
+	for _, c := range r.out {
+		if r.v.Up(c) {
+			r.v.Send(c, sim.Message{Type: msgValues, Vec: vec, Bytes: ValuesMessageBytes(r.s.n)})
+		}
+	}
+	r.v.After(r.cons.every, tagConsensus)
+}
+
+// blend moves Q_x(d, out[k]) towards x's own estimate of the hop to y plus
+// y's advertised V_y(d): Q ← (1−w)Q + w(h + V_y(d)). The hop estimate is the
+// channel's current backlog over its bandwidth plus the transmission time of
+// an AssumedPacketBytes packet plus propagation.
+func (r *qrNode) blend(k int, vals []float64) {
+	if len(vals) != r.s.n {
+		return
+	}
+	c := r.out[k]
+	ch := &r.net.Channels[c]
+	hop := (r.v.Backlog(c)+AssumedPacketBytes*8)/ch.Bandwidth + ch.Delay.Seconds()
+	w := r.cons.weight
+	for d, vd := range vals {
+		if d == r.id {
+			continue
+		}
+		i := d*r.deg + k
+		r.q[i] = math.Min((1-w)*r.q[i]+w*(hop+vd), r.s.qCap)
+		if r.s.variant == variantPredictive {
+			r.b[i] = math.Min(r.b[i], r.q[i])
+		}
+	}
+}
