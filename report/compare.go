@@ -1,0 +1,252 @@
+package report
+
+import (
+	"cmp"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/parquet-go/parquet-go"
+	"github.com/parquet-go/parquet-go/compress/zstd"
+)
+
+// CompareMetrics are the runs.parquet columns Compare tests, in order.
+var CompareMetrics = []string{"delivery_mean_s", "delivery_p95_s", "loss_rate"}
+
+// Comparison is one paired comparison of agents A and B in one panel
+// (topology, load, failure) on one metric. Differences are A − B over the
+// replicates both agents ran with the same replicate index (and so the same
+// seeds); replicates where either value is null are left out.
+type Comparison struct {
+	Experiment string  `parquet:"experiment,dict"`
+	Topology   string  `parquet:"topology,dict"`
+	Load       float64 `parquet:"load"`
+	Failure    string  `parquet:"failure,dict"`
+	AgentA     string  `parquet:"agent_a,dict"`
+	AgentB     string  `parquet:"agent_b,dict"`
+	Metric     string  `parquet:"metric,dict"`
+	N          int64   `parquet:"n"`
+	MeanA      float64 `parquet:"mean_a"`
+	MeanB      float64 `parquet:"mean_b"`
+	MeanDiff   float64 `parquet:"mean_diff"`
+	CI95       float64 `parquet:"ci95"`      // half-width, Student t
+	CI95Low    float64 `parquet:"ci95_low"`  // MeanDiff − CI95
+	CI95High   float64 `parquet:"ci95_high"` // MeanDiff + CI95
+	T          float64 `parquet:"t"`
+	DF         float64 `parquet:"df"`
+	PT         float64 `parquet:"p_t"`                  // paired t test, two-sided
+	WPlus      float64 `parquet:"w_plus"`               // Wilcoxon signed-rank statistic
+	NW         int64   `parquet:"n_wilcoxon"`           // non-zero differences
+	PW         float64 `parquet:"p_wilcoxon"`           // two-sided
+	WMethod    string  `parquet:"wilcoxon_method,dict"` // "exact", "normal" or "" (no non-zero difference)
+}
+
+// Compare pairs agents a and b across replicates in every panel where both
+// ran, and tests each metric in CompareMetrics. Rows come sorted by
+// topology, failure, load, metric order. It is an error if either label is
+// not an agent of the experiment, or if the two never ran in the same panel.
+func Compare(d *Data, a, b string) ([]Comparison, error) {
+	agents := d.Agents()
+	for _, l := range []string{a, b} {
+		if !slices.Contains(agents, l) {
+			return nil, fmt.Errorf("report: no agent %q in %s (agents: %s)", l, d.Dir, strings.Join(agents, ", "))
+		}
+	}
+	if a == b {
+		return nil, fmt.Errorf("report: --a and --b are both %q", a)
+	}
+	type key struct {
+		p   Panel
+		rep int
+	}
+	runsA, runsB := map[key]Run{}, map[key]Run{}
+	panels := map[Panel]bool{}
+	for _, r := range d.Runs {
+		k := key{Panel{r.Topology, r.Load, r.Failure}, r.Replicate}
+		switch r.Agent {
+		case a:
+			runsA[k] = r
+			panels[k.p] = true
+		case b:
+			runsB[k] = r
+		}
+	}
+	var ps []Panel
+	for p := range panels {
+		ps = append(ps, p)
+	}
+	slices.SortFunc(ps, comparePanel)
+	var out []Comparison
+	for _, p := range ps {
+		var reps []int
+		for k := range runsA {
+			if k.p == p {
+				if _, ok := runsB[k]; ok {
+					reps = append(reps, k.rep)
+				}
+			}
+		}
+		if len(reps) == 0 {
+			continue
+		}
+		slices.Sort(reps)
+		for _, m := range CompareMetrics {
+			var xa, xb, diff []float64
+			for _, rep := range reps {
+				va, vb := metric(runsA[key{p, rep}], m), metric(runsB[key{p, rep}], m)
+				if math.IsNaN(va) || math.IsNaN(vb) {
+					continue
+				}
+				xa, xb, diff = append(xa, va), append(xb, vb), append(diff, va-vb)
+			}
+			t := PairedTTest(diff)
+			w := WilcoxonSignedRank(diff)
+			c := Comparison{
+				Experiment: d.Experiment, Topology: p.Topology, Load: p.Load, Failure: p.Failure,
+				AgentA: a, AgentB: b, Metric: m, N: int64(len(diff)),
+				MeanA: MeanCI(xa).Mean, MeanB: MeanCI(xb).Mean,
+				MeanDiff: t.MeanDiff, CI95: t.CI95, CI95Low: t.MeanDiff - t.CI95, CI95High: t.MeanDiff + t.CI95,
+				T: t.T, DF: t.DF, PT: t.P, WPlus: w.WPlus, NW: int64(w.N), PW: w.P,
+			}
+			switch {
+			case w.N == 0:
+			case w.Exact:
+				c.WMethod = "exact"
+			default:
+				c.WMethod = "normal"
+			}
+			out = append(out, c)
+		}
+	}
+	if len(out) == 0 {
+		return nil, fmt.Errorf("report: agents %q and %q never ran the same replicate of the same cell", a, b)
+	}
+	return out, nil
+}
+
+func comparePanel(x, y Panel) int {
+	return cmp.Or(cmp.Compare(x.Topology, y.Topology), compareFailure(x.Failure, y.Failure), cmp.Compare(x.Load, y.Load))
+}
+
+func metric(r Run, name string) float64 {
+	switch name {
+	case "delivery_mean_s":
+		return r.DeliveryMean
+	case "delivery_p95_s":
+		return r.DeliveryP95
+	case "loss_rate":
+		return r.LossRate
+	}
+	panic("report: unknown metric " + name)
+}
+
+// WriteComparisons writes rows to path as Parquet, atomically: into a
+// temporary file in the same folder, renamed over path once complete.
+func WriteComparisons(path string, rows []Comparison) error {
+	return atomicWrite(path, func(w io.Writer) error {
+		pw := parquet.NewGenericWriter[Comparison](w, parquet.Compression(&zstd.Codec{Level: zstd.SpeedDefault}))
+		if _, err := pw.Write(rows); err != nil {
+			return err
+		}
+		return pw.Close()
+	})
+}
+
+// atomicWrite writes a file through fill into a temporary file beside path
+// and renames it into place; on any error nothing is left behind.
+func atomicWrite(path string, fill func(io.Writer) error) (err error) {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	if err = fill(f); err != nil {
+		return fmt.Errorf("report: %s: %w", path, err)
+	}
+	if err = f.Sync(); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	if err = f.Close(); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	if err = os.Chmod(f.Name(), 0o644); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	if err = os.Rename(f.Name(), path); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	return nil
+}
+
+// PrintComparisons writes rows as an aligned text table. Times are shown
+// in milliseconds, loss rates in percent.
+func PrintComparisons(w io.Writer, rows []Comparison) error {
+	if len(rows) == 0 {
+		return nil
+	}
+	fmt.Fprintf(w, "paired comparison, differences A − B over replicates (A = %s, B = %s)\n", rows[0].AgentA, rows[0].AgentB)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "topology\tfailure\tload\tmetric\tn\tmean A\tmean B\tA − B\t95% CI\tp (t)\tp (Wilcoxon)\t")
+	for _, r := range rows {
+		scale, unit := 1e3, "ms"
+		name := strings.TrimSuffix(r.Metric, "_s")
+		if r.Metric == "loss_rate" {
+			scale, unit = 100, "%"
+		}
+		name += " (" + unit + ")"
+		pw := fmtP(r.PW)
+		if r.WMethod == "normal" {
+			pw += "~"
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\t%s\t\n",
+			r.Topology, r.Failure, fmtNum(r.Load), name, r.N,
+			fmtNum(r.MeanA*scale), fmtNum(r.MeanB*scale), fmtSigned(r.MeanDiff*scale),
+			fmtInterval(r.CI95Low*scale, r.CI95High*scale), fmtP(r.PT), pw)
+	}
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	_, err := fmt.Fprintln(w, "p (Wilcoxon): exact signed-rank distribution; ~ marks the normal approximation")
+	return err
+}
+
+func fmtNum(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return fmt.Sprintf("%.4g", x)
+}
+
+func fmtSigned(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return fmt.Sprintf("%+.4g", x)
+}
+
+func fmtInterval(lo, hi float64) string {
+	if math.IsNaN(lo) || math.IsNaN(hi) {
+		return "–"
+	}
+	return fmt.Sprintf("[%.4g, %.4g]", lo, hi)
+}
+
+func fmtP(p float64) string {
+	switch {
+	case math.IsNaN(p):
+		return "–"
+	case p < 1e-4:
+		return "<0.0001"
+	}
+	return fmt.Sprintf("%.4f", p)
+}
