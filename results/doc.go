@@ -1,0 +1,29 @@
+// Package results turns simulation results into the Parquet tables of a
+// result folder and reads them back.
+//
+// A result folder holds:
+//
+//	experiment.json       marker: experiment name, hash, tool version (MarkDir, CheckDir)
+//	parts/<run_id>/       one finished run: runs, series, links and recoveries
+//	                      .parquet files (WritePart, ListParts, ReadPart)
+//	runs.parquet          one row per run                  (RunRow)
+//	series.parquet        one row per run and time bin     (SeriesRow)
+//	links.parquet         one row per run and channel      (LinkRow)
+//	recoveries.parquet    one row per run and failure event (RecoveryRow)
+//	summary.parquet       one row per cell                 (SummaryRow)
+//
+// A sweep converts each finished run with FromRun and stores it with
+// WritePart; a resumed sweep skips the runs ListParts reports; Finalize then
+// assembles the tables in the sweep's run order, and Merge combines folders
+// (shards, resumed pieces). Every file is written atomically (a temporary
+// file or folder whose name starts with a dot, synced, then renamed), so a
+// reader never sees half a file, and every table file carries the
+// experiment's name and hash and the tool version as key-value metadata
+// (Key*). Times are float64 seconds; statistics of nothing are null.
+//
+// Writing uses zstd compression for every column and dictionary encoding for
+// the low-cardinality labels. The tables are byte-identical whatever the
+// number of workers or the order parts were written in, except for the
+// wall_s column of runs.parquet, which holds each run's measured wall-clock
+// time.
+package results

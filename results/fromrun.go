@@ -1,0 +1,152 @@
+package results
+
+import (
+	"fmt"
+	"math"
+
+	"hoplore/sim"
+)
+
+// FromRun converts one run's Result into rows of every per-run table. d are
+// the run's dimensions, net and cfg what it ran on, wall its wall-clock time
+// in seconds, version the tool version. Means and rates of nothing (no
+// delivered or no generated packet) are null. FromRun panics if r does not
+// belong to net (a programming mistake). Cost: O(channels + bins + events·bins).
+func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64, version string) *RunTables {
+	if len(r.Channels) != len(net.Channels) {
+		panic(fmt.Sprintf("results: result has %d channels, net has %d", len(r.Channels), len(net.Channels)))
+	}
+	t := &RunTables{}
+	run := &t.Run
+	run.Dims = d
+	run.Nodes = net.NumNodes()
+	run.Links = len(net.Graph.Links)
+	run.DurationS = cfg.Duration.Seconds()
+	run.WarmupS = cfg.Warmup.Seconds()
+	run.BinS = cfg.Bin.Seconds()
+	run.Generated = r.Generated
+	run.Delivered = r.Delivered
+	run.Dropped = r.DroppedTotal()
+	run.InFlight = r.InFlight
+	run.DroppedQueueFull = r.Dropped[sim.QueueFull]
+	run.DroppedLinkDown = r.Dropped[sim.LinkDown]
+	run.DroppedNoRoute = r.Dropped[sim.NoRouteDrop]
+	run.DroppedHopLimit = r.Dropped[sim.HopLimit]
+	run.DroppedNodeDown = r.Dropped[sim.NodeDown]
+	run.LossRate = ratio(float64(run.Dropped), r.Generated)
+	run.DeliveryMeanS = ratio(r.DeliverySum, r.Delivered)
+	if r.Delivered > 0 {
+		run.DeliveryMaxS = f64(r.DeliveryMax)
+	}
+	run.DeliveryP50S = quantile(r.Delivery, 0.50)
+	run.DeliveryP95S = quantile(r.Delivery, 0.95)
+	run.DeliveryP99S = quantile(r.Delivery, 0.99)
+	run.HopsMean = ratio(float64(r.HopsSum), r.Delivered)
+	run.StretchMean = ratio(r.StretchSum, r.Delivered)
+	if w := (cfg.Duration - cfg.Warmup).Seconds(); w > 0 {
+		run.ThroughputBps = r.DeliveredBits / w
+	}
+	for i := range r.Channels {
+		u := r.Channels[i].Util
+		run.UtilMean += u
+		run.UtilMax = max(run.UtilMax, u)
+	}
+	if n := len(r.Channels); n > 0 {
+		run.UtilMean /= float64(n)
+	}
+	run.ControlPackets = r.ControlPackets
+	run.ControlBytes = r.ControlBytes
+	run.ControlDropped = r.ControlDropped
+	run.RouteChanges = r.RouteChanges
+	run.FailureEvents = len(r.Failures)
+	run.Events = r.Events
+	run.WallS = wall
+	run.Version = version
+
+	t.Series = make([]SeriesRow, len(r.Series))
+	for i := range r.Series {
+		b := &r.Series[i]
+		t.Series[i] = SeriesRow{
+			Dims:          d,
+			Bin:           i,
+			TStartS:       b.Start.Seconds(),
+			TEndS:         b.End.Seconds(),
+			Generated:     b.Generated,
+			Delivered:     b.Delivered,
+			Dropped:       b.Dropped,
+			LossRate:      ratio(float64(b.Dropped), b.Generated),
+			DeliveryMeanS: ratio(b.DelaySum, b.Delivered),
+			DeliveryP95S:  quantile(b.Delivery, 0.95),
+			UtilMax:       b.UtilMax,
+		}
+	}
+
+	t.Links = make([]LinkRow, len(net.Channels))
+	for i := range net.Channels {
+		c := &net.Channels[i]
+		cr := &r.Channels[i]
+		t.Links[i] = LinkRow{
+			Dims:             d,
+			Channel:          c.ID,
+			Link:             c.Link,
+			From:             net.Name(c.From),
+			To:               net.Name(c.To),
+			BandwidthBps:     c.Bandwidth,
+			DelayS:           c.Delay.Seconds(),
+			Util:             cr.Util,
+			Packets:          cr.Packets,
+			DroppedQueueFull: cr.DroppedQueueFull,
+			DroppedLinkDown:  cr.DroppedLinkDown,
+			DownS:            cr.Down.Seconds(),
+		}
+	}
+
+	t.Recoveries = make([]RecoveryRow, len(r.Failures))
+	for k := range r.Failures {
+		ev := &r.Failures[k]
+		rec := Recover(r.Series, r.Failures, k, cfg.Warmup)
+		row := RecoveryRow{
+			Dims:        d,
+			Event:       k,
+			AtS:         ev.At.Seconds(),
+			Element:     ev.Element,
+			Action:      "down",
+			LostPackets: rec.LostPackets,
+			WindowEndS:  rec.WindowEnd.Seconds(),
+		}
+		if ev.Up {
+			row.Action = "up"
+		}
+		if rec.Recovered {
+			row.RecoveryS = f64(rec.RecoveryS)
+		}
+		if rec.PreOK {
+			row.PreDeliveryMeanS = f64(rec.PreDeliveryMean)
+			row.PreLossRate = f64(rec.PreLossRate)
+		}
+		t.Recoveries[k] = row
+	}
+	return t
+}
+
+// ratio returns num/den, or nil when den is 0 or the ratio is not finite.
+func ratio(num float64, den int64) *float64 {
+	if den == 0 {
+		return nil
+	}
+	return finite(num / float64(den))
+}
+
+func quantile(h *sim.Histogram, p float64) *float64 {
+	if h == nil || h.Count() == 0 {
+		return nil
+	}
+	return finite(h.Quantile(p))
+}
+
+func finite(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}

@@ -1,0 +1,220 @@
+package results
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+
+	"github.com/parquet-go/parquet-go"
+	"github.com/parquet-go/parquet-go/compress/zstd"
+)
+
+// Meta describes the experiment a result folder belongs to. Every table file
+// carries it as Parquet key-value metadata under the Key* names.
+type Meta struct {
+	Version        string `json:"version"`         // tool version that wrote the files
+	Experiment     string `json:"experiment"`      // experiment name
+	ExperimentHash string `json:"experiment_hash"` // hash of the experiment's canonical form
+}
+
+// Parquet key-value metadata keys.
+const (
+	KeyVersion        = "hoplore.version"
+	KeyExperiment     = "hoplore.experiment"
+	KeyExperimentHash = "hoplore.experiment_hash"
+	KeyTable          = "hoplore.table" // runs, series, links, recoveries or summary
+)
+
+// Table names, as stored under KeyTable.
+const (
+	tableRuns       = "runs"
+	tableSeries     = "series"
+	tableLinks      = "links"
+	tableRecoveries = "recoveries"
+	tableSummary    = "summary"
+)
+
+// rowGroupRows bounds a row group so that a reader never needs a whole large
+// table in memory at once.
+const rowGroupRows = 1 << 16
+
+func (m Meta) kv(table string) [][2]string {
+	return [][2]string{
+		{KeyTable, table},
+		{KeyVersion, m.Version},
+		{KeyExperiment, m.Experiment},
+		{KeyExperimentHash, m.ExperimentHash},
+	}
+}
+
+// tableWriter writes rows of type T into one Parquet file.
+type tableWriter[T any] struct {
+	w *parquet.GenericWriter[T]
+}
+
+func newTableWriter[T any](w io.Writer, kv [][2]string) *tableWriter[T] {
+	opts := []parquet.WriterOption{
+		parquet.Compression(&zstd.Codec{Level: zstd.SpeedDefault}),
+		parquet.MaxRowsPerRowGroup(rowGroupRows),
+	}
+	for _, p := range kv {
+		opts = append(opts, parquet.KeyValueMetadata(p[0], p[1]))
+	}
+	return &tableWriter[T]{w: parquet.NewGenericWriter[T](w, opts...)}
+}
+
+func (t *tableWriter[T]) write(rows []T) error {
+	if len(rows) == 0 {
+		return nil
+	}
+	_, err := t.w.Write(rows)
+	return err
+}
+
+func (t *tableWriter[T]) close() error { return t.w.Close() }
+
+// writeTable writes rows to w as one Parquet file.
+func writeTable[T any](w io.Writer, rows []T, kv [][2]string) error {
+	tw := newTableWriter[T](w, kv)
+	if err := tw.write(rows); err != nil {
+		return err
+	}
+	return tw.close()
+}
+
+// readTable reads every row of the Parquet file at path, checking that it
+// holds the named table.
+func readTable[T any](path, table string) ([]T, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("results: %w", err)
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return nil, fmt.Errorf("results: %w", err)
+	}
+	pf, err := parquet.OpenFile(f, st.Size(), parquet.SkipPageIndex(true), parquet.SkipBloomFilters(true))
+	if err != nil {
+		return nil, fmt.Errorf("results: %s: %w", path, err)
+	}
+	if got, _ := pf.Lookup(KeyTable); got != table {
+		return nil, fmt.Errorf("results: %s: holds table %q, want %q", path, got, table)
+	}
+	n := pf.NumRows()
+	rows := make([]T, n)
+	if n == 0 {
+		return rows, nil
+	}
+	r := parquet.NewGenericReader[T](pf)
+	defer r.Close()
+	read := 0
+	for read < len(rows) {
+		k, err := r.Read(rows[read:])
+		read += k
+		if err != nil {
+			if errors.Is(err, io.EOF) && read == len(rows) {
+				break
+			}
+			if errors.Is(err, io.EOF) {
+				return nil, fmt.Errorf("results: %s: %d of %d rows: %w", path, read, n, io.ErrUnexpectedEOF)
+			}
+			return nil, fmt.Errorf("results: %s: %w", path, err)
+		}
+		if k == 0 {
+			return nil, fmt.Errorf("results: %s: reader made no progress", path)
+		}
+	}
+	return rows, nil
+}
+
+// ReadMeta returns the experiment metadata stored in a table file.
+func ReadMeta(path string) (Meta, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return Meta{}, fmt.Errorf("results: %w", err)
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return Meta{}, fmt.Errorf("results: %w", err)
+	}
+	pf, err := parquet.OpenFile(f, st.Size(), parquet.SkipPageIndex(true), parquet.SkipBloomFilters(true))
+	if err != nil {
+		return Meta{}, fmt.Errorf("results: %s: %w", path, err)
+	}
+	var m Meta
+	m.Version, _ = pf.Lookup(KeyVersion)
+	m.Experiment, _ = pf.Lookup(KeyExperiment)
+	m.ExperimentHash, _ = pf.Lookup(KeyExperimentHash)
+	return m, nil
+}
+
+// ReadRuns reads a runs.parquet file.
+func ReadRuns(path string) ([]RunRow, error) { return readTable[RunRow](path, tableRuns) }
+
+// ReadSeries reads a series.parquet file.
+func ReadSeries(path string) ([]SeriesRow, error) { return readTable[SeriesRow](path, tableSeries) }
+
+// ReadLinks reads a links.parquet file.
+func ReadLinks(path string) ([]LinkRow, error) { return readTable[LinkRow](path, tableLinks) }
+
+// ReadRecoveries reads a recoveries.parquet file.
+func ReadRecoveries(path string) ([]RecoveryRow, error) {
+	return readTable[RecoveryRow](path, tableRecoveries)
+}
+
+// ReadSummary reads a summary.parquet file.
+func ReadSummary(path string) ([]SummaryRow, error) {
+	return readTable[SummaryRow](path, tableSummary)
+}
+
+// writeFileAtomic writes path through a temporary file in the same folder
+// (named with a leading dot), synced and then renamed over path, so that
+// path is either absent, its old content or complete.
+func writeFileAtomic(path string, write func(io.Writer) error) (err error) {
+	dir := filepath.Dir(path)
+	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	bw := bufio.NewWriterSize(f, 1<<16)
+	if err := write(bw); err != nil {
+		return fmt.Errorf("results: writing %s: %w", path, err)
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
+	if err := f.Sync(); err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
+	if err := os.Rename(f.Name(), path); err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
+	return syncDir(dir)
+}
+
+// syncDir makes a rename in dir durable.
+func syncDir(dir string) error {
+	d, err := os.Open(dir)
+	if err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
+	defer d.Close()
+	if err := d.Sync(); err != nil && !errors.Is(err, os.ErrInvalid) {
+		return fmt.Errorf("results: sync %s: %w", dir, err)
+	}
+	return nil
+}

@@ -1,0 +1,174 @@
+package results
+
+// Dims are the dimension columns every table but summary repeats, so that a
+// notebook needs no joins. Seed is stored as an unsigned 64-bit integer
+// (Parquet INT64 with the logical type INTEGER(64, unsigned); arrow reads it
+// as uint64, DuckDB as UBIGINT), so every seed keeps its exact value.
+type Dims struct {
+	Experiment string  `parquet:"experiment,dict"`
+	Topology   string  `parquet:"topology,dict"`
+	Agent      string  `parquet:"agent,dict"`
+	Load       float64 `parquet:"load"`
+	Failure    string  `parquet:"failure,dict"`
+	Replicate  int     `parquet:"replicate"`
+	Seed       uint64  `parquet:"seed"`
+	// RunID names the run. It must be unique within an experiment; any
+	// string works (part folders escape it).
+	RunID string `parquet:"run_id,dict"`
+	// Index is the run's position in the experiment's full, unsharded grid
+	// order. Finalize without an explicit order and Merge sort runs by it
+	// (then by RunID), so merged shards come out in grid order.
+	Index int `parquet:"run_index"`
+}
+
+// Cell returns the dimensions that identify d's cell.
+func (d Dims) Cell() CellDims {
+	return CellDims{Experiment: d.Experiment, Topology: d.Topology, Agent: d.Agent, Load: d.Load, Failure: d.Failure}
+}
+
+// CellDims are the dimension columns of summary.parquet: those of Dims but
+// replicate, seed, run_id and run_index.
+type CellDims struct {
+	Experiment string  `parquet:"experiment,dict"`
+	Topology   string  `parquet:"topology,dict"`
+	Agent      string  `parquet:"agent,dict"`
+	Load       float64 `parquet:"load"`
+	Failure    string  `parquet:"failure,dict"`
+}
+
+// RunRow is one row of runs.parquet: one run. Times are float64 seconds.
+// Pointer fields are nullable: a statistic of no values (a mean delivery time
+// with no delivered packet, a loss rate with no generated packet) is null,
+// never NaN.
+type RunRow struct {
+	Dims
+	Nodes     int     `parquet:"nodes"`
+	Links     int     `parquet:"links"`
+	DurationS float64 `parquet:"duration_s"`
+	WarmupS   float64 `parquet:"warmup_s"`
+	BinS      float64 `parquet:"bin_s"`
+
+	Generated        int64 `parquet:"generated"`
+	Delivered        int64 `parquet:"delivered"`
+	Dropped          int64 `parquet:"dropped"`
+	InFlight         int64 `parquet:"in_flight"`
+	DroppedQueueFull int64 `parquet:"dropped_queue_full"`
+	DroppedLinkDown  int64 `parquet:"dropped_link_down"`
+	DroppedNoRoute   int64 `parquet:"dropped_no_route"`
+	DroppedHopLimit  int64 `parquet:"dropped_hop_limit"`
+	DroppedNodeDown  int64 `parquet:"dropped_node_down"`
+
+	LossRate      *float64 `parquet:"loss_rate,optional"`       // dropped / generated
+	DeliveryMeanS *float64 `parquet:"delivery_mean_s,optional"` // exact mean
+	DeliveryP50S  *float64 `parquet:"delivery_p50_s,optional"`  // histogram, relative error < 1%
+	DeliveryP95S  *float64 `parquet:"delivery_p95_s,optional"`
+	DeliveryP99S  *float64 `parquet:"delivery_p99_s,optional"`
+	DeliveryMaxS  *float64 `parquet:"delivery_max_s,optional"` // exact maximum
+	HopsMean      *float64 `parquet:"hops_mean,optional"`
+	StretchMean   *float64 `parquet:"stretch_mean,optional"` // hops taken / intact shortest hops
+	// ThroughputBps is the delivered measured bits over the measured window
+	// (duration − warmup), bit/s.
+	ThroughputBps float64 `parquet:"throughput_bps"`
+	UtilMean      float64 `parquet:"util_mean"` // mean over directed channels
+	UtilMax       float64 `parquet:"util_max"`  // busiest directed channel
+
+	ControlPackets int64 `parquet:"control_packets"`
+	ControlBytes   int64 `parquet:"control_bytes"`
+	ControlDropped int64 `parquet:"control_dropped"`
+	RouteChanges   int64 `parquet:"route_changes"` // next-hop changes pushed by a central agent; 0 for others
+	FailureEvents  int   `parquet:"failure_events"`
+	Events         int64 `parquet:"events"`
+	// WallS is the run's wall-clock time in seconds: the one column that
+	// differs between two executions of the same run. Compare tables with
+	// it masked.
+	WallS   float64 `parquet:"wall_s"`
+	Version string  `parquet:"version,dict"`
+}
+
+// SeriesRow is one row of series.parquet: one time bin of one run. Packets
+// are counted in the bin of their generation time, over the whole run
+// (warm-up included, so that the approach to steady state is visible).
+type SeriesRow struct {
+	Dims
+	Bin           int      `parquet:"bin"`
+	TStartS       float64  `parquet:"t_start_s"`
+	TEndS         float64  `parquet:"t_end_s"`
+	Generated     int64    `parquet:"generated"`
+	Delivered     int64    `parquet:"delivered"`
+	Dropped       int64    `parquet:"dropped"`
+	LossRate      *float64 `parquet:"loss_rate,optional"`
+	DeliveryMeanS *float64 `parquet:"delivery_mean_s,optional"`
+	DeliveryP95S  *float64 `parquet:"delivery_p95_s,optional"`
+	UtilMax       float64  `parquet:"util_max"`
+}
+
+// LinkRow is one row of links.parquet: one directed channel of one run, over
+// the measured window.
+type LinkRow struct {
+	Dims
+	Channel          int     `parquet:"channel"` // channel ID: link i has channels 2i (a→b) and 2i+1 (b→a)
+	Link             int     `parquet:"link"`    // index of the link in the topology
+	From             string  `parquet:"from,dict"`
+	To               string  `parquet:"to,dict"`
+	BandwidthBps     float64 `parquet:"bandwidth_bps"`
+	DelayS           float64 `parquet:"delay_s"`
+	Util             float64 `parquet:"util"`
+	Packets          int64   `parquet:"packets"`
+	DroppedQueueFull int64   `parquet:"dropped_queue_full"`
+	DroppedLinkDown  int64   `parquet:"dropped_link_down"`
+	DownS            float64 `parquet:"down_s"`
+}
+
+// RecoveryRow is one row of recoveries.parquet: one failure event of one run.
+// See Recover for the definitions of lost_packets and recovery_s.
+type RecoveryRow struct {
+	Dims
+	Event       int      `parquet:"event"` // index of the event in the run, by time
+	AtS         float64  `parquet:"at_s"`
+	Element     string   `parquet:"element,dict"`
+	Action      string   `parquet:"action,dict"` // "down" or "up"
+	LostPackets int64    `parquet:"lost_packets"`
+	RecoveryS   *float64 `parquet:"recovery_s,optional"` // null if never recovered
+	// PreDeliveryMeanS and PreLossRate are the pre-event level the band is
+	// drawn around; null when no bin qualified.
+	PreDeliveryMeanS *float64 `parquet:"pre_delivery_mean_s,optional"`
+	PreLossRate      *float64 `parquet:"pre_loss_rate,optional"`
+	// WindowEndS is where the search for recovery stopped: the next event's
+	// time or the end of the series.
+	WindowEndS float64 `parquet:"window_end_s"`
+}
+
+// SummaryRow is one row of summary.parquet: one cell, over its replicates.
+// Each <name>_mean is the mean of the runs' non-null values and <name>_ci95
+// the half-width of its 95% Student t confidence interval; see Summarize.
+type SummaryRow struct {
+	CellDims
+	Replicates        int      `parquet:"replicates"`
+	DeliveryMeanSMean *float64 `parquet:"delivery_mean_s_mean,optional"`
+	DeliveryMeanSCI95 *float64 `parquet:"delivery_mean_s_ci95,optional"`
+	DeliveryP95SMean  *float64 `parquet:"delivery_p95_s_mean,optional"`
+	DeliveryP95SCI95  *float64 `parquet:"delivery_p95_s_ci95,optional"`
+	LossRateMean      *float64 `parquet:"loss_rate_mean,optional"`
+	LossRateCI95      *float64 `parquet:"loss_rate_ci95,optional"`
+	ThroughputBpsMean *float64 `parquet:"throughput_bps_mean,optional"`
+	ThroughputBpsCI95 *float64 `parquet:"throughput_bps_ci95,optional"`
+}
+
+// RunTables are one run's rows of every per-run table.
+type RunTables struct {
+	Run        RunRow
+	Series     []SeriesRow
+	Links      []LinkRow
+	Recoveries []RecoveryRow
+}
+
+// Table file names in a result folder.
+const (
+	RunsFile       = "runs.parquet"
+	SeriesFile     = "series.parquet"
+	LinksFile      = "links.parquet"
+	RecoveriesFile = "recoveries.parquet"
+	SummaryFile    = "summary.parquet"
+)
+
+func f64(v float64) *float64 { return &v }
