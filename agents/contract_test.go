@@ -23,6 +23,10 @@ func contractParams() []agents.Params {
 	p.Explore = 0.05
 	p.Consensus = &agents.Consensus{Every: sim.Second, Weight: 0.5}
 	add(p)
+	ca := agents.Defaults(agents.CentralAdaptiveKind)
+	add(ca)
+	ca.HoldDown = 0
+	add(ca)
 	return ps
 }
 

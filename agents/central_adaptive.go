@@ -1,0 +1,193 @@
+package agents
+
+import (
+	"math"
+
+	"hoplore/sim"
+)
+
+func init() { builders[CentralAdaptiveKind] = newCentralAdaptive }
+
+// Timer tags of the central agents.
+const (
+	tagTick    = 1 // request a snapshot
+	tagInstall = 2 // a computed table takes effect
+)
+
+// maxModelUtil caps the utilisation fed to the M/M/1 delay estimate so that a
+// saturated channel gets a large but finite cost.
+const maxModelUtil = 0.99
+
+// CentralAdaptive is a controller that recomputes every route from measured
+// utilisation, in the manner of the ARPANET's delay-based SPF (McQuillan,
+// Richer & Rosen 1980) with smoothing and hold-down against the oscillation
+// Khanna & Zinky (SIGCOMM 1989) describe.
+//
+// Every Every it requests a telemetry snapshot. When the snapshot arrives
+// (ControlDelay old), it updates each channel's utilisation as an EWMA,
+// u ← (1−a)u + a·u_new with a = Smoothing, where u_new is the channel's
+// transmitting time between the last two snapshots over their interval. A
+// channel's cost is its M/M/1 sojourn estimate plus propagation (and the
+// sending node's processing):
+//
+//	cost = (L/C) / (1 − min(u, 0.99)) + delay
+//
+// (Kleinrock, Queueing Systems Vol. 1, 1975), where L is the mean packet size
+// measured from the snapshots (transmitting time × bandwidth / packets sent),
+// AssumedPacketBytes until traffic has been seen. Channels down in the
+// snapshot are excluded. It then computes next hops to every destination by
+// deterministic Dijkstra (lowest neighbour index among equal costs) and
+// installs them ControlDelay (its parameter) later.
+//
+// Hold-down: at install, the next hop of a (node, destination) pair changes
+// only if its last change is at least HoldDown old; otherwise the old next
+// hop stays, unless its channel is down in the snapshot, which always
+// forces the change. Each next-hop change installed is counted with
+// ControlView.CountRouteChanges. Before the first table computed from
+// telemetry, routes are zero-load shortest paths (u = 0).
+type CentralAdaptive struct {
+	p   Params
+	v   *sim.ControlView
+	net *sim.Net
+	n   int
+	pf  *pathFinder
+
+	util      []float64
+	prevBusy  []sim.Time
+	prevSent  []int64
+	prevTaken sim.Time
+	meanBytes float64
+
+	table      []int32 // installed next hops [u*n+d]
+	lastChange []sim.Time
+	pending    []caPending
+
+	// scratch
+	cost, dist []float64
+	usable     []bool
+	col        []int32
+}
+
+type caPending struct {
+	next []int32
+	up   []bool
+}
+
+var (
+	_ sim.Central = (*CentralAdaptive)(nil)
+	_ sim.Timed   = (*CentralAdaptive)(nil)
+)
+
+func newCentralAdaptive(p Params, net *sim.Net) (sim.Agent, error) {
+	n := net.NumNodes()
+	nc := len(net.Channels)
+	a := &CentralAdaptive{p: p, net: net, n: n, pf: newPathFinder(net),
+		util: make([]float64, nc), prevBusy: make([]sim.Time, nc), prevSent: make([]int64, nc),
+		meanBytes: AssumedPacketBytes,
+		table:     make([]int32, n*n), lastChange: make([]sim.Time, n*n),
+		cost: make([]float64, nc), dist: make([]float64, n), usable: make([]bool, nc), col: make([]int32, n)}
+	for i := range a.usable {
+		a.usable[i] = true
+	}
+	a.computeInto(a.table)
+	for i := range a.lastChange {
+		a.lastChange[i] = math.MinInt64 / 2
+	}
+	return a, nil
+}
+
+// Name returns the agent's label.
+func (a *CentralAdaptive) Name() string { return a.p.Canonical() }
+
+// Start arranges the first snapshot request.
+func (a *CentralAdaptive) Start(v *sim.ControlView) {
+	a.v = v
+	v.After(a.p.Every, tagTick)
+}
+
+// Route returns the installed next hop of node towards p.Dst. Cost: O(1).
+func (a *CentralAdaptive) Route(node int, p *sim.Packet) int {
+	return int(a.table[node*a.n+p.Dst])
+}
+
+// Timer requests snapshots and installs tables.
+func (a *CentralAdaptive) Timer(tag int) {
+	switch tag {
+	case tagTick:
+		a.v.Request()
+		a.v.After(a.p.Every, tagTick)
+	case tagInstall:
+		if len(a.pending) == 0 {
+			return
+		}
+		pd := a.pending[0]
+		a.pending = a.pending[1:]
+		a.install(pd)
+	}
+}
+
+// Telemetry turns a snapshot into a new table, to be installed ControlDelay
+// later.
+func (a *CentralAdaptive) Telemetry(s *sim.Snapshot) {
+	dt := float64(s.Taken - a.prevTaken)
+	var bits, pkts float64
+	for c := range a.util {
+		ch := &a.net.Channels[c]
+		db := s.Busy[c] - a.prevBusy[c]
+		if dt > 0 {
+			u := float64(db) / dt
+			a.util[c] = (1-a.p.Smoothing)*a.util[c] + a.p.Smoothing*u
+		}
+		bits += float64(db) * 1e-9 * ch.Bandwidth
+		pkts += float64(s.Sent[c] - a.prevSent[c])
+		a.prevBusy[c], a.prevSent[c] = s.Busy[c], s.Sent[c]
+		a.usable[c] = s.Up[c] && s.NodeUp[ch.From] && s.NodeUp[ch.To]
+	}
+	a.prevTaken = s.Taken
+	if pkts > 0 {
+		a.meanBytes = bits / 8 / pkts
+	}
+	next := make([]int32, a.n*a.n)
+	a.computeInto(next)
+	a.pending = append(a.pending, caPending{next: next, up: append([]bool(nil), a.usable...)})
+	a.v.After(a.p.ControlDelay, tagInstall)
+}
+
+// computeInto fills next with next hops for the current utilisation and
+// usable channels.
+func (a *CentralAdaptive) computeInto(next []int32) {
+	for c := range a.cost {
+		ch := &a.net.Channels[c]
+		tx := a.meanBytes * 8 / ch.Bandwidth
+		a.cost[c] = a.net.Graph.Nodes[ch.From].Processing.Seconds() + tx/(1-math.Min(a.util[c], maxModelUtil)) + ch.Delay.Seconds()
+	}
+	for d := 0; d < a.n; d++ {
+		a.pf.distTo(d, a.cost, a.usable, a.dist)
+		nextHopsTo(a.net, d, a.cost, a.usable, a.dist, a.col)
+		for u := 0; u < a.n; u++ {
+			next[u*a.n+d] = a.col[u]
+		}
+	}
+}
+
+// install applies a computed table under the hold-down rule.
+func (a *CentralAdaptive) install(pd caPending) {
+	now := a.v.Now()
+	changes := 0
+	for i, nw := range pd.next {
+		old := a.table[i]
+		if nw == old {
+			continue
+		}
+		forced := old == sim.NoRoute || !pd.up[old]
+		if !forced && now-a.lastChange[i] < a.p.HoldDown {
+			continue
+		}
+		a.table[i] = nw
+		a.lastChange[i] = now
+		changes++
+	}
+	if changes > 0 {
+		a.v.CountRouteChanges(changes)
+	}
+}
