@@ -1,0 +1,190 @@
+package experiments
+
+import (
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
+	"fmt"
+	"os"
+	"sync"
+
+	"hoplore/agents"
+	"hoplore/internal/yamlx"
+	"hoplore/sim"
+)
+
+// Defaults of an experiment file's optional fields.
+const (
+	DefaultReplicates = 1
+	DefaultSeed       = 1
+	// DefaultBins is the number of time-series bins when bin is not given:
+	// bin = duration / DefaultBins.
+	DefaultBins = 100
+	// DefaultDetection is a failure schedule's detection delay when not given.
+	DefaultDetection = 50 * sim.Millisecond
+	// DefaultPacketBytes is the fixed packet size when packet_size is not given.
+	DefaultPacketBytes = 1000
+	// DefaultHotspotFraction is the share of each source's packets addressed
+	// to the hot nodes when hotspot.fraction is not given.
+	DefaultHotspotFraction = 0.5
+)
+
+// Experiment is a parsed and checked experiment file.
+type Experiment struct {
+	Name        string
+	Description string
+	Path        string // the file as named to Parse
+	// Hash is the hex SHA-256 of the file's bytes followed by the bytes of
+	// every topology file it references, in order: two experiments with the
+	// same Hash describe the same runs.
+	Hash string
+
+	Duration, Warmup, Bin sim.Time
+	Replicates            int
+	Seed                  uint64
+	HopLimit              int
+
+	Topologies []*Topology
+	Traffic    Traffic
+	// Loads are the normalised loads of the grid; nil when the traffic gives
+	// absolute per-pair rates.
+	Loads    []float64
+	Agents   []agents.Params
+	Failures []*Failure
+
+	runsOnce sync.Once
+	runs     []*Run
+}
+
+// Topology is one topology of the grid, built and compiled once and shared
+// (read-only) by every run on it.
+type Topology struct {
+	Label string // the topology column's value
+	Graph *sim.Graph
+	Net   *sim.Net
+
+	// scheduled[f] is failure schedule f's events resolved on this topology
+	// (nil for random-only or none schedules).
+	scheduled [][]sim.FailureEvent
+	hot       []int // hotspot nodes
+	pairs     [][]float64
+
+	shape [][]float64 // traffic matrix before scaling
+	scale float64     // SaturationScale of shape
+}
+
+// Traffic is the experiment's traffic model.
+type Traffic struct {
+	Matrix string // uniform, gravity, hotspot or pairs
+	Pairs  []Pair
+	// Absolute is true when pairs give rates and there is no loads list: the
+	// rates are used as they are.
+	Absolute bool
+	Hotspot  Hotspot
+	Size     sim.SizeDist
+	Redraw   bool
+	Flows    int // flow labels per pair; 0 means sim.DefaultFlows
+}
+
+// Pair is one explicit source–destination flow.
+type Pair struct {
+	From, To string
+	Rate     float64 // packets per second; 0 when not given (shape weight 1)
+}
+
+// Hotspot configures the hotspot matrix.
+type Hotspot struct {
+	Nodes    []string // empty: the node with the most attached capacity
+	Fraction float64  // share of each source's packets addressed to the hot nodes
+}
+
+// Failure is one failure schedule.
+type Failure struct {
+	Name      string // "none" for the schedule without failures
+	Detection sim.Time
+	Events    []Event
+	Groups    []Group
+	Random    *Random
+}
+
+// Event is one scheduled failure event as written.
+type Event struct {
+	At    sim.Time
+	Link  [2]string // when a link changes
+	Node  string    // when a node changes
+	Group string    // when a shared-risk group changes
+	Up    bool
+}
+
+// Group is a shared-risk group: links that fail together.
+type Group struct {
+	Name  string
+	Links [][2]string
+}
+
+// Random describes random failures: every element of the scope alternates
+// between up times drawn from an exponential distribution with mean MTBF and
+// down times with mean MTTR, independently, for the whole run.
+type Random struct {
+	Scope      string // links or nodes
+	MTBF, MTTR sim.Time
+}
+
+// Load reads and parses the experiment file at path.
+func Load(path string) (*Experiment, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, &ReadError{Path: path, Err: err}
+	}
+	return Parse(path, data)
+}
+
+// Parse decodes and checks the experiment file data, named path in messages;
+// topology files are read relative to path's directory. Every problem is
+// returned as a *yamlx.Error naming FILE:LINE:COL.
+func Parse(path string, data []byte) (*Experiment, error) {
+	return parse(path, data, osFiles{})
+}
+
+func parse(path string, data []byte, files fileSource) (e *Experiment, err error) {
+	defer func() {
+		// The YAML library can panic on hostile input: that is bad input too.
+		if r := recover(); r != nil {
+			e, err = nil, yamlx.Errorf(path, yamlx.Pos{}, "experiments: cannot read YAML: %v", r)
+		}
+	}()
+	var raw fileYAML
+	if err := yamlx.Decode(path, data, &raw); err != nil {
+		return nil, err
+	}
+	c := &checker{file: path, files: files, raw: &raw}
+	e, err = c.experiment()
+	if err != nil {
+		return nil, yamlx.Convert(path, err)
+	}
+	h := sha256.New()
+	for _, b := range append([][]byte{data}, c.extra...) {
+		var n [8]byte
+		binary.BigEndian.PutUint64(n[:], uint64(len(b)))
+		h.Write(n[:])
+		h.Write(b)
+	}
+	e.Hash = hex.EncodeToString(h.Sum(nil))
+	e.Path = path
+	return e, nil
+}
+
+// ReadError is an experiment file that cannot be read.
+type ReadError struct {
+	Path string
+	Err  error
+}
+
+func (e *ReadError) Error() string {
+	return fmt.Sprintf("experiments: cannot read %s: %v", e.Path, unwrapPathErr(e.Err))
+}
+
+func (e *ReadError) Unwrap() error { return e.Err }
+
+// InputError marks the error as bad input for the command line.
+func (e *ReadError) InputError() bool { return true }

@@ -1,0 +1,337 @@
+package experiments
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"hash/fnv"
+	"math"
+	"slices"
+	"strconv"
+	"time"
+
+	"hoplore/agents"
+	"hoplore/results"
+	"hoplore/sim"
+)
+
+// Run is one run of the grid: a cell and a replicate.
+type Run struct {
+	// Index is the run's position in Experiment.Runs.
+	Index int
+	// Dims are the run's dimension columns. Dims.Load is the requested
+	// normalised load, or for absolute rates the normalised load they amount
+	// to on the run's topology.
+	Dims results.Dims
+	// AgentSeed seeds the agent's own randomness: a mix of Dims.Seed and the
+	// agent's label.
+	AgentSeed uint64
+
+	Exp      *Experiment
+	Topology *Topology
+	Agent    agents.Params
+	Failure  *Failure
+
+	load    float64 // requested normalised load; NaN for absolute rates
+	failure int     // index in Exp.Failures
+}
+
+// Cells returns the number of cells: topologies × loads × failure
+// schedules × agents.
+func (e *Experiment) Cells() int {
+	return len(e.Topologies) * e.numLoads() * len(e.Failures) * len(e.Agents)
+}
+
+func (e *Experiment) numLoads() int {
+	if e.Traffic.Absolute {
+		return 1
+	}
+	return len(e.Loads)
+}
+
+// Runs returns every run of the grid, Cells() × Replicates of them, in a
+// fixed order: by topology, then load, then failure schedule, then agent (in
+// the order the file lists them), then replicate. The result is computed once
+// and shared; callers must not modify it.
+func (e *Experiment) Runs() []*Run {
+	e.runsOnce.Do(func() {
+		loads := e.Loads
+		if e.Traffic.Absolute {
+			loads = []float64{math.NaN()}
+		}
+		for _, t := range e.Topologies {
+			for _, l := range loads {
+				dimLoad := l
+				if math.IsNaN(l) {
+					dimLoad = t.absoluteLoad()
+				}
+				for fi, f := range e.Failures {
+					cell := cellKey(t.Label, l, f.Name)
+					for _, a := range e.Agents {
+						label := a.Canonical()
+						for rep := 0; rep < e.Replicates; rep++ {
+							seed := RunSeed(e.Seed, cell, rep)
+							e.runs = append(e.runs, &Run{
+								Index: len(e.runs),
+								Dims: results.Dims{
+									Experiment: e.Name,
+									Topology:   t.Label,
+									Agent:      label,
+									Load:       dimLoad,
+									Failure:    f.Name,
+									Replicate:  rep,
+									Seed:       seed,
+									RunID:      RunID(e.Name, cell, label, rep),
+									Index:      len(e.runs),
+								},
+								AgentSeed: AgentSeed(seed, label),
+								Exp:       e,
+								Topology:  t,
+								Agent:     a,
+								Failure:   f,
+								load:      l,
+								failure:   fi,
+							})
+						}
+					}
+				}
+			}
+		}
+		ids := make(map[string]bool, len(e.runs))
+		for _, r := range e.runs {
+			if ids[r.Dims.RunID] {
+				panic(fmt.Sprintf("experiments: run id %s repeats", r.Dims.RunID))
+			}
+			ids[r.Dims.RunID] = true
+		}
+	})
+	return e.runs
+}
+
+// cellKey is the canonical identity of a cell without its agent.
+func cellKey(topology string, load float64, failure string) string {
+	return "topology=" + topology + "\x00load=" + fmtLoad(load) + "\x00failure=" + failure
+}
+
+func fnv64(s string) uint64 {
+	h := fnv.New64a()
+	h.Write([]byte(s))
+	return h.Sum64()
+}
+
+// RunSeed returns the seed of replicate rep of the cell whose key (without
+// the agent) is cell: sim.Mix of the experiment seed, the FNV-1a hash of the
+// key and the replicate. It depends on nothing else, so adding cells leaves
+// other runs' seeds unchanged.
+func RunSeed(expSeed uint64, cell string, rep int) uint64 {
+	return sim.Mix(sim.Mix(expSeed, fnv64(cell)), uint64(rep))
+}
+
+// AgentSeed returns the seed of an agent's own randomness in a run.
+func AgentSeed(runSeed uint64, agentLabel string) uint64 {
+	return sim.Mix(runSeed, fnv64("agent="+agentLabel))
+}
+
+// RunID returns a run's identifier: the first 12 hex digits of the SHA-256
+// of the experiment name, the cell key, the agent label and the replicate.
+func RunID(experiment, cell, agent string, rep int) string {
+	h := sha256.Sum256([]byte("experiment=" + experiment + "\x00" + cell + "\x00agent=" + agent + "\x00replicate=" + strconv.Itoa(rep)))
+	return hex.EncodeToString(h[:6])
+}
+
+// prepare computes t's traffic matrix shape and its saturation scale; Parse
+// calls it once per topology.
+func (t *Topology) prepare(e *Experiment) error {
+	n := t.Net
+	switch e.Traffic.Matrix {
+	case "uniform":
+		t.shape = sim.UniformMatrix(n)
+	case "gravity":
+		t.shape = sim.GravityMatrix(n)
+	case "hotspot":
+		m, err := sim.HotspotMatrix(n, t.hot, e.Traffic.Hotspot.Fraction)
+		if err != nil {
+			return err
+		}
+		t.shape = m
+	case "pairs":
+		t.shape = t.pairs
+	}
+	t.scale = sim.SaturationScale(n, t.shape, e.Traffic.Size.Mean())
+	if !(t.scale > 0) || math.IsInf(t.scale, 0) {
+		return fmt.Errorf("the traffic matrix offers no load")
+	}
+	return nil
+}
+
+// absoluteLoad returns the normalised load absolute rates amount to on t.
+func (t *Topology) absoluteLoad() float64 { return 1 / t.scale }
+
+// Rates returns the run's traffic matrix in packets per second.
+func (r *Run) Rates() [][]float64 {
+	t := r.Topology
+	f := 1.0
+	if !math.IsNaN(r.load) {
+		f = r.load * t.scale
+	}
+	out := make([][]float64, len(t.shape))
+	for s, row := range t.shape {
+		out[s] = make([]float64, len(row))
+		for d, v := range row {
+			out[s][d] = v * f
+		}
+	}
+	return out
+}
+
+// Config builds the engine configuration of the run. The topology's Net is
+// shared between runs (read-only); everything else is the run's own.
+func (r *Run) Config() (*sim.Config, error) {
+	e, t := r.Exp, r.Topology
+	agent, err := agents.New(r.Agent, t.Net)
+	if err != nil {
+		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
+	}
+	cfg := &sim.Config{
+		Net:      t.Net,
+		Duration: e.Duration,
+		Warmup:   e.Warmup,
+		Bin:      e.Bin,
+		HopLimit: e.HopLimit,
+		Traffic: sim.Traffic{
+			Rates:  r.Rates(),
+			Size:   e.Traffic.Size,
+			Redraw: e.Traffic.Redraw,
+			Flows:  e.Traffic.Flows,
+		},
+		Failures:  r.Failures(),
+		Agent:     agent,
+		Seed:      r.Dims.Seed,
+		AgentSeed: r.AgentSeed,
+	}
+	if isCentral(r.Agent.Kind) {
+		cfg.ControlDelay = r.Agent.ControlDelay
+	}
+	return cfg, nil
+}
+
+func isCentral(kind string) bool {
+	return kind == agents.CentralAdaptiveKind || kind == agents.CentralQKind
+}
+
+// Failures returns the run's failure schedule: the scheduled events resolved
+// on its topology followed by the random ones drawn from its seed.
+func (r *Run) Failures() sim.Failures {
+	f := r.Failure
+	out := sim.Failures{Detection: f.Detection}
+	if f.Name == "none" {
+		out.Detection = DefaultDetection
+		return out
+	}
+	for _, ev := range r.Topology.scheduled[r.failure] {
+		ev.Links = slices.Clone(ev.Links)
+		out.Events = append(out.Events, ev)
+	}
+	if f.Random != nil {
+		out.Events = append(out.Events, randomFailures(r.Topology.Graph, f.Random, r.Exp.Duration, r.Dims.Seed)...)
+	}
+	return out
+}
+
+// randomFailures draws random failures with sim.RandomFailures: every
+// element of the scope (links or nodes, in index order) alternates between
+// up times exponential with mean MTBF and down times exponential with mean
+// MTTR, each element from its own stream, so adding an element leaves the
+// others' draws unchanged. Events after duration are left out.
+func randomFailures(g *sim.Graph, rf *Random, duration sim.Time, seed uint64) []sim.FailureEvent {
+	n := len(g.Links)
+	if rf.Scope == "nodes" {
+		n = len(g.Nodes)
+	}
+	evs := sim.RandomFailures(seed, n, rf.MTBF, rf.MTTR, duration, func(i int, ev *sim.FailureEvent) {
+		if rf.Scope == "nodes" {
+			ev.Node = i
+			ev.Element = g.Nodes[i].Name
+			return
+		}
+		l := g.Links[i]
+		ev.Links = []int{i}
+		ev.Element = g.Nodes[l.A].Name + "-" + g.Nodes[l.B].Name
+	})
+	out := evs[:0]
+	for _, ev := range evs {
+		if ev.At < duration {
+			out = append(out, ev)
+		}
+	}
+	return out
+}
+
+// Execute builds the run's configuration, runs it and returns its result
+// tables, with the wall-clock time it took and version in them.
+func (r *Run) Execute(version string) (*results.RunTables, error) {
+	cfg, err := r.Config()
+	if err != nil {
+		return nil, err
+	}
+	start := time.Now()
+	res, err := sim.Run(cfg)
+	if err != nil {
+		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
+	}
+	wall := time.Since(start).Seconds()
+	return results.FromRun(r.Dims, cfg.Net, cfg, res, wall, version), nil
+}
+
+// Events per hop of a data packet (queue, transmission end, arrival) and per
+// generated packet (generation), for EstimateEvents.
+const (
+	eventsPerHop    = 3
+	eventsPerPacket = 1
+)
+
+// EstimateEvents returns a rough number of engine events the run will
+// process: generated packets × (1 + 3 × mean shortest-path hops), plus the
+// in-band control traffic of consensus or in-band feedback, plus the central
+// controller's rounds. Cost: O(N²).
+func (r *Run) EstimateEvents() float64 {
+	e, t := r.Exp, r.Topology
+	rates := r.Rates()
+	var total, hops float64
+	for s, row := range rates {
+		for d, v := range row {
+			total += v
+			hops += v * float64(t.Net.Hops[s][d])
+		}
+	}
+	meanHops := 0.0
+	if total > 0 {
+		meanHops = hops / total
+	}
+	dur := e.Duration.Seconds()
+	events := total * dur * (eventsPerPacket + eventsPerHop*meanHops)
+	channels := float64(len(t.Net.Channels))
+	p := r.Agent
+	if p.Consensus != nil && p.Consensus.Every > 0 {
+		events += dur / p.Consensus.Every.Seconds() * channels * eventsPerHop
+	}
+	if p.Feedback == "in-band" {
+		events += total * dur * meanHops * eventsPerHop
+	}
+	if isCentral(p.Kind) && p.Every > 0 {
+		events += dur / p.Every.Seconds() * (float64(t.Net.NumNodes()) + channels)
+	}
+	if f := r.Failure; f.Random != nil {
+		events += 2 * dur / (f.Random.MTBF + f.Random.MTTR).Seconds() * channels
+	}
+	return events
+}
+
+// EstimateEvents returns the sum of EstimateEvents over all runs.
+func (e *Experiment) EstimateEvents() float64 {
+	s := 0.0
+	for _, r := range e.Runs() {
+		s += r.EstimateEvents()
+	}
+	return s
+}

@@ -1,0 +1,478 @@
+package experiments
+
+import (
+	"strconv"
+	"strings"
+
+	"github.com/goccy/go-yaml/ast"
+
+	"hoplore/internal/yamlx"
+	"hoplore/topologies"
+)
+
+// This file holds the raw YAML shapes of an experiment file. Every value
+// remembers where it was written so that checks made after decoding can point
+// at it.
+
+// nodePos returns where n starts; for a block mapping, where its first key is
+// (the library positions a block mapping at its first colon).
+func nodePos(n ast.Node) yamlx.Pos {
+	switch m := n.(type) {
+	case *ast.MappingNode:
+		if m.IsFlowStyle {
+			return yamlx.PosOf(m)
+		}
+		if len(m.Values) > 0 {
+			return yamlx.PosOf(m.Values[0].Key)
+		}
+	case *ast.MappingValueNode:
+		return yamlx.PosOf(m.Key)
+	}
+	return yamlx.PosOf(n)
+}
+
+// mappingPairs returns the key–value pairs of a mapping node, and false when
+// n is not a mapping.
+func mappingPairs(n ast.Node) ([]*ast.MappingValueNode, bool) {
+	switch m := n.(type) {
+	case *ast.MappingNode:
+		return m.Values, true
+	case *ast.MappingValueNode:
+		return []*ast.MappingValueNode{m}, true
+	}
+	return nil, false
+}
+
+// keyName returns a mapping key as a plain string.
+func keyName(k ast.Node) string {
+	if t := k.GetToken(); t != nil {
+		return t.Value
+	}
+	return k.String()
+}
+
+// isScalar reports whether n is a plain value rather than a mapping or list.
+func isScalar(n ast.Node) bool {
+	switch n.Type() {
+	case ast.StringType, ast.IntegerType, ast.FloatType, ast.LiteralType, ast.BoolType:
+		return true
+	}
+	return false
+}
+
+// seq is a YAML list that remembers where it was written.
+type seq[T any] struct {
+	Items []T
+	Pos   yamlx.Pos
+	Set   bool
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (s *seq[T]) UnmarshalYAML(n ast.Node) error {
+	s.Pos, s.Set = nodePos(n), true
+	if n.Type() != ast.SequenceType {
+		return yamlx.At(s.Pos, "expected a list, got %s", strings.ToLower(n.Type().String()))
+	}
+	return yamlx.DecodeNode(n, &s.Items)
+}
+
+// uintYAML is a non-negative whole number (seeds).
+type uintYAML struct {
+	V   uint64
+	Pos yamlx.Pos
+	Set bool
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (u *uintYAML) UnmarshalYAML(n ast.Node) error {
+	u.Pos = yamlx.PosOf(n)
+	var s yamlx.String
+	if err := s.UnmarshalYAML(n); err != nil {
+		return err
+	}
+	v, err := strconv.ParseUint(s.S, 10, 64)
+	if err != nil {
+		return yamlx.At(u.Pos, "%q is not a non-negative whole number", s.S)
+	}
+	u.V, u.Set = v, true
+	return nil
+}
+
+// boolYAML is true or false.
+type boolYAML struct {
+	V   bool
+	Pos yamlx.Pos
+	Set bool
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (b *boolYAML) UnmarshalYAML(n ast.Node) error {
+	b.Pos = yamlx.PosOf(n)
+	var s yamlx.String
+	if n.Type() == ast.BoolType {
+		s.S = n.GetToken().Value
+	} else if err := s.UnmarshalYAML(n); err != nil {
+		return err
+	}
+	switch strings.ToLower(s.S) {
+	case "true", "yes", "on":
+		b.V = true
+	case "false", "no", "off":
+		b.V = false
+	default:
+		return yamlx.At(b.Pos, "%q is not true or false", s.S)
+	}
+	b.Set = true
+	return nil
+}
+
+// fileYAML is the whole experiment file.
+type fileYAML struct {
+	Name        yamlx.String     `yaml:"name"`
+	Description yamlx.String     `yaml:"description"`
+	Duration    yamlx.Duration   `yaml:"duration"`
+	Warmup      yamlx.Duration   `yaml:"warmup"`
+	Bin         yamlx.Duration   `yaml:"bin"`
+	Replicates  yamlx.Int        `yaml:"replicates"`
+	Seed        uintYAML         `yaml:"seed"`
+	HopLimit    yamlx.Int        `yaml:"hop_limit"`
+	Topologies  seq[topoYAML]    `yaml:"topologies"`
+	Traffic     trafficYAML      `yaml:"traffic"`
+	Agents      seq[agentYAML]   `yaml:"agents"`
+	Failures    seq[failureYAML] `yaml:"failures"`
+}
+
+// topoYAML is one entry of topologies: a bundled generator's name, a mapping
+// {name, params...}, {file: PATH} or {inline: topology file}.
+type topoYAML struct {
+	Pos     yamlx.Pos
+	Name    yamlx.String
+	Params  []paramYAML // generator parameters in file order
+	File    yamlx.String
+	Inline  *topologies.File
+	InlPos  yamlx.Pos
+	HasName bool
+}
+
+type paramYAML struct {
+	Name  string
+	Value yamlx.Float
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (t *topoYAML) UnmarshalYAML(n ast.Node) error {
+	t.Pos = nodePos(n)
+	if isScalar(n) {
+		t.HasName = true
+		return t.Name.UnmarshalYAML(n)
+	}
+	kv, ok := mappingPairs(n)
+	if !ok {
+		return yamlx.At(t.Pos, "a topology is a bundled name, {name: NAME, param: value...}, {file: PATH} or {inline: ...}")
+	}
+	var params []*ast.MappingValueNode
+	for _, p := range kv {
+		switch k := keyName(p.Key); k {
+		case "name":
+			t.HasName = true
+			if err := t.Name.UnmarshalYAML(p.Value); err != nil {
+				return err
+			}
+		case "file":
+			if err := t.File.UnmarshalYAML(p.Value); err != nil {
+				return err
+			}
+		case "inline":
+			t.InlPos = nodePos(p.Value)
+			t.Inline = new(topologies.File)
+			if err := yamlx.DecodeNode(p.Value, t.Inline); err != nil {
+				return err
+			}
+		default:
+			params = append(params, p)
+		}
+	}
+	kinds := 0
+	for _, b := range []bool{t.HasName, t.File.Set, t.Inline != nil} {
+		if b {
+			kinds++
+		}
+	}
+	if kinds != 1 {
+		return yamlx.At(t.Pos, "a topology entry needs exactly one of name, file or inline")
+	}
+	if len(params) > 0 && !t.HasName {
+		p := params[0]
+		return yamlx.At(yamlx.PosOf(p.Key), "unknown field %q (generator parameters go with name:)", keyName(p.Key))
+	}
+	for _, p := range params {
+		pv := paramYAML{Name: keyName(p.Key)}
+		if err := pv.Value.UnmarshalYAML(p.Value); err != nil {
+			return err
+		}
+		t.Params = append(t.Params, pv)
+	}
+	return nil
+}
+
+// trafficYAML is the traffic section.
+type trafficYAML struct {
+	Pos        yamlx.Pos        `yaml:"-"`
+	Set        bool             `yaml:"-"`
+	Matrix     yamlx.String     `yaml:"matrix"`
+	Pairs      seq[pairYAML]    `yaml:"pairs"`
+	Hotspot    hotspotYAML      `yaml:"hotspot"`
+	PacketSize sizeYAML         `yaml:"packet_size"`
+	Loads      seq[yamlx.Float] `yaml:"loads"`
+	Flows      yamlx.Int        `yaml:"flows"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (t *trafficYAML) UnmarshalYAML(n ast.Node) error {
+	type plain trafficYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*t = trafficYAML(p)
+	t.Pos, t.Set = nodePos(n), true
+	return nil
+}
+
+type pairYAML struct {
+	Pos  yamlx.Pos    `yaml:"-"`
+	From yamlx.String `yaml:"from"`
+	To   yamlx.String `yaml:"to"`
+	Rate yamlx.Rate   `yaml:"rate"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (q *pairYAML) UnmarshalYAML(n ast.Node) error {
+	type plain pairYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*q = pairYAML(p)
+	q.Pos = nodePos(n)
+	return nil
+}
+
+type hotspotYAML struct {
+	Pos      yamlx.Pos         `yaml:"-"`
+	Set      bool              `yaml:"-"`
+	Nodes    seq[yamlx.String] `yaml:"nodes"`
+	Fraction yamlx.Float       `yaml:"fraction"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (h *hotspotYAML) UnmarshalYAML(n ast.Node) error {
+	type plain hotspotYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*h = hotspotYAML(p)
+	h.Pos, h.Set = nodePos(n), true
+	return nil
+}
+
+type sizeYAML struct {
+	Pos           yamlx.Pos    `yaml:"-"`
+	Set           bool         `yaml:"-"`
+	Dist          yamlx.String `yaml:"dist"`
+	Bytes         yamlx.Int    `yaml:"bytes"`
+	MeanBytes     yamlx.Float  `yaml:"mean_bytes"`
+	SmallBytes    yamlx.Int    `yaml:"small_bytes"`
+	LargeBytes    yamlx.Int    `yaml:"large_bytes"`
+	LargeFraction yamlx.Float  `yaml:"large_fraction"`
+	Redraw        yamlx.String `yaml:"redraw"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (s *sizeYAML) UnmarshalYAML(n ast.Node) error {
+	type plain sizeYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*s = sizeYAML(p)
+	s.Pos, s.Set = nodePos(n), true
+	return nil
+}
+
+// agentYAML is one entry of agents: a kind's name or a mapping with kind,
+// label and the kind's fields.
+type agentYAML struct {
+	Pos yamlx.Pos `yaml:"-"`
+	agentFields
+}
+
+// agentFields is the union of every kind's fields; which may be set depends
+// on the kind (agents.Fields).
+type agentFields struct {
+	Kind  yamlx.String `yaml:"kind"`
+	Label yamlx.String `yaml:"label"`
+
+	Metric   yamlx.String   `yaml:"metric"`
+	ECMP     boolYAML       `yaml:"ecmp"`
+	SPFDelay yamlx.Duration `yaml:"spf_delay"`
+
+	Variant      yamlx.String   `yaml:"variant"`
+	Feedback     yamlx.String   `yaml:"feedback"`
+	LearningRate yamlx.Float    `yaml:"learning_rate"`
+	Explore      yamlx.Float    `yaml:"explore"`
+	Consensus    consensusYAML  `yaml:"consensus"`
+	Hidden       seq[yamlx.Int] `yaml:"hidden"`
+	Replay       yamlx.Int      `yaml:"replay"`
+	TargetSync   yamlx.Int      `yaml:"target_sync"`
+
+	Every        yamlx.Duration `yaml:"every"`
+	ControlDelay yamlx.Duration `yaml:"control_delay"`
+	HoldDown     yamlx.Duration `yaml:"hold_down"`
+	Smoothing    yamlx.Float    `yaml:"smoothing"`
+	K            yamlx.Int      `yaml:"k"`
+	Discount     yamlx.Float    `yaml:"discount"`
+	DropPenalty  yamlx.Duration `yaml:"drop_penalty"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (a *agentYAML) UnmarshalYAML(n ast.Node) error {
+	a.Pos = nodePos(n)
+	if isScalar(n) {
+		return a.Kind.UnmarshalYAML(n)
+	}
+	if _, ok := mappingPairs(n); !ok {
+		return yamlx.At(a.Pos, "an agent is a kind's name or a mapping {kind: KIND, ...}")
+	}
+	return yamlx.DecodeNode(n, &a.agentFields)
+}
+
+type consensusYAML struct {
+	Pos    yamlx.Pos      `yaml:"-"`
+	Set    bool           `yaml:"-"`
+	Every  yamlx.Duration `yaml:"every"`
+	Weight yamlx.Float    `yaml:"weight"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (c *consensusYAML) UnmarshalYAML(n ast.Node) error {
+	type plain consensusYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*c = consensusYAML(p)
+	c.Pos, c.Set = nodePos(n), true
+	return nil
+}
+
+// failureYAML is one failure schedule: `none` or a mapping.
+type failureYAML struct {
+	Pos       yamlx.Pos      `yaml:"-"`
+	None      bool           `yaml:"-"`
+	Name      yamlx.String   `yaml:"name"`
+	Detection yamlx.Duration `yaml:"detection"`
+	Events    seq[eventYAML] `yaml:"events"`
+	Groups    groupsYAML     `yaml:"groups"`
+	Random    randomYAML     `yaml:"random"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (f *failureYAML) UnmarshalYAML(n ast.Node) error {
+	pos := nodePos(n)
+	if isScalar(n) {
+		var s yamlx.String
+		if err := s.UnmarshalYAML(n); err != nil {
+			return err
+		}
+		if s.S != "none" {
+			return yamlx.At(pos, "a failure schedule is `none` or a mapping {name: NAME, events: [...]}, got %q", s.S)
+		}
+		*f = failureYAML{Pos: pos, None: true}
+		f.Name = s
+		return nil
+	}
+	type plain failureYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*f = failureYAML(p)
+	f.Pos = pos
+	return nil
+}
+
+type eventYAML struct {
+	Pos    yamlx.Pos         `yaml:"-"`
+	At     yamlx.Duration    `yaml:"at"`
+	Link   seq[yamlx.String] `yaml:"link"`
+	Node   yamlx.String      `yaml:"node"`
+	Group  yamlx.String      `yaml:"group"`
+	Action yamlx.String      `yaml:"action"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (e *eventYAML) UnmarshalYAML(n ast.Node) error {
+	type plain eventYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*e = eventYAML(p)
+	e.Pos = nodePos(n)
+	return nil
+}
+
+// groupsYAML is a mapping from a shared-risk group's name to its links, in
+// file order.
+type groupsYAML struct {
+	Pos    yamlx.Pos
+	Set    bool
+	Groups []groupYAML
+}
+
+type groupYAML struct {
+	Name  string
+	Pos   yamlx.Pos
+	Links []seq[yamlx.String]
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (g *groupsYAML) UnmarshalYAML(n ast.Node) error {
+	g.Pos, g.Set = nodePos(n), true
+	kv, ok := mappingPairs(n)
+	if !ok {
+		return yamlx.At(g.Pos, "groups is a mapping NAME: [[a, b], [c, d], ...]")
+	}
+	for _, p := range kv {
+		gr := groupYAML{Name: keyName(p.Key), Pos: yamlx.PosOf(p.Key)}
+		var links seq[seq[yamlx.String]]
+		if err := links.UnmarshalYAML(p.Value); err != nil {
+			return err
+		}
+		gr.Links = links.Items
+		g.Groups = append(g.Groups, gr)
+	}
+	return nil
+}
+
+type randomYAML struct {
+	Pos   yamlx.Pos      `yaml:"-"`
+	Set   bool           `yaml:"-"`
+	Scope yamlx.String   `yaml:"scope"`
+	MTBF  yamlx.Duration `yaml:"mtbf"`
+	MTTR  yamlx.Duration `yaml:"mttr"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (r *randomYAML) UnmarshalYAML(n ast.Node) error {
+	type plain randomYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*r = randomYAML(p)
+	r.Pos, r.Set = nodePos(n), true
+	return nil
+}
