@@ -32,6 +32,9 @@ type Traffic struct {
 	// Redraw draws a fresh size at every hop (Kleinrock's independence
 	// assumption) instead of keeping it.
 	Redraw bool
+	// Periodic replaces Poisson emission by packets exactly 1/rate apart
+	// (first at 1/rate), for hand-checkable schedules.
+	Periodic bool
 	// Flows is the number of flow labels per source–destination pair that
 	// ECMP hashing can spread; 0 means DefaultFlows.
 	Flows int

@@ -170,7 +170,7 @@ func newEngine(cfg *Config) (*engine, error) {
 			src.rDst = Stream(cfg.Seed, StreamDestinations, uint64(s))
 			src.rSize = Stream(cfg.Seed, StreamSizes, uint64(s))
 			src.rFlow = Stream(cfg.Seed, StreamFlows, uint64(s))
-			e.schedule(Time(math.Ceil(src.rArr.ExpFloat64()/rate*1e9)), evGen, int32(s), 0, 0)
+			e.schedule(e.interarrival(src), evGen, int32(s), 0, 0)
 		}
 	}
 	// failures, applied in (time, position) order
@@ -337,11 +337,18 @@ func (e *engine) drawSize(s *SizeDist, r *rand.Rand) int {
 	}
 }
 
+func (e *engine) interarrival(src *source) Time {
+	if e.cfg.Traffic.Periodic {
+		return Time(math.Round(1e9 / src.rate))
+	}
+	return Time(math.Ceil(src.rArr.ExpFloat64() / src.rate * 1e9))
+}
+
 func (e *engine) generate(s int) {
 	src := &e.src[s]
 	// the Poisson process keeps ticking even while the node is down, so that
 	// a failure does not shift the random streams of later packets
-	e.schedule(e.now+Time(math.Ceil(src.rArr.ExpFloat64()/src.rate*1e9)), evGen, int32(s), 0, 0)
+	e.schedule(e.now+e.interarrival(src), evGen, int32(s), 0, 0)
 	d := src.dst.draw(src.rDst)
 	size := e.drawSize(&e.cfg.Traffic.Size, src.rSize)
 	flow := uint32(src.rFlow.IntN(e.flows))

@@ -243,7 +243,7 @@ func TestTandemNoSecondWait(t *testing.T) {
 // waitProbe is a per-node shortest path on a line that records the queueing
 // wait of each hop from the arrival hook.
 type waitProbe struct {
-	net                                  *sim.Net
+	net                                 *sim.Net
 	atSecond, secondWaited, firstWaited int
 }
 
@@ -298,7 +298,7 @@ func TestJacksonTandem(t *testing.T) {
 func TestZeroLoadDeliveryExact(t *testing.T) {
 	g := &sim.Graph{Name: "coords", Nodes: []sim.Node{
 		{Name: "a", Coord: sim.Plane, X: 0, Y: 0},
-		{Name: "b", Coord: sim.Plane, X: 300, Y: 400}, // 500 km from a: 2.5 ms
+		{Name: "b", Coord: sim.Plane, X: 300, Y: 400},  // 500 km from a: 2.5 ms
 		{Name: "c", Coord: sim.Plane, X: 300, Y: 1400}, // 1000 km from b: 5 ms
 	}}
 	dab, _ := sim.PropagationDelay(g.Nodes[0], g.Nodes[1])
