@@ -27,6 +27,7 @@ func contractParams() []agents.Params {
 	add(ca)
 	ca.HoldDown = 0
 	add(ca)
+	add(agents.Defaults(agents.CentralQKind))
 	return ps
 }
 

@@ -1,0 +1,329 @@
+package agents
+
+import (
+	"math"
+
+	"hoplore/sim"
+)
+
+func init() { builders[CentralQKind] = newCentralQ }
+
+// Utilisation bucket edges of central-q's state; a candidate with a channel
+// down gets the extra bucket cqBuckets. Chosen so that the buckets separate
+// idle, loaded, nearly saturated and saturated paths (common practice for a
+// coarse load level).
+var cqEdges = [...]float64{0.5, 0.8, 0.95}
+
+const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, and down
+
+// CentralQ is one centralised tabular Q-learner that chooses, for every
+// source–destination pair with traffic, one of the pair's K shortest loopless
+// paths (Yen 1971, on zero-load channel times; ties ordered by node
+// sequence) and installs it as a source route.
+//
+// Every Every it requests a snapshot. When it arrives (ControlDelay old) the
+// controller measures each channel's utilisation over the interval since the
+// previous snapshot. For each pair:
+//
+//   - state: the tuple of the K candidates' bottleneck utilisations (largest
+//     over the path's channels), each bucketed at 0.5, 0.8 and 0.95, with a
+//     fifth bucket for a candidate with a channel down;
+//   - reward of the last interval: r = −(mean delivery time in seconds +
+//     DropPenalty × drop fraction), from the pair's delivered, delay-sum and
+//     dropped counters (differences between snapshots); pairs with no
+//     packets in the interval are not updated;
+//   - update: Q(s,a) += learning_rate·(r + discount·max_a' Q(s',a') − Q(s,a))
+//     for the previous state and action (Watkins 1989), the max over
+//     candidates that are up;
+//   - choice: ε-greedy (Explore) among candidates that are up, ties to the
+//     shorter candidate.
+//
+// Q rows are created when a state is first seen, at −(zero-load path
+// time)/(1 − discount), so the shortest candidate is preferred until
+// measurements say otherwise. Choices take effect ControlDelay (its
+// parameter) later: a packet is given its pair's path at its source
+// (p.Route, shared and never modified) and follows it; where the path's next
+// channel is down in the installed snapshot, and for pairs without a choice
+// yet, it falls back to zero-load shortest paths over the channels up in the
+// installed snapshot. Each pair whose chosen path changes counts one route
+// change (the next hop changes at the source).
+type CentralQ struct {
+	p   Params
+	v   *sim.ControlView
+	net *sim.Net
+	n   int
+	k   int
+	pf  *pathFinder
+	zl  []float64
+
+	util      []float64
+	prevBusy  []sim.Time
+	prevTaken sim.Time
+
+	pairs []*cqPair // [s*n+d], nil until the pair has traffic
+
+	// installed
+	choice []int8  // [s*n+d] candidate index, -1 = shortest-path fallback
+	up     []bool  // per channel, from the installed snapshot
+	spNext []int32 // fallback next hops [u*n+d]
+
+	pending []cqPending
+
+	// scratch
+	usable []bool
+	dist   []float64
+	col    []int32
+}
+
+type cqPair struct {
+	cands   []path
+	states  map[uint64]int32 // state key -> row
+	q       []float64        // rows × len(cands)
+	row     int32            // last state's row, -1 before the first decision
+	action  int8
+	del     int64
+	delay   float64
+	dropped int64
+}
+
+type cqPending struct {
+	choice []int8
+	up     []bool
+	spNext []int32
+}
+
+var (
+	_ sim.Central = (*CentralQ)(nil)
+	_ sim.Timed   = (*CentralQ)(nil)
+)
+
+func newCentralQ(p Params, net *sim.Net) (sim.Agent, error) {
+	n := net.NumNodes()
+	nc := len(net.Channels)
+	a := &CentralQ{p: p, net: net, n: n, k: p.K, pf: newPathFinder(net), zl: zeroLoadCosts(net, AssumedPacketBytes),
+		util: make([]float64, nc), prevBusy: make([]sim.Time, nc),
+		pairs: make([]*cqPair, n*n), choice: make([]int8, n*n), up: make([]bool, nc),
+		usable: make([]bool, nc), dist: make([]float64, n), col: make([]int32, n)}
+	for i := range a.choice {
+		a.choice[i] = -1
+	}
+	for i := range a.up {
+		a.up[i] = true
+	}
+	a.spNext = a.fallback(a.up)
+	return a, nil
+}
+
+// Name returns the agent's label.
+func (a *CentralQ) Name() string { return a.p.Canonical() }
+
+// Start arranges the first snapshot request.
+func (a *CentralQ) Start(v *sim.ControlView) {
+	a.v = v
+	v.After(a.p.Every, tagTick)
+}
+
+// fallback computes zero-load shortest-path next hops over usable channels.
+func (a *CentralQ) fallback(usable []bool) []int32 {
+	next := make([]int32, a.n*a.n)
+	for d := 0; d < a.n; d++ {
+		a.pf.distTo(d, a.zl, usable, a.dist)
+		nextHopsTo(a.net, d, a.zl, usable, a.dist, a.col)
+		for u := 0; u < a.n; u++ {
+			next[u*a.n+d] = a.col[u]
+		}
+	}
+	return next
+}
+
+// Route follows the packet's source route, set at its source from the
+// installed choice. Cost: O(1), no allocation.
+func (a *CentralQ) Route(node int, p *sim.Packet) int {
+	if node == p.Src && p.Hops == 0 {
+		i := node*a.n + p.Dst
+		if ch := a.choice[i]; ch >= 0 {
+			p.Route = a.pairs[i].cands[ch].chans
+			p.RouteStep = 0
+		}
+	}
+	if p.Route != nil {
+		if p.RouteStep < len(p.Route) {
+			c := p.Route[p.RouteStep]
+			if a.net.Channels[c].From == node && a.up[c] {
+				p.RouteStep++
+				return c
+			}
+		}
+		p.Route = nil // off the path or blocked: shortest path from here on
+	}
+	return int(a.spNext[node*a.n+p.Dst])
+}
+
+// Timer requests snapshots and installs choices.
+func (a *CentralQ) Timer(tag int) {
+	switch tag {
+	case tagTick:
+		a.v.Request()
+		a.v.After(a.p.Every, tagTick)
+	case tagInstall:
+		if len(a.pending) == 0 {
+			return
+		}
+		pd := a.pending[0]
+		a.pending = a.pending[1:]
+		changes := 0
+		for i, c := range pd.choice {
+			if c != a.choice[i] {
+				changes++
+			}
+		}
+		a.choice, a.up, a.spNext = pd.choice, pd.up, pd.spNext
+		if changes > 0 {
+			a.v.CountRouteChanges(changes)
+		}
+	}
+}
+
+// bucket returns the utilisation level of u.
+func bucket(u float64) int {
+	for i, e := range cqEdges {
+		if u < e {
+			return i
+		}
+	}
+	return len(cqEdges)
+}
+
+// state returns the state key of pair pr and which candidates are usable.
+func (a *CentralQ) state(pr *cqPair, ok []bool) uint64 {
+	var key uint64
+	for i := len(pr.cands) - 1; i >= 0; i-- {
+		b := 0
+		bott := 0.0
+		ok[i] = true
+		for _, c := range pr.cands[i].chans {
+			if !a.usable[c] {
+				ok[i] = false
+				break
+			}
+			bott = math.Max(bott, a.util[c])
+		}
+		if ok[i] {
+			b = bucket(bott)
+		} else {
+			b = cqBuckets - 1
+		}
+		key = key*uint64(cqBuckets) + uint64(b)
+	}
+	return key
+}
+
+// rowOf returns the Q row of state key, creating it at the zero-load prior.
+func (a *CentralQ) rowOf(pr *cqPair, key uint64) int32 {
+	if r, ok := pr.states[key]; ok {
+		return r
+	}
+	r := int32(len(pr.states))
+	pr.states[key] = r
+	for _, c := range pr.cands {
+		pr.q = append(pr.q, -c.cost/(1-a.p.Discount))
+	}
+	return r
+}
+
+// Telemetry learns from the last interval and decides the next choices.
+func (a *CentralQ) Telemetry(s *sim.Snapshot) {
+	dt := float64(s.Taken - a.prevTaken)
+	for c := range a.util {
+		ch := &a.net.Channels[c]
+		if dt > 0 {
+			a.util[c] = float64(s.Busy[c]-a.prevBusy[c]) / dt
+		}
+		a.prevBusy[c] = s.Busy[c]
+		a.usable[c] = s.Up[c] && s.NodeUp[ch.From] && s.NodeUp[ch.To]
+	}
+	a.prevTaken = s.Taken
+	choice := append([]int8(nil), a.choice...)
+	ok := make([]bool, a.k)
+	rng := a.v.Rand()
+	for i := range a.pairs {
+		src, dst := i/a.n, i%a.n
+		if src == dst {
+			continue
+		}
+		del, delay, drop := s.PairDelivered[i], s.PairDelay[i], s.PairDropped[i]
+		pr := a.pairs[i]
+		if pr == nil {
+			if del == 0 && drop == 0 {
+				continue
+			}
+			cands := a.pf.kShortest(src, dst, a.k, a.zl)
+			if len(cands) == 0 {
+				continue
+			}
+			pr = &cqPair{cands: cands, states: map[uint64]int32{}, row: -1}
+			a.pairs[i] = pr
+		}
+		dDel, dDelay, dDrop := del-pr.del, delay-pr.delay, drop-pr.dropped
+		pr.del, pr.delay, pr.dropped = del, delay, drop
+		key := a.state(pr, ok[:len(pr.cands)])
+		row := a.rowOf(pr, key)
+		nc := len(pr.cands)
+		if pr.row >= 0 && dDel+dDrop > 0 {
+			r := 0.0
+			if dDel > 0 {
+				r -= dDelay / float64(dDel)
+			}
+			r -= a.p.DropPenalty.Seconds() * float64(dDrop) / float64(dDel+dDrop)
+			best := math.Inf(-1)
+			for j := 0; j < nc; j++ {
+				if ok[j] && pr.q[int(row)*nc+j] > best {
+					best = pr.q[int(row)*nc+j]
+				}
+			}
+			if math.IsInf(best, -1) {
+				best = 0
+			}
+			qi := int(pr.row)*nc + int(pr.action)
+			pr.q[qi] += a.p.LearningRate * (r + a.p.Discount*best - pr.q[qi])
+		}
+		// choose
+		act := -1
+		if a.p.Explore > 0 && rng.Float64() < a.p.Explore {
+			n := 0
+			for j := 0; j < nc; j++ {
+				if ok[j] {
+					n++
+				}
+			}
+			if n > 0 {
+				x := rng.IntN(n)
+				for j := 0; j < nc; j++ {
+					if ok[j] {
+						if x == 0 {
+							act = j
+							break
+						}
+						x--
+					}
+				}
+			}
+		} else {
+			for j := 0; j < nc; j++ {
+				if ok[j] && (act < 0 || pr.q[int(row)*nc+j] > pr.q[int(row)*nc+act]) {
+					act = j
+				}
+			}
+		}
+		if act < 0 {
+			choice[i] = -1
+			pr.row = -1
+			continue
+		}
+		choice[i] = int8(act)
+		pr.row, pr.action = row, int8(act)
+	}
+	up := append([]bool(nil), a.usable...)
+	a.pending = append(a.pending, cqPending{choice: choice, up: up, spNext: a.fallback(up)})
+	a.v.After(a.p.ControlDelay, tagInstall)
+}
