@@ -69,6 +69,9 @@ func across(xs []float64) repStats {
 
 func runReps(t *testing.T, mk func(seed uint64) *sim.Config, f func(r *sim.Result) []float64) [][]float64 {
 	t.Helper()
+	if testing.Short() {
+		t.Skip("statistical check: run without -short")
+	}
 	var out [][]float64
 	for i := 0; i < reps; i++ {
 		cfg := mk(uint64(1000 + i))
