@@ -226,8 +226,10 @@ func (g *generator) resolve(params map[string]float64) (values, error) {
 			return nil, &ParamError{Param: p.Name, Msg: fmt.Sprintf("must be a finite number, got %g", x)}
 		case p.Integer && x != math.Trunc(x):
 			return nil, &ParamError{Param: p.Name, Msg: fmt.Sprintf("must be a whole number, got %g", x)}
-		case x < p.min || x > p.max:
-			return nil, &ParamError{Param: p.Name, Msg: fmt.Sprintf("must be between %s and %s, got %s", fmtNum(p.min), fmtNum(p.max), fmtNum(x))}
+		case x < p.min:
+			return nil, &ParamError{Param: p.Name, Msg: fmt.Sprintf("must be at least %s, got %s", fmtNum(p.min), fmtNum(x))}
+		case x > p.max:
+			return nil, &ParamError{Param: p.Name, Msg: fmt.Sprintf("must be at most %s, got %s", fmtNum(p.max), fmtNum(x))}
 		}
 		v[p.Name] = x
 	}
@@ -291,7 +293,13 @@ func Label(name string, params map[string]float64) string {
 	return name + "(" + strings.Join(parts, ",") + ")"
 }
 
-func fmtNum(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+// fmtNum formats x exactly, whole numbers below 10^21 without an exponent.
+func fmtNum(x float64) string {
+	if x == math.Trunc(x) && math.Abs(x) < 1e21 {
+		return strconv.FormatFloat(x, 'f', -1, 64)
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
+}
 
 // builder accumulates a graph.
 type builder struct {
