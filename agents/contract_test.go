@@ -28,6 +28,11 @@ func contractParams() []agents.Params {
 	ca.HoldDown = 0
 	add(ca)
 	add(agents.Defaults(agents.CentralQKind))
+	add(agents.Defaults(agents.QNetworkKind))
+	qn := agents.Defaults(agents.QNetworkKind)
+	qn.Explore = 0.02
+	qn.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
+	add(qn)
 	return ps
 }
 

@@ -1,0 +1,478 @@
+package agents
+
+import (
+	"math"
+
+	"hoplore/sim"
+)
+
+func init() { builders[QNetworkKind] = newQNetwork }
+
+// Settings of q-network's training (common practice for small online
+// regressions; DQN-style replay and target copies as Mnih et al., Nature
+// 2015).
+const (
+	// qnReplayDraws is how many samples drawn uniformly from the replay
+	// buffer are trained on after each new sample.
+	qnReplayDraws = 3
+	// qnMaxQueueFeature caps the normalised queue feature.
+	qnMaxQueueFeature = 10
+)
+
+// QNetwork is per-node Q-routing with a small neural network in place of
+// the table. Every node has a multilayer perceptron of one shared shape
+// (inputs, Hidden tanh layers, one linear output) that scores a candidate
+// neighbour:
+//
+//	inputs: one-hot of this node (N), one-hot of the destination (N),
+//	        one-hot of the candidate neighbour (N), that channel's queue
+//	        feature w/T (the channel's backlog over its bandwidth, in units
+//	        of T, capped at 10) and its up flag;
+//	Q_x(d,y) = zl(x,y,d) + T·net(inputs),
+//
+// where zl(x,y,d) is the zero-load time via y (as the tabular agent's initial
+// value) and T is the largest zero-load time between two nodes, which makes
+// the network learn the normalised excess over zero-load delivery. The
+// output layer starts at zero, so the initial policy is zero-load shortest
+// paths. Because the node is an input, parameters of different nodes can be
+// averaged meaningfully (consensus).
+//
+// Decision: argmin over usable channels of Q_x(d,·), ties to the lowest Out
+// index, ε-exploration with Explore. The first layer is evaluated sparsely
+// (five non-zero inputs), so a decision costs O(degree·Σ layer products) and
+// allocates nothing.
+//
+// Training: the Q-routing target as in QRouting with instant feedback: y
+// answers t = min_z Q_y(d,z) computed with y's target network (a copy of its
+// parameters refreshed every TargetSync updates), plus q + s; x adds the
+// propagation delay and trains on (d, y, queue feature at the decision,
+// target), the queue feature being carried by the packet in p.Aux[1]. Each
+// sample is stored in a ring buffer of Replay samples; each update takes one
+// SGD step (rate learning_rate) on the new sample and on qnReplayDraws
+// samples drawn from the buffer, with squared loss on the normalised target
+// and its error clipped to [−1, 1].
+//
+// Consensus: every Every each node sends its parameters to every neighbour
+// in-band (ParamsMessageBytes); a node keeps the parameters it sent in that
+// round, θ_x⁰, and on receiving θ_y adds w·W_xy·(θ_y − θ_x⁰), W_xy the
+// Metropolis weight 1/(1+max(deg_x,deg_y)) and w the consensus weight. When
+// all of a round's messages arrive and no training intervenes, this is
+// exactly one step θ ← (I − w(I − W))θ of Metropolis averaging.
+type QNetwork struct {
+	p      Params
+	shared *qnShared
+	nodes  []*qnNode // for tests and inspection only
+}
+
+type qnShared struct {
+	p      Params
+	n      int
+	sizes  []int // layer widths: in, hidden..., 1
+	woff   []int // offset of layer l's weights
+	boff   []int // offset of layer l's biases
+	nParam int
+	scale  float64 // T, seconds
+	zl     []float64
+	dist   [][]float64
+	qCap   float64
+	prior  bool // add zl to the output; false learns from scratch (tests)
+}
+
+var (
+	_ sim.PerNode  = (*QNetwork)(nil)
+	_ sim.Router   = (*qnNode)(nil)
+	_ sim.Arrivals = (*qnNode)(nil)
+	_ sim.Receiver = (*qnNode)(nil)
+	_ sim.Detector = (*qnNode)(nil)
+	_ sim.Timed    = (*qnNode)(nil)
+)
+
+func newQNetwork(p Params, net *sim.Net) (sim.Agent, error) {
+	return newQNetworkOpt(p, net, true), nil
+}
+
+func newQNetworkOpt(p Params, net *sim.Net, prior bool) *QNetwork {
+	n := net.NumNodes()
+	s := &qnShared{p: p, n: n, prior: prior}
+	s.sizes = append([]int{3*n + 2}, p.Hidden...)
+	s.sizes = append(s.sizes, 1)
+	off := 0
+	for l := 0; l+1 < len(s.sizes); l++ {
+		s.woff = append(s.woff, off)
+		off += s.sizes[l] * s.sizes[l+1]
+		s.boff = append(s.boff, off)
+		off += s.sizes[l+1]
+	}
+	s.nParam = off
+	s.zl = zeroLoadCosts(net, AssumedPacketBytes)
+	s.dist = allPairsDist(net, s.zl)
+	s.qCap = qCeiling(s.dist)
+	for _, row := range s.dist {
+		for _, v := range row {
+			if !math.IsInf(v, 1) && v > s.scale {
+				s.scale = v
+			}
+		}
+	}
+	if s.scale == 0 {
+		s.scale = 1
+	}
+	return &QNetwork{p: p, shared: s}
+}
+
+// Name returns the agent's label.
+func (a *QNetwork) Name() string { return a.p.Canonical() }
+
+// Node builds the router of the node behind v.
+func (a *QNetwork) Node(v *sim.NodeView) sim.Router {
+	r := newQNNode(a.shared, v)
+	a.nodes = append(a.nodes, r)
+	return r
+}
+
+// qnNode is one node's network, target copy, replay buffer and scratch.
+type qnNode struct {
+	s    *qnShared
+	v    *sim.NodeView
+	net  *sim.Net
+	id   int
+	out  []int
+	nbr  []int // neighbour node per Out index
+	proc float64
+	deg  int // distinct neighbours (Metropolis)
+
+	theta, target, sent []float64
+
+	acts   [][]float64 // per layer ≥ 1: activations (scratch)
+	deltas [][]float64
+	common []float64 // first-layer partial sums shared by a decision's candidates
+
+	// replay ring
+	rd      []int32
+	rk      []int16
+	rq, rt  []float64
+	rn, rat int
+	updates int
+
+	cons *consensusState
+}
+
+func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
+	r := &qnNode{s: s, v: v, net: v.Net(), id: v.ID(), out: v.Out()}
+	r.proc = r.net.Graph.Nodes[r.id].Processing.Seconds()
+	r.nbr = make([]int, len(r.out))
+	for k, c := range r.out {
+		r.nbr[k] = r.net.Channels[c].To
+	}
+	r.deg = neighbourCount(r.net, r.id)
+	r.theta = make([]float64, s.nParam)
+	r.initParams(v.Rand())
+	r.target = append([]float64(nil), r.theta...)
+	for l := 1; l < len(s.sizes); l++ {
+		r.acts = append(r.acts, make([]float64, s.sizes[l]))
+		r.deltas = append(r.deltas, make([]float64, s.sizes[l]))
+	}
+	r.common = make([]float64, s.sizes[1])
+	R := s.p.Replay
+	r.rd, r.rk, r.rq, r.rt = make([]int32, R), make([]int16, R), make([]float64, R), make([]float64, R)
+	if s.p.Consensus != nil {
+		r.cons = newConsensusState(s.p.Consensus)
+		r.sent = make([]float64, s.nParam)
+		v.After(s.p.Consensus.Every, tagConsensus)
+	}
+	return r
+}
+
+// initParams draws weights uniformly in ±sqrt(6/(fan_in+fan_out)) (Glorot &
+// Bengio 2010; the first layer's fan-in counts its five non-zero inputs),
+// biases 0, and, with the zero-load prior, an all-zero output layer.
+func (r *qnNode) initParams(rng interface{ Float64() float64 }) {
+	s := r.s
+	L := len(s.sizes) - 1
+	for l := 0; l < L; l++ {
+		in, out := s.sizes[l], s.sizes[l+1]
+		if l == 0 {
+			in = 5
+		}
+		lim := math.Sqrt(6 / float64(in+out))
+		if l == L-1 && s.prior {
+			lim = 0
+		}
+		w := r.theta[s.woff[l]:s.boff[l]]
+		for i := range w {
+			w[i] = lim * (2*rng.Float64() - 1)
+		}
+	}
+}
+
+// firstLayerCommon fills dst with the first layer's bias plus the rows of
+// this node's and the destination's one-hot inputs. Layer 0 weights are
+// stored input-major: w[i*h + j].
+func (s *qnShared) firstLayerCommon(theta []float64, x, d int, dst []float64) {
+	h := s.sizes[1]
+	w := theta[s.woff[0]:s.boff[0]]
+	b := theta[s.boff[0] : s.boff[0]+h]
+	wx := w[x*h : x*h+h]
+	wd := w[(s.n+d)*h : (s.n+d)*h+h]
+	for j := range dst {
+		dst[j] = b[j] + wx[j] + wd[j]
+	}
+}
+
+// forward evaluates the network for candidate neighbour y with queue
+// feature qf, from first-layer partial sums common, leaving activations in
+// acts. It returns the normalised output.
+func (s *qnShared) forward(theta, common []float64, y int, qf, up float64, acts [][]float64) float64 {
+	h := s.sizes[1]
+	w := theta[s.woff[0]:s.boff[0]]
+	wy := w[(2*s.n+y)*h : (2*s.n+y)*h+h]
+	wq := w[(3*s.n)*h : (3*s.n)*h+h]
+	wu := w[(3*s.n+1)*h : (3*s.n+1)*h+h]
+	a := acts[0]
+	for j := range a {
+		a[j] = math.Tanh(common[j] + wy[j] + wq[j]*qf + wu[j]*up)
+	}
+	L := len(s.sizes) - 1
+	for l := 1; l < L; l++ {
+		in, out := s.sizes[l], s.sizes[l+1]
+		wl := theta[s.woff[l]:s.boff[l]]
+		bl := theta[s.boff[l] : s.boff[l]+out]
+		prev, cur := acts[l-1], acts[l]
+		for j := 0; j < out; j++ {
+			z := bl[j]
+			row := wl[j*in : j*in+in]
+			for i, v := range prev {
+				z += row[i] * v
+			}
+			if l < L-1 {
+				z = math.Tanh(z)
+			}
+			cur[j] = z
+		}
+	}
+	return acts[L-1][0]
+}
+
+// queueFeature returns channel c's normalised queue feature.
+func (r *qnNode) queueFeature(c int) float64 {
+	w := r.v.Backlog(c) / r.net.Channels[c].Bandwidth
+	return math.Min(w/r.s.scale, qnMaxQueueFeature)
+}
+
+// qvalue returns Q(d, out[k]) in seconds with parameters theta; common must
+// hold firstLayerCommon(theta, id, d).
+func (r *qnNode) qvalue(theta []float64, d, k int, qf float64) float64 {
+	y := r.nbr[k]
+	v := r.s.scale * r.s.forward(theta, r.common, y, qf, 1, r.acts)
+	if r.s.prior {
+		v += r.s.zl[r.out[k]] + r.s.dist[y][d]
+	}
+	return v
+}
+
+// Route picks the outgoing channel for p and records the decision's queue
+// feature in p.Aux[1]. Cost: O(degree·network size), no allocation.
+func (r *qnNode) Route(p *sim.Packet) int {
+	d := p.Dst
+	best, bestV, bestQF := -1, 0.0, 0.0
+	if e := r.s.p.Explore; e > 0 && r.v.Rand().Float64() < e {
+		n := 0
+		for _, c := range r.out {
+			if r.v.Up(c) {
+				n++
+			}
+		}
+		if n > 0 {
+			j := r.v.Rand().IntN(n)
+			for k, c := range r.out {
+				if r.v.Up(c) {
+					if j == 0 {
+						best, bestQF = k, r.queueFeature(c)
+						break
+					}
+					j--
+				}
+			}
+		}
+	} else {
+		r.s.firstLayerCommon(r.theta, r.id, d, r.common)
+		for k, c := range r.out {
+			if !r.v.Up(c) {
+				continue
+			}
+			qf := r.queueFeature(c)
+			val := r.qvalue(r.theta, d, k, qf)
+			if best < 0 || val < bestV {
+				best, bestV, bestQF = k, val, qf
+			}
+		}
+	}
+	if best < 0 {
+		return sim.NoRoute
+	}
+	p.Aux[1] = bestQF
+	return r.out[best]
+}
+
+// value returns min over usable channels of Q(d,·) under the target network,
+// plus processing; 0 at the destination, qCap when nothing is usable.
+func (r *qnNode) value(d int) float64 {
+	if d == r.id {
+		return 0
+	}
+	r.s.firstLayerCommon(r.target, r.id, d, r.common)
+	best := math.Inf(1)
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		best = math.Min(best, r.qvalue(r.target, d, k, r.queueFeature(c)))
+	}
+	if math.IsInf(best, 1) {
+		return r.s.qCap
+	}
+	return math.Min(math.Max(best, 0)+r.proc, r.s.qCap)
+}
+
+// Arrived returns the Q-routing feedback for the hop just made.
+func (r *qnNode) Arrived(p *sim.Packet, in int) {
+	qs := (p.LastWait + p.LastTx).Seconds()
+	t := r.value(p.Dst)
+	r.v.Tell(in^1, sim.Message{Type: msgNetFeedback, Dst: p.Dst, Value: qs + t, Aux: p.Aux[1]})
+}
+
+// Receive trains on feedback and mixes in neighbours' parameters.
+func (r *qnNode) Receive(m *sim.Message, in int) {
+	k := -1
+	for i, c := range r.out {
+		if c == in^1 {
+			k = i
+			break
+		}
+	}
+	if k < 0 {
+		return
+	}
+	switch m.Type {
+	case msgNetFeedback:
+		if m.Dst == r.id || m.Dst < 0 || m.Dst >= r.s.n {
+			return
+		}
+		target := math.Min(m.Value+r.net.Channels[r.out[k]].Delay.Seconds(), r.s.qCap)
+		r.learn(m.Dst, k, m.Aux, target)
+	case msgParams:
+		r.mix(r.nbr[k], m.Vec)
+	}
+}
+
+// learn stores a sample and takes SGD steps on it and on replayed samples.
+func (r *qnNode) learn(d, k int, qf, target float64) {
+	R := len(r.rd)
+	r.rd[r.rat], r.rk[r.rat], r.rq[r.rat], r.rt[r.rat] = int32(d), int16(k), qf, target
+	r.rat = (r.rat + 1) % R
+	if r.rn < R {
+		r.rn++
+	}
+	r.sgd(d, k, qf, target)
+	if r.rn > 1 {
+		rng := r.v.Rand()
+		for i := 0; i < qnReplayDraws; i++ {
+			j := rng.IntN(r.rn)
+			r.sgd(int(r.rd[j]), int(r.rk[j]), r.rq[j], r.rt[j])
+		}
+	}
+	r.updates++
+	if r.updates%r.s.p.TargetSync == 0 {
+		copy(r.target, r.theta)
+	}
+}
+
+// sgd takes one step on the squared error of the normalised output for
+// sample (d, out[k], qf) against target seconds.
+func (r *qnNode) sgd(d, k int, qf, target float64) {
+	s := r.s
+	y := r.nbr[k]
+	goal := target
+	if s.prior {
+		goal -= s.zl[r.out[k]] + s.dist[y][d]
+	}
+	goal /= s.scale
+	s.firstLayerCommon(r.theta, r.id, d, r.common)
+	outv := s.forward(r.theta, r.common, y, qf, 1, r.acts)
+	g := math.Max(-1, math.Min(1, outv-goal)) // d(½e²)/d out, clipped
+	lr := s.p.LearningRate
+	L := len(s.sizes) - 1
+	r.deltas[L-1][0] = g
+	for l := L - 1; l >= 1; l-- {
+		in, out := s.sizes[l], s.sizes[l+1]
+		wl := r.theta[s.woff[l]:s.boff[l]]
+		bl := r.theta[s.boff[l] : s.boff[l]+out]
+		prev := r.acts[l-1]
+		dprev := r.deltas[l-1]
+		cur := r.deltas[l]
+		for i := range dprev {
+			dprev[i] = 0
+		}
+		for j := 0; j < out; j++ {
+			row := wl[j*in : j*in+in]
+			dj := cur[j]
+			for i := range row {
+				dprev[i] += row[i] * dj
+				row[i] -= lr * dj * prev[i]
+			}
+			bl[j] -= lr * dj
+		}
+		for i, a := range prev {
+			dprev[i] *= 1 - a*a
+		}
+	}
+	// first layer: sparse inputs
+	h := s.sizes[1]
+	w := r.theta[s.woff[0]:s.boff[0]]
+	b := r.theta[s.boff[0] : s.boff[0]+h]
+	dl := r.deltas[0]
+	xs := [...]int{r.id, s.n + d, 2*s.n + y}
+	for _, i := range xs {
+		row := w[i*h : i*h+h]
+		for j, dj := range dl {
+			row[j] -= lr * dj
+		}
+	}
+	wq := w[(3*s.n)*h : (3*s.n)*h+h]
+	wu := w[(3*s.n+1)*h : (3*s.n+1)*h+h]
+	for j, dj := range dl {
+		wq[j] -= lr * dj * qf
+		wu[j] -= lr * dj
+		b[j] -= lr * dj
+	}
+}
+
+// Detected needs no action: decisions skip channels not Up, and the network
+// has no per-channel state to reset.
+func (r *qnNode) Detected(out int, up bool) {}
+
+// Timer runs a consensus round: send the parameters, remember them.
+func (r *qnNode) Timer(tag int) {
+	if tag != tagConsensus || r.cons == nil {
+		return
+	}
+	copy(r.sent, r.theta)
+	vec := append([]float64(nil), r.theta...) // shared by this round's messages; receivers only read
+	for _, c := range r.out {
+		if r.v.Up(c) {
+			r.v.Send(c, sim.Message{Type: msgParams, Vec: vec, Bytes: ParamsMessageBytes(len(vec))})
+		}
+	}
+	r.v.After(r.cons.every, tagConsensus)
+}
+
+// mix adds w·W_xy·(θ_y − θ_x⁰) for neighbour y's parameters vec.
+func (r *qnNode) mix(y int, vec []float64) {
+	if len(vec) != len(r.theta) || r.sent == nil {
+		return
+	}
+	a := r.cons.weight * metropolisWeight(r.deg, neighbourCount(r.net, y))
+	for i, v := range vec {
+		r.theta[i] += a * (v - r.sent[i])
+	}
+}
