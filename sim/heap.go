@@ -37,23 +37,30 @@ func (h *eventHeap) len() int { return len(h.ev) }
 
 func (h *eventHeap) push(e event) {
 	h.ev = append(h.ev, e)
-	i := len(h.ev) - 1
+	ev := h.ev
+	i := len(ev) - 1
 	for i > 0 {
 		p := (i - 1) / 4
-		if !h.ev[i].before(&h.ev[p]) {
+		if !e.before(&ev[p]) {
 			break
 		}
-		h.ev[i], h.ev[p] = h.ev[p], h.ev[i]
+		ev[i] = ev[p]
 		i = p
 	}
+	ev[i] = e
 }
 
+// pop removes and returns the earliest event, moving a hole down the tree
+// instead of swapping at each level.
 func (h *eventHeap) pop() event {
-	top := h.ev[0]
-	last := len(h.ev) - 1
-	h.ev[0] = h.ev[last]
-	h.ev = h.ev[:last]
-	n := last
+	ev := h.ev
+	top := ev[0]
+	n := len(ev) - 1
+	x := ev[n]
+	h.ev = ev[:n]
+	if n == 0 {
+		return top
+	}
 	i := 0
 	for {
 		c := 4*i + 1
@@ -61,21 +68,19 @@ func (h *eventHeap) pop() event {
 			break
 		}
 		m := c
-		end := c + 4
-		if end > n {
-			end = n
-		}
+		end := min(c+4, n)
 		for j := c + 1; j < end; j++ {
-			if h.ev[j].before(&h.ev[m]) {
+			if ev[j].before(&ev[m]) {
 				m = j
 			}
 		}
-		if !h.ev[m].before(&h.ev[i]) {
+		if !ev[m].before(&x) {
 			break
 		}
-		h.ev[i], h.ev[m] = h.ev[m], h.ev[i]
+		ev[i] = ev[m]
 		i = m
 	}
+	ev[i] = x
 	return top
 }
 
