@@ -81,8 +81,11 @@ func (f *File) UnmarshalYAML(n ast.Node) error {
 	*f = File(p)
 	f.Pos = yamlx.PosOf(n)
 	it := n.(ast.MapNode).MapRange()
-	for it.Next() {
+	for first := true; it.Next(); first = false {
 		k := it.Key()
+		if first {
+			f.Pos = yamlx.PosOf(k) // a block mapping's own token is its first colon
+		}
 		switch k.GetToken().Value {
 		case "nodes":
 			f.NodesPos = yamlx.PosOf(k)

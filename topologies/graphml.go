@@ -92,13 +92,19 @@ func (p *gmlParser) next() (xml.Token, error) {
 		if err == io.EOF {
 			return nil, err
 		}
+		// Point at the start of the token being read when the problem is on
+		// its first line, else where the decoder stopped.
+		pos := p.pos
 		var se *xml.SyntaxError
-		line, col = p.d.InputPos()
 		msg := err.Error()
 		if errors.As(err, &se) {
 			msg = se.Msg
+			if se.Line != pos.Line {
+				line, col = p.d.InputPos()
+				pos = yamlx.Pos{Line: line, Col: col}
+			}
 		}
-		return nil, p.errAt(yamlx.Pos{Line: line, Col: col}, "malformed GraphML: %s", msg)
+		return nil, p.errAt(pos, "malformed GraphML: %s", msg)
 	}
 	return tok, nil
 }
