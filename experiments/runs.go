@@ -283,15 +283,15 @@ func (r *Run) Execute(version string) (*results.RunTables, error) {
 	return results.FromRun(r.Dims, cfg.Net, cfg, res, wall, version), nil
 }
 
-// Events per hop of a data packet (queue, transmission end, arrival) and per
+// Events per hop of a data packet (transmission end, arrival) and per
 // generated packet (generation), for EstimateEvents.
 const (
-	eventsPerHop    = 3
+	eventsPerHop    = 2
 	eventsPerPacket = 1
 )
 
 // EstimateEvents returns a rough number of engine events the run will
-// process: generated packets × (1 + 3 × mean shortest-path hops), plus the
+// process: generated packets × (1 + 2 × mean shortest-path hops), plus the
 // in-band control traffic of consensus or in-band feedback, plus the central
 // controller's rounds. Cost: O(N²).
 func (r *Run) EstimateEvents() float64 {

@@ -9,6 +9,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"time"
 
 	"hoplore/agents"
 	"hoplore/internal/yamlx"
@@ -640,7 +641,7 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, error
 			return nil, c.errf(ev.Pos, "%s.at: required", where)
 		}
 		if ev.At.D < 0 || sim.Time(ev.At.D) >= e.Duration {
-			return nil, c.errf(ev.At.Pos, "%s.at: %v is outside the run [0s, %v)", where, ev.At.D, e.Duration)
+			return nil, c.errf(ev.At.Pos, "%s.at: %v is outside the run [0s, %v)", where, ev.At.D, time.Duration(e.Duration))
 		}
 		out := Event{At: sim.Time(ev.At.D)}
 		n := 0
@@ -691,7 +692,7 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, error
 			if down[k] {
 				state = "down"
 			}
-			return nil, c.errf(f.Events.Items[j].Action.Pos, "failures[%d].events[%d]: %s is already %s at %v", i, j, ev.element(), state, ev.At)
+			return nil, c.errf(f.Events.Items[j].Action.Pos, "failures[%d].events[%d]: %s is already %s at %v", i, j, ev.element(), state, time.Duration(ev.At))
 		}
 		down[k] = !ev.Up
 	}

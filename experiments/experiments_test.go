@@ -1,0 +1,446 @@
+package experiments
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"regexp"
+	"slices"
+	"strings"
+	"testing"
+
+	"hoplore/internal/yamlx"
+	"hoplore/sim"
+)
+
+var update = flag.Bool("update", false, "rewrite golden files")
+
+// TestBadFiles checks that every malformed file in testdata/bad is refused
+// with an error at the right FILE:LINE:COL naming the problem. The full
+// messages are kept in testdata/bad.golden (go test -update rewrites it).
+func TestBadFiles(t *testing.T) {
+	tests := []struct {
+		file string
+		at   string // FILE:LINE:COL prefix; FILE defaults to the bad file
+		want string // substring of the message
+	}{
+		{"unknown-field", "3:1", `unknown field "warmpu"`},
+		{"bad-duration", "2:11", `"10 minutes" is not a duration`},
+		{"negative-bandwidth", "8:35", "bandwidth: must be positive"},
+		{"negative-size", "6:37", "traffic.packet_size.bytes: must be at least 1 byte, got -500"},
+		{"negative-load", "6:16", "traffic.loads[1]: must be positive, got -0.2"},
+		{"warmup-too-long", "3:9", "warmup: 10s must be shorter than duration 10s"},
+		{"missing-topology-file", "5:12", `topologies[1]: file: cannot read "nowhere.yaml": no such file`},
+		{"unknown-pair-node", "8:22", `traffic.pairs[1].to: topology "ring" has no node "n99"`},
+		{"disconnected-inline", "7:7", `topology "islands" is not connected`},
+		{"syntax-error", "4:1", "',' or ']' must be specified"},
+		{"zero-replicates", "3:13", "replicates: must be at least 1, got 0"},
+		{"unknown-agent-kind", "7:12", `agents[1].kind: unknown agent kind "q-routeing"`},
+		{"field-not-for-kind", "6:55", "agents[0].hold_down: not a field of kind shortest-path"},
+		{"failure-missing-link", "10:24", `failures[1].events[0].link: topology "ring" has no link n0-n4`},
+		{"failure-missing-node", "9:24", `failures[0].events[0].node: topology "ring" has no node "n42"`},
+		{"bad-learning-rate", "6:38", "agents[0].learning_rate: must be in (0, 1], got 1.5"},
+		{"bad-consensus-weight", "9:15", "agents[0].consensus.weight: must be in (0, 1], got 2"},
+		{"unknown-matrix", "4:19", `traffic.matrix: unknown matrix "gravitational"`},
+		{"unknown-topology", "5:5", `topologies[1]: unknown topology "tworegion"`},
+		{"bad-generator-param", "4:25", "topologies[0]: nodes: must be at least 3, got 2"},
+		{"zero-bin", "3:6", "bin: must be positive, got 0s"},
+		{"event-after-end", "10:14", "failures[0].events[1].at: 12s is outside the run [0s, 10s)"},
+		{"unknown-group", "11:25", `failures[0].events[0].group: no group "ducts"`},
+		{"mixed-pair-rates", "8:7", "traffic.pairs[1]: give a rate on every pair or on none"},
+		{"duplicate-agent", "7:5", "agents[1]: same agent as agents[0] (shortest-path)"},
+		{"missing-loads", "5:3", "traffic.loads: required"},
+		{"double-down", "10:42", "failures[0].events[1]: link n1-n0 is already down at 3s"},
+		{"size-field-for-other-dist", "6:60", "traffic.packet_size.bytes: not a field of dist exponential"},
+		{"bad-fraction", "6:36", "traffic.hotspot.fraction: must be in [0, 1], got 1.5"},
+		{"empty", "1:1", "name: required"},
+		{"bad-topology-file", "testdata/topofiles/broken-topology.yaml:4:15", `unknown node "c"`},
+	}
+	files, err := filepath.Glob("testdata/bad/*.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(files) != len(tests) {
+		t.Errorf("testdata/bad holds %d files, the table %d", len(files), len(tests))
+	}
+	var golden strings.Builder
+	for _, tt := range tests {
+		t.Run(tt.file, func(t *testing.T) {
+			path := filepath.Join("testdata", "bad", tt.file+".yaml")
+			e, err := Load(path)
+			if err == nil {
+				t.Fatalf("Load(%s) = %q, want an error", path, e.Name)
+			}
+			var ye *yamlx.Error
+			if !errors.As(err, &ye) {
+				t.Fatalf("error %v (%T) is not a *yamlx.Error", err, err)
+			}
+			prefix := tt.at
+			if strings.Count(prefix, ":") == 1 {
+				prefix = path + ":" + prefix
+			}
+			msg := err.Error()
+			if !strings.HasPrefix(msg, prefix+": ") {
+				t.Errorf("got %q, want prefix %q", msg, prefix+": ")
+			}
+			if !strings.Contains(msg, tt.want) {
+				t.Errorf("got %q, want it to contain %q", msg, tt.want)
+			}
+			fmt.Fprintf(&golden, "%s\n", msg)
+		})
+	}
+	checkGolden(t, "testdata/bad.golden", golden.String())
+}
+
+func checkGolden(t *testing.T, path, got string) {
+	t.Helper()
+	if *update {
+		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return
+	}
+	want, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatalf("%v (run go test -update to create it)", err)
+	}
+	if got != string(want) {
+		t.Errorf("messages differ from %s (go test -update rewrites it):\ngot:\n%s\nwant:\n%s", path, got, want)
+	}
+}
+
+// TestExamples checks that every shipped example parses and expands to the
+// grid its file describes.
+func TestExamples(t *testing.T) {
+	tests := []struct {
+		file                     string
+		topologies, loads, fails int
+		agents, replicates       int
+	}{
+		{"load-sweep", 2, 4, 1, 7, 3},
+		{"link-failure", 1, 1, 3, 4, 3},
+		{"single-queue", 1, 1, 1, 1, 4},
+	}
+	for _, tt := range tests {
+		t.Run(tt.file, func(t *testing.T) {
+			e, err := Load(filepath.Join("testdata", "examples", tt.file+".yaml"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			cells := tt.topologies * tt.loads * tt.fails * tt.agents
+			if got := e.Cells(); got != cells {
+				t.Errorf("Cells() = %d, want %d", got, cells)
+			}
+			if got := len(e.Runs()); got != cells*tt.replicates {
+				t.Errorf("len(Runs()) = %d, want %d", got, cells*tt.replicates)
+			}
+			ids := map[string]bool{}
+			for i, r := range e.Runs() {
+				if r.Index != i || r.Dims.Index != i {
+					t.Fatalf("run %d has Index %d, Dims.Index %d", i, r.Index, r.Dims.Index)
+				}
+				if !regexp.MustCompile(`^[0-9a-f]{12}$`).MatchString(r.Dims.RunID) || ids[r.Dims.RunID] {
+					t.Fatalf("run %d: run id %q is malformed or repeated", i, r.Dims.RunID)
+				}
+				ids[r.Dims.RunID] = true
+			}
+		})
+	}
+	// load-sweep: 2 topologies × 7 agents × 4 loads × 1 failure = 56 cells, 168 runs.
+	e, err := Load("testdata/examples/load-sweep.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e.Cells() != 56 || len(e.Runs()) != 168 {
+		t.Errorf("load-sweep: %d cells, %d runs; want 56, 168", e.Cells(), len(e.Runs()))
+	}
+}
+
+// TestBundled checks that the bundled experiments parse and that load-sweep
+// and link-failure match the shipped examples.
+func TestBundled(t *testing.T) {
+	want := []string{"demo", "link-failure", "load-sweep", "single-queue"}
+	if got := Bundled(); !slices.Equal(got, want) {
+		t.Fatalf("Bundled() = %v, want %v", got, want)
+	}
+	for _, name := range want {
+		e, err := Resolve(name)
+		if err != nil {
+			t.Fatalf("Resolve(%q): %v", name, err)
+		}
+		if e.Name != name {
+			t.Errorf("bundled %s is named %q", name, e.Name)
+		}
+		if e.Description == "" {
+			t.Errorf("bundled %s has no description", name)
+		}
+		if ex, err := Load(filepath.Join("testdata", "examples", name+".yaml")); err == nil {
+			if len(ex.Runs()) != len(e.Runs()) {
+				t.Errorf("bundled %s has %d runs, the example %d", name, len(e.Runs()), len(ex.Runs()))
+			}
+			for i := range ex.Runs() {
+				if ex.Runs()[i].Dims != e.Runs()[i].Dims {
+					t.Fatalf("bundled %s run %d: %+v, example %+v", name, i, e.Runs()[i].Dims, ex.Runs()[i].Dims)
+				}
+			}
+		}
+	}
+	if _, err := Resolve("no-such-experiment"); err == nil || !strings.Contains(err.Error(), "demo, link-failure") {
+		t.Errorf("Resolve(unknown) = %v, want an error listing the bundled names", err)
+	}
+	if _, err := BundledYAML("mesh-10"); err == nil {
+		t.Errorf("BundledYAML(mesh-10) succeeded; mesh-10 is a topology, not an experiment")
+	}
+}
+
+const seedBase = `
+name: seeds
+duration: 10s
+replicates: 3
+seed: 99
+topologies: [ring, {name: grid, rows: 2, cols: 3}]
+traffic: {matrix: uniform, loads: [0.2, 0.6]}
+agents:
+  - shortest-path
+  - {kind: q-routing, explore: 0.1}
+failures:
+  - none
+  - name: cut
+    events: [{at: 5s, link: [n0, n1], action: down}]
+`
+
+// TestSeedsStable checks that adding cells (a load, an agent, a topology, a
+// failure schedule) leaves every existing run's seeds and id unchanged, and
+// that agents of one cell and replicate share the run seed.
+func TestSeedsStable(t *testing.T) {
+	base, err := Parse("seeds.yaml", []byte(seedBase))
+	if err != nil {
+		t.Fatal(err)
+	}
+	grown := strings.NewReplacer(
+		"loads: [0.2, 0.6]", "loads: [0.2, 0.4, 0.6, 1.0]",
+		"  - shortest-path\n", "  - shortest-path\n  - {kind: central-adaptive, every: 1s}\n",
+		"topologies: [ring,", "topologies: [torus, ring,",
+		"  - none\n", "  - none\n  - {name: flaky, random: {scope: links, mtbf: 5s, mttr: 1s}}\n",
+	).Replace(seedBase)
+	more, err := Parse("seeds.yaml", []byte(grown))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(more.Runs()) <= len(base.Runs()) {
+		t.Fatalf("grown grid has %d runs, base %d", len(more.Runs()), len(base.Runs()))
+	}
+	type key struct {
+		topo, agent, failure string
+		load                 float64
+		rep                  int
+	}
+	k := func(r *Run) key {
+		return key{r.Dims.Topology, r.Dims.Agent, r.Dims.Failure, r.Dims.Load, r.Dims.Replicate}
+	}
+	byKey := map[key]*Run{}
+	for _, r := range more.Runs() {
+		byKey[k(r)] = r
+	}
+	for _, r := range base.Runs() {
+		m, ok := byKey[k(r)]
+		if !ok {
+			t.Fatalf("run %+v missing from the grown grid", r.Dims)
+		}
+		if m.Dims.Seed != r.Dims.Seed || m.Dims.RunID != r.Dims.RunID || m.AgentSeed != r.AgentSeed {
+			t.Errorf("run %+v: grown grid has seed %d id %s agent seed %d, base seed %d id %s agent seed %d",
+				r.Dims, m.Dims.Seed, m.Dims.RunID, m.AgentSeed, r.Dims.Seed, r.Dims.RunID, r.AgentSeed)
+		}
+	}
+	// Common random numbers: one seed per (topology, load, failure, replicate).
+	type cellRep struct {
+		topo, failure string
+		load          float64
+		rep           int
+	}
+	seeds := map[cellRep]uint64{}
+	agentSeeds := map[uint64]bool{}
+	distinct := map[uint64]bool{}
+	for _, r := range base.Runs() {
+		c := cellRep{r.Dims.Topology, r.Dims.Failure, r.Dims.Load, r.Dims.Replicate}
+		if s, ok := seeds[c]; ok && s != r.Dims.Seed {
+			t.Errorf("%+v: agent %s has seed %d, another agent %d", c, r.Dims.Agent, r.Dims.Seed, s)
+		}
+		seeds[c] = r.Dims.Seed
+		distinct[r.Dims.Seed] = true
+		if agentSeeds[r.AgentSeed] {
+			t.Errorf("agent seed %d repeats", r.AgentSeed)
+		}
+		agentSeeds[r.AgentSeed] = true
+	}
+	if len(distinct) != len(seeds) {
+		t.Errorf("%d distinct run seeds for %d (cell, replicate) pairs", len(distinct), len(seeds))
+	}
+	// The experiment seed moves every run seed.
+	other, err := Parse("seeds.yaml", []byte(strings.Replace(seedBase, "seed: 99", "seed: 100", 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, r := range other.Runs() {
+		if r.Dims.Seed == base.Runs()[i].Dims.Seed {
+			t.Errorf("run %d keeps seed %d under another experiment seed", i, r.Dims.Seed)
+		}
+	}
+}
+
+// TestConfig checks what Config builds: rates scaled to the requested
+// normalised load, failures resolved to indices, absolute rates kept.
+func TestConfig(t *testing.T) {
+	e, err := Load("testdata/examples/link-failure.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range e.Runs() {
+		if r.Dims.Failure != "ring-cut" || r.Dims.Replicate != 0 || r.Agent.Kind != "central-adaptive" {
+			continue
+		}
+		cfg, err := r.Config()
+		if err != nil {
+			t.Fatal(err)
+		}
+		// Normalised load (SPEC §2): the busiest channel under hop-count
+		// shortest path carries load × its bandwidth.
+		got := sim.NormalisedLoad(cfg.Net, cfg.Traffic.Rates, cfg.Traffic.Size.Mean())
+		if math.Abs(got-0.6) > 1e-9 {
+			t.Errorf("normalised load of the rates = %g, want 0.6", got)
+		}
+		if cfg.Traffic.Size.Mean() != 0.5*64+0.5*1500 {
+			t.Errorf("mean size %g, want 782", cfg.Traffic.Size.Mean())
+		}
+		if cfg.ControlDelay != 50*sim.Millisecond || cfg.Failures.Detection != DefaultDetection {
+			t.Errorf("control delay %v detection %v", cfg.ControlDelay, cfg.Failures.Detection)
+		}
+		evs := cfg.Failures.Events
+		if len(evs) != 2 || evs[0].At != 150*sim.Second || evs[0].Up || !evs[1].Up || evs[0].Element != "c-d" {
+			t.Fatalf("events %+v", evs)
+		}
+		l := cfg.Net.Graph.Links[evs[0].Links[0]]
+		if cfg.Net.Name(l.A) != "c" || cfg.Net.Name(l.B) != "d" {
+			t.Errorf("event link joins %s and %s, want c and d", cfg.Net.Name(l.A), cfg.Net.Name(l.B))
+		}
+	}
+	q, err := Load("testdata/examples/single-queue.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := q.Runs()[0]
+	cfg, err := r.Config()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if cfg.Traffic.Rates[0][1] != 80 || cfg.Traffic.Rates[1][0] != 0 {
+		t.Errorf("rates %v, want 80/s from src to dst only", cfg.Traffic.Rates)
+	}
+	// 80 packets/s × 1250 bytes × 8 bit on a 1 Mbit/s channel: load 0.8.
+	if math.Abs(r.Dims.Load-0.8) > 1e-12 {
+		t.Errorf("load column %g, want 0.8", r.Dims.Load)
+	}
+}
+
+// TestRandomFailures checks that random failure schedules alternate down and
+// up per element within the run, differ between replicates and are the same
+// for every agent of a cell.
+func TestRandomFailures(t *testing.T) {
+	src := strings.Replace(seedBase, "  - none\n", "  - {name: flaky, random: {scope: links, mtbf: 3s, mttr: 1s}}\n", 1)
+	e, err := Parse("random.yaml", []byte(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	schedules := map[uint64]string{}
+	for _, r := range e.Runs() {
+		if r.Dims.Failure != "flaky" {
+			continue
+		}
+		f := r.Failures()
+		if len(f.Events) == 0 {
+			t.Fatalf("run %s: no random events with mtbf 3s over 10s", r.Dims.RunID)
+		}
+		down := map[int]bool{}
+		for _, ev := range f.Events {
+			if ev.At <= 0 || ev.At >= e.Duration || len(ev.Links) != 1 {
+				t.Fatalf("event %+v outside the run or not one link", ev)
+			}
+			if down[ev.Links[0]] == !ev.Up {
+				t.Fatalf("event %+v repeats the element's state", ev)
+			}
+			down[ev.Links[0]] = !ev.Up
+		}
+		s := fmt.Sprint(f.Events)
+		if prev, ok := schedules[r.Dims.Seed]; ok && prev != s {
+			t.Errorf("agents of one cell see different random failures")
+		}
+		schedules[r.Dims.Seed] = s
+	}
+	distinct := map[string]bool{}
+	for _, s := range schedules {
+		distinct[s] = true
+	}
+	if len(distinct) < 2 {
+		t.Errorf("every replicate draws the same random failures")
+	}
+}
+
+// TestEstimateEvents compares the estimate with the engine's count on the
+// single-queue example: 80 packets/s over one hop for 2000 s. The count of
+// packets is Poisson (sd 0.25% of 160000), so 2% is a wide margin for the
+// estimate's own error.
+func TestEstimateEvents(t *testing.T) {
+	e, err := Load("testdata/examples/single-queue.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := e.Runs()[0]
+	tables, err := r.Execute("test")
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, est := float64(tables.Run.Events), r.EstimateEvents()
+	if math.Abs(est-got) > 0.02*got {
+		t.Errorf("EstimateEvents() = %g, engine processed %g events", est, got)
+	}
+	if tables.Run.RunID != r.Dims.RunID || tables.Run.Version != "test" {
+		t.Errorf("result row has run id %q version %q", tables.Run.RunID, tables.Run.Version)
+	}
+}
+
+func FuzzParse(f *testing.F) {
+	for _, glob := range []string{"testdata/bad/*.yaml", "testdata/examples/*.yaml"} {
+		files, _ := filepath.Glob(glob)
+		for _, p := range files {
+			data, err := os.ReadFile(p)
+			if err != nil {
+				f.Fatal(err)
+			}
+			f.Add(data)
+		}
+	}
+	f.Add([]byte(seedBase))
+	big := regexp.MustCompile(`[0-9]{4,}|e[0-9]`)
+	f.Fuzz(func(t *testing.T, data []byte) {
+		if len(data) > 4096 || big.Match(data) {
+			t.Skip("large sizes cost time, not coverage")
+		}
+		e, err := Parse("testdata/examples/fuzz.yaml", data)
+		if err != nil {
+			var ye *yamlx.Error
+			if !errors.As(err, &ye) {
+				t.Fatalf("error %v (%T) is not a *yamlx.Error", err, err)
+			}
+			return
+		}
+		if e.Cells()*e.Replicates > 10000 {
+			return
+		}
+		if got := len(e.Runs()); got != e.Cells()*e.Replicates {
+			t.Fatalf("%d runs, want %d", got, e.Cells()*e.Replicates)
+		}
+	})
+}
