@@ -35,9 +35,19 @@ type Traffic struct {
 	// Periodic replaces Poisson emission by packets exactly 1/rate apart
 	// (first at 1/rate), for hand-checkable schedules.
 	Periodic bool
+	// Phases scale every rate by Factor from time At on (before the first
+	// phase the factor is 1): load that rises or falls during a run.
+	// Poisson sources follow the changing rate exactly, by thinning.
+	Phases []RatePhase
 	// Flows is the number of flow labels per source–destination pair that
 	// ECMP hashing can spread; 0 means DefaultFlows.
 	Flows int
+}
+
+// RatePhase multiplies all traffic rates by Factor (≥ 0) from At on.
+type RatePhase struct {
+	At     Time
+	Factor float64
 }
 
 // DefaultFlows is the number of flow labels per pair when Traffic.Flows is zero.

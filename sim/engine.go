@@ -63,6 +63,7 @@ type engine struct {
 	flows    int
 	bin      Time
 	nbins    int
+	peak     float64 // largest rate factor of the traffic phases
 
 	pkts []Packet
 	free []int32
@@ -124,6 +125,13 @@ func newEngine(cfg *Config) (*engine, error) {
 	e.nbins = int((cfg.Duration + cfg.Bin - 1) / cfg.Bin)
 	if err := checkTraffic(cfg, N); err != nil {
 		return nil, err
+	}
+	e.peak = 1
+	for i, ph := range cfg.Traffic.Phases {
+		if ph.Factor < 0 || math.IsNaN(ph.Factor) || math.IsInf(ph.Factor, 0) || (i > 0 && ph.At < cfg.Traffic.Phases[i-1].At) {
+			return nil, fmt.Errorf("sim: traffic phase %d: factors must be finite and non-negative, times in order", i)
+		}
+		e.peak = math.Max(e.peak, ph.Factor)
 	}
 	e.ch = make([]chanState, len(net.Channels))
 	for i := range e.ch {
@@ -337,11 +345,30 @@ func (e *engine) drawSize(s *SizeDist, r *rand.Rand) int {
 	}
 }
 
+// factor returns the rate factor of the traffic phases at the current time.
+func (e *engine) factor() float64 {
+	f := 1.0
+	for _, ph := range e.cfg.Traffic.Phases {
+		if ph.At > e.now {
+			break
+		}
+		f = ph.Factor
+	}
+	return f
+}
+
+// interarrival draws the time to a source's next emission candidate. With
+// phases, Poisson candidates come at the peak rate and generate accepts
+// each with probability factor/peak (thinning: Lewis & Shedler 1979).
 func (e *engine) interarrival(src *source) Time {
 	if e.cfg.Traffic.Periodic {
-		return Time(math.Round(1e9 / src.rate))
+		f := e.factor()
+		if f <= 0 {
+			return e.bin // look again later
+		}
+		return Time(math.Round(1e9 / (src.rate * f)))
 	}
-	return Time(math.Ceil(src.rArr.ExpFloat64() / src.rate * 1e9))
+	return Time(math.Ceil(src.rArr.ExpFloat64() / (src.rate * e.peak) * 1e9))
 }
 
 func (e *engine) generate(s int) {
@@ -349,6 +376,13 @@ func (e *engine) generate(s int) {
 	// the Poisson process keeps ticking even while the node is down, so that
 	// a failure does not shift the random streams of later packets
 	e.schedule(e.now+e.interarrival(src), evGen, int32(s), 0, 0)
+	if e.cfg.Traffic.Phases != nil && !e.cfg.Traffic.Periodic {
+		if src.rArr.Float64()*e.peak >= e.factor() {
+			return
+		}
+	} else if e.cfg.Traffic.Periodic && e.factor() <= 0 {
+		return
+	}
 	d := src.dst.draw(src.rDst)
 	size := e.drawSize(&e.cfg.Traffic.Size, src.rSize)
 	flow := uint32(src.rFlow.IntN(e.flows))

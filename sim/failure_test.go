@@ -1,6 +1,7 @@
 package sim_test
 
 import (
+	"math"
 	"testing"
 
 	"hoplore/agents"
@@ -120,5 +121,26 @@ func TestRandomFailuresDeterministic(t *testing.T) {
 	}
 	if len(c) == len(a) && c[0].At == a[0].At {
 		t.Errorf("another seed gave the same schedule")
+	}
+}
+
+// Traffic phases change the Poisson rate exactly: thinning keeps a Poisson
+// process of the new rate (Lewis & Shedler, Simulation of nonhomogeneous
+// Poisson processes by thinning, 1979). Counts per phase match rate × time
+// within a 99.9% normal interval (Poisson variance = mean).
+func TestTrafficPhases(t *testing.T) {
+	net := sim.Compile(lineGraph([]float64{100e6}, []sim.Time{0}, 1000))
+	cfg := &sim.Config{Net: net, Agent: shortest(t, net), Seed: 4, Duration: 300 * sim.Second, Warmup: 0, Bin: 100 * sim.Second,
+		Traffic: sim.Traffic{Rates: oneFlow(2, 0, 1, 200), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 100},
+			Phases: []sim.RatePhase{{At: 100 * sim.Second, Factor: 2.5}, {At: 200 * sim.Second, Factor: 0.25}}}}
+	r, err := sim.Run(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, want := range []float64{200 * 100, 500 * 100, 50 * 100} {
+		got := float64(r.Series[i].Generated)
+		if tol := 3.29 * math.Sqrt(want); math.Abs(got-want) > tol {
+			t.Errorf("phase %d: %g packets, want %g ± %.0f", i, got, want, tol)
+		}
 	}
 }
