@@ -26,7 +26,7 @@ type checker struct {
 }
 
 func (c *checker) errf(pos yamlx.Pos, format string, args ...any) error {
-	return yamlx.Errorf(c.file, pos, "experiments: "+format, args...)
+	return yamlx.Errorf(c.file, pos, format, args...)
 }
 
 var top = yamlx.Pos{Line: 1, Col: 1}
