@@ -1,0 +1,31 @@
+// Package sim is hoplore's kernel: a packet-level discrete-event simulator
+// of a network of store-and-forward routers.
+//
+// Time is integer nanoseconds (Time). Events run in (time, sequence) order
+// from a typed 4-ary heap, so a run is a pure function of its Config. A
+// Graph (nodes, links) is compiled into a Net whose links are two
+// independent directed channels, each with a bandwidth (bit/s), a
+// propagation delay and a FIFO output queue whose Buffer counts waiting
+// packets, not the one being transmitted (Buffer K−1 makes an M/M/1/K
+// queue). Transmission takes size·8/bandwidth, then the packet propagates.
+//
+// Sources emit Poisson traffic (or periodic, for hand-checked schedules)
+// from a rate matrix, destinations drawn in O(1) from an alias table;
+// sizes are fixed, exponential or bimodal, kept on every hop or redrawn
+// per hop. Failures take links and nodes down and up: what is queued,
+// transmitting or propagating on a failed channel is lost (link_down), a
+// failed node loses what it holds (node_down) and stops emitting; end nodes
+// detect after the schedule's detection delay, and link-state news floods
+// to every node at detection plus the propagation distance.
+//
+// Routing is delegated to agents through small interfaces declared here
+// (PerNode/Router with optional Arrivals, Receiver, Detector, LinkStater,
+// Timed; or Central). A per-node router sees the network only through a
+// *NodeView of its own node; a central agent only through Snapshots that
+// are ControlDelay old. sim imports no other hoplore package.
+//
+// Every count in a Result covers data packets generated after the warm-up,
+// and Run verifies conservation: generated = delivered + dropped + in
+// flight. Delivery-time percentiles come from a log-bucketed Histogram with
+// relative error below 1%.
+package sim
