@@ -38,6 +38,9 @@ type Experiment struct {
 	// every topology file it references, in order: two experiments with the
 	// same Hash describe the same runs.
 	Hash string
+	// TopologyFiles are the topology files the experiment references, as
+	// written in it (relative to its directory unless absolute).
+	TopologyFiles []string
 
 	Duration, Warmup, Bin sim.Time
 	Replicates            int

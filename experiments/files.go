@@ -122,6 +122,35 @@ func BundledYAML(name string) ([]byte, error) {
 	return nil, fmt.Errorf("experiments: no bundled experiment %q (bundled: %s)", name, strings.Join(Bundled(), ", "))
 }
 
+// BundledFile is one file of a bundled experiment.
+type BundledFile struct {
+	Name string // path relative to the experiment's directory
+	Data []byte
+}
+
+// BundledFiles returns the files the bundled experiment name consists of:
+// NAME.yaml first, then the topology files it references, named as it names
+// them. Written side by side into one directory they run as they are.
+func BundledFiles(name string) ([]BundledFile, error) {
+	data, err := BundledYAML(name)
+	if err != nil {
+		return nil, err
+	}
+	e, err := LoadBundled(name)
+	if err != nil {
+		return nil, err
+	}
+	out := []BundledFile{{Name: name + ".yaml", Data: data}}
+	for _, f := range e.TopologyFiles {
+		b, err := fs.ReadFile(bundledFS, embedFiles{}.resolve(path.Join(bundledDir, name+".yaml"), f))
+		if err != nil {
+			return nil, fmt.Errorf("experiments: bundled %s: %w", name, err)
+		}
+		out = append(out, BundledFile{Name: f, Data: b})
+	}
+	return out, nil
+}
+
 // LoadBundled parses the bundled experiment name. Its topology files are read
 // from the bundled files, and messages name it bundled/NAME.yaml.
 func LoadBundled(name string) (*Experiment, error) {

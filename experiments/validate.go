@@ -23,6 +23,7 @@ type checker struct {
 	files fileSource
 	raw   *fileYAML
 	extra [][]byte // bytes of referenced topology files, for the hash
+	names []string // their paths as written
 }
 
 func (c *checker) errf(pos yamlx.Pos, format string, args ...any) error {
@@ -110,6 +111,7 @@ func (c *checker) experiment() (*Experiment, error) {
 			return nil, err
 		}
 	}
+	e.TopologyFiles = c.names
 	return e, nil
 }
 
@@ -192,6 +194,7 @@ func (c *checker) topology(i int, t *topoYAML) (*sim.Graph, string, error) {
 			return nil, "", c.errf(t.File.Pos, "topologies[%d]: file: cannot read %q: %v", i, t.File.S, unwrapPathErr(err))
 		}
 		c.extra = append(c.extra, data)
+		c.names = append(c.names, t.File.S)
 		g, err := c.files.load(p, data)
 		if err != nil {
 			var ye *yamlx.Error
