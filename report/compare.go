@@ -54,11 +54,11 @@ func Compare(d *Data, a, b string) ([]Comparison, error) {
 	agents := d.Agents()
 	for _, l := range []string{a, b} {
 		if !slices.Contains(agents, l) {
-			return nil, fmt.Errorf("report: no agent %q in %s (agents: %s)", l, d.Dir, strings.Join(agents, ", "))
+			return nil, inputErr("report: no agent %q in %s (agents: %s)", l, d.Dir, strings.Join(agents, ", "))
 		}
 	}
 	if a == b {
-		return nil, fmt.Errorf("report: --a and --b are both %q", a)
+		return nil, inputErr("report: --a and --b are both %q", a)
 	}
 	type key struct {
 		p   Panel
@@ -124,7 +124,7 @@ func Compare(d *Data, a, b string) ([]Comparison, error) {
 		}
 	}
 	if len(out) == 0 {
-		return nil, fmt.Errorf("report: agents %q and %q never ran the same replicate of the same cell", a, b)
+		return nil, inputErr("report: agents %q and %q never ran the same replicate of the same cell", a, b)
 	}
 	return out, nil
 }

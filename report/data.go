@@ -3,7 +3,6 @@ package report
 import (
 	"cmp"
 	"errors"
-	"fmt"
 	"math"
 	"path/filepath"
 	"slices"
@@ -170,7 +169,7 @@ func Load(dir string) (*Data, error) {
 		}
 	}
 	if len(d.Runs) == 0 {
-		return nil, fmt.Errorf("report: %s: no runs", filepath.Join(dir, "runs.parquet"))
+		return nil, inputErr("report: %s: no runs", filepath.Join(dir, "runs.parquet"))
 	}
 	return d, nil
 }

@@ -39,7 +39,7 @@ func readTable(path string, required, optional []string) (*table, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
-			return nil, fmt.Errorf("report: %s: %w", path, errNoFile)
+			return nil, &InputError{fmt.Errorf("report: %s: %w", path, errNoFile)}
 		}
 		return nil, fmt.Errorf("report: %w", err)
 	}
@@ -58,7 +58,7 @@ func readTable(path string, required, optional []string) (*table, error) {
 		leaf, ok := pf.Schema().Lookup(name)
 		if !ok {
 			if must {
-				return fmt.Errorf("report: %s: missing column %q", path, name)
+				return inputErr("report: %s: missing column %q", path, name)
 			}
 			return nil
 		}
@@ -188,4 +188,19 @@ func (t *table) s(name string, i int) string {
 		return c.str[i]
 	}
 	return fmt.Sprint(c.num[i])
+}
+
+// InputError marks an error caused by the user's input (a folder without
+// results, an unknown agent label, an option naming nothing): the command
+// line maps it to exit status 2.
+type InputError struct{ Err error }
+
+func (e *InputError) Error() string { return e.Err.Error() }
+func (e *InputError) Unwrap() error { return e.Err }
+
+// InputError reports true.
+func (e *InputError) InputError() bool { return true }
+
+func inputErr(format string, args ...any) error {
+	return &InputError{fmt.Errorf(format, args...)}
 }

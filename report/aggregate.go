@@ -1,0 +1,418 @@
+package report
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+)
+
+// Point is one estimate at one x value.
+type Point struct {
+	X   float64
+	Est Estimate
+}
+
+// Curve is one agent's line in a panel.
+type Curve struct {
+	Agent  string
+	Points []Point
+}
+
+// LoadPanel holds, for one topology and failure schedule, each agent's
+// curve of a runs.parquet metric against normalised load: the mean across
+// replicates and its 95% confidence half-width.
+type LoadPanel struct {
+	Topology string
+	Failure  string
+	Curves   []Curve // one per agent, in Data.Agents order; agents absent from the panel are left out
+}
+
+// LoadCurves aggregates metric (one of CompareMetrics) by topology, failure
+// schedule, agent and load.
+func LoadCurves(d *Data, metricName string) []LoadPanel {
+	type key struct {
+		Cell
+	}
+	vals := map[Cell][]float64{}
+	for _, r := range d.Runs {
+		vals[r.Cell] = append(vals[r.Cell], metric(r, metricName))
+	}
+	var out []LoadPanel
+	for _, topo := range d.Topologies() {
+		for _, fail := range d.Failures() {
+			lp := LoadPanel{Topology: topo, Failure: fail}
+			for _, ag := range d.Agents() {
+				c := Curve{Agent: ag}
+				for _, load := range d.Loads() {
+					v, ok := vals[Cell{topo, ag, load, fail}]
+					if !ok {
+						continue
+					}
+					c.Points = append(c.Points, Point{X: load, Est: MeanCI(v)})
+				}
+				if len(c.Points) > 0 {
+					lp.Curves = append(lp.Curves, c)
+				}
+			}
+			if len(lp.Curves) > 0 {
+				out = append(out, lp)
+			}
+		}
+	}
+	return out
+}
+
+// Event is a failure event as recorded in recoveries.parquet.
+type Event struct {
+	Topology string
+	Failure  string
+	At       float64 // s
+	Element  string
+	Action   string
+}
+
+// String describes the event, e.g. "c–d down at 300 s".
+func (e Event) String() string {
+	return fmt.Sprintf("%s %s at %s s", e.Element, e.Action, fmtNum(e.At))
+}
+
+// AgentRecovery summarises one agent's recovery from an event across the
+// replicates in which the event happened.
+type AgentRecovery struct {
+	Agent        string
+	Runs         int      // replicates with the event
+	NotRecovered int      // of which never recovered (recovery_s null)
+	Recovery     Estimate // s, over the recovered replicates
+	Lost         Estimate // packets lost, over all replicates with the event
+}
+
+// EventPanel holds, for one event at one load, each agent's delivery time
+// and loss per bin around the event, as mean and 95% CI across the
+// replicates in which the event happened. X is the bin's midpoint minus the
+// event time, in seconds.
+type EventPanel struct {
+	Event
+	Load     float64
+	Bin      float64   // bin width, s
+	Delivery []Curve   // mean delivery time per bin, s
+	Loss     []Curve   // dropped/generated per bin
+	Others   []Event   // other events of the same schedule inside the window
+	Recovery []AgentRecovery
+}
+
+// EventOptions chooses what EventCurves shows.
+type EventOptions struct {
+	Load      float64 // normalised load of the runs shown
+	PreBins   int     // bins shown before the event
+	PostBins  int     // bins shown after the event
+	MaxEvents int     // per topology and schedule; the events present in most replicates, then earliest
+}
+
+// EventCurves aggregates series.parquet around each failure event of
+// recoveries.parquet at load o.Load. Bins are aligned on the event:
+// bin k holds the bins whose start s satisfies k = floor((s − at)/w + ε).
+func EventCurves(d *Data, o EventOptions) []EventPanel {
+	// events and the replicates they happened in, per agent
+	type evKey struct {
+		Event
+	}
+	type runKey struct {
+		Cell
+		Replicate int
+	}
+	evReps := map[Event]map[string][]Recovery{}
+	var events []Event
+	for _, r := range d.Recoveries {
+		if r.Load != o.Load {
+			continue
+		}
+		e := Event{r.Topology, r.Failure, r.At, r.Element, r.Action}
+		if evReps[e] == nil {
+			evReps[e] = map[string][]Recovery{}
+			events = append(events, e)
+		}
+		evReps[e][r.Agent] = append(evReps[e][r.Agent], r)
+	}
+	count := func(e Event) int {
+		n := 0
+		for _, rs := range evReps[e] {
+			n += len(rs)
+		}
+		return n
+	}
+	slices.SortFunc(events, func(a, b Event) int {
+		return cmp.Or(cmp.Compare(a.Topology, b.Topology), compareFailure(a.Failure, b.Failure),
+			cmp.Compare(a.At, b.At), cmp.Compare(a.Element, b.Element), cmp.Compare(a.Action, b.Action))
+	})
+	// choose up to MaxEvents per (topology, failure)
+	var chosen []Event
+	for i := 0; i < len(events); {
+		j := i
+		for j < len(events) && events[j].Topology == events[i].Topology && events[j].Failure == events[i].Failure {
+			j++
+		}
+		group := slices.Clone(events[i:j])
+		slices.SortStableFunc(group, func(a, b Event) int { return cmp.Compare(count(b), count(a)) })
+		if o.MaxEvents > 0 && len(group) > o.MaxEvents {
+			group = group[:o.MaxEvents]
+		}
+		slices.SortStableFunc(group, func(a, b Event) int { return cmp.Compare(a.At, b.At) })
+		chosen = append(chosen, group...)
+		i = j
+	}
+	bins := map[runKey][]Bin{}
+	for _, b := range d.Series {
+		if b.Load == o.Load {
+			k := runKey{b.Cell, b.Replicate}
+			bins[k] = append(bins[k], b)
+		}
+	}
+	var out []EventPanel
+	for _, e := range chosen {
+		ep := EventPanel{Event: e, Load: o.Load}
+		// bin width from the first run's series
+		for _, ag := range d.Agents() {
+			for _, rec := range evReps[e][ag] {
+				if bs := bins[runKey{rec.Cell, rec.Replicate}]; len(bs) > 0 && ep.Bin == 0 {
+					ep.Bin = bs[0].End - bs[0].Start
+				}
+			}
+		}
+		if ep.Bin <= 0 {
+			continue
+		}
+		lo, hi := -float64(o.PreBins)*ep.Bin, float64(o.PostBins)*ep.Bin
+		for _, other := range events {
+			if other != e && other.Topology == e.Topology && other.Failure == e.Failure &&
+				other.At-e.At >= lo && other.At-e.At <= hi && count(other) > 0 {
+				ep.Others = append(ep.Others, other)
+			}
+		}
+		for _, ag := range d.Agents() {
+			recs := evReps[e][ag]
+			if len(recs) == 0 {
+				continue
+			}
+			ar := AgentRecovery{Agent: ag, Runs: len(recs)}
+			var rec, lost []float64
+			delay, loss := map[int][]float64{}, map[int][]float64{}
+			for _, r := range recs {
+				lost = append(lost, float64(r.Lost))
+				if math.IsNaN(r.Recovery) {
+					ar.NotRecovered++
+				} else {
+					rec = append(rec, r.Recovery)
+				}
+				for _, b := range bins[runKey{r.Cell, r.Replicate}] {
+					k := int(math.Floor((b.Start-e.At)/ep.Bin + 1e-9))
+					if k < -o.PreBins || k >= o.PostBins {
+						continue
+					}
+					delay[k] = append(delay[k], b.DeliveryMean)
+					loss[k] = append(loss[k], b.Loss())
+				}
+			}
+			ar.Recovery, ar.Lost = MeanCI(rec), MeanCI(lost)
+			ep.Recovery = append(ep.Recovery, ar)
+			ep.Delivery = append(ep.Delivery, binCurve(ag, delay, ep.Bin))
+			ep.Loss = append(ep.Loss, binCurve(ag, loss, ep.Bin))
+		}
+		out = append(out, ep)
+	}
+	return out
+}
+
+func binCurve(agent string, vals map[int][]float64, w float64) Curve {
+	ks := make([]int, 0, len(vals))
+	for k := range vals {
+		ks = append(ks, k)
+	}
+	slices.Sort(ks)
+	c := Curve{Agent: agent}
+	for _, k := range ks {
+		c.Points = append(c.Points, Point{X: (float64(k) + 0.5) * w, Est: MeanCI(vals[k])})
+	}
+	return c
+}
+
+// Heat is a grid of values, rows by columns, each the mean across
+// replicates; NaN where no run reported the pair.
+type Heat struct {
+	Rows   []string
+	Cols   []string
+	Values [][]float64 // [row][col]
+}
+
+// BusiestPanel returns the panel (topology, load, failure) whose channels
+// are busiest: the highest mean utilisation over all channels, agents and
+// replicates in links.parquet (ties: the first in sorted order). ok is
+// false when there is no link table.
+func BusiestPanel(d *Data) (p Panel, ok bool) {
+	sum, n := map[Panel]float64{}, map[Panel]int{}
+	for _, c := range d.Channels {
+		k := Panel{c.Topology, c.Load, c.Failure}
+		if !math.IsNaN(c.Util) {
+			sum[k] += c.Util
+			n[k]++
+		}
+	}
+	var ps []Panel
+	for k := range n {
+		ps = append(ps, k)
+	}
+	slices.SortFunc(ps, comparePanel)
+	best := math.Inf(-1)
+	for _, k := range ps {
+		if m := sum[k] / float64(n[k]); m > best {
+			best, p, ok = m, k, true
+		}
+	}
+	return p, ok
+}
+
+// ChannelHeat returns the mean utilisation of each directed channel (columns,
+// "from→to") under each agent (rows) in panel p, across replicates. Columns
+// are sorted by their highest utilisation under any agent, descending, and
+// cut to the first maxCols (all when maxCols <= 0).
+func ChannelHeat(d *Data, p Panel, maxCols int) Heat {
+	type key struct {
+		agent, ch string
+	}
+	vals := map[key][]float64{}
+	chSet := map[string]bool{}
+	for _, c := range d.Channels {
+		if c.Topology != p.Topology || c.Load != p.Load || c.Failure != p.Failure {
+			continue
+		}
+		ch := c.From + "→" + c.To
+		chSet[ch] = true
+		vals[key{c.Agent, ch}] = append(vals[key{c.Agent, ch}], c.Util)
+	}
+	h := Heat{}
+	for _, ag := range d.Agents() {
+		for k := range vals {
+			if k.agent == ag {
+				h.Rows = append(h.Rows, ag)
+				break
+			}
+		}
+	}
+	peak := map[string]float64{}
+	for ch := range chSet {
+		h.Cols = append(h.Cols, ch)
+		peak[ch] = math.Inf(-1)
+	}
+	mean := map[key]float64{}
+	for k, v := range vals {
+		m := MeanCI(v).Mean
+		mean[k] = m
+		if m > peak[k.ch] {
+			peak[k.ch] = m
+		}
+	}
+	slices.SortFunc(h.Cols, func(a, b string) int { return cmp.Or(cmp.Compare(peak[b], peak[a]), cmp.Compare(a, b)) })
+	if maxCols > 0 && len(h.Cols) > maxCols {
+		h.Cols = h.Cols[:maxCols]
+	}
+	for _, ag := range h.Rows {
+		row := make([]float64, len(h.Cols))
+		for j, ch := range h.Cols {
+			if m, ok := mean[key{ag, ch}]; ok {
+				row[j] = m
+			} else {
+				row[j] = math.NaN()
+			}
+		}
+		h.Values = append(h.Values, row)
+	}
+	return h
+}
+
+// TimeHeat returns the busiest channel's utilisation per bin (columns: bin
+// start in seconds, formatted) under each agent (rows) in panel p, as the
+// mean across replicates of series.parquet's util_max.
+func TimeHeat(d *Data, p Panel) (h Heat, starts []float64) {
+	type key struct {
+		agent string
+		start float64
+	}
+	vals := map[key][]float64{}
+	startSet := map[float64]bool{}
+	agents := map[string]bool{}
+	for _, b := range d.Series {
+		if b.Topology != p.Topology || b.Load != p.Load || b.Failure != p.Failure {
+			continue
+		}
+		vals[key{b.Agent, b.Start}] = append(vals[key{b.Agent, b.Start}], b.UtilMax)
+		startSet[b.Start] = true
+		agents[b.Agent] = true
+	}
+	for s := range startSet {
+		starts = append(starts, s)
+	}
+	slices.Sort(starts)
+	for _, ag := range d.Agents() {
+		if !agents[ag] {
+			continue
+		}
+		h.Rows = append(h.Rows, ag)
+		row := make([]float64, len(starts))
+		for j, s := range starts {
+			row[j] = MeanCI(vals[key{ag, s}]).Mean
+		}
+		h.Values = append(h.Values, row)
+	}
+	for _, s := range starts {
+		h.Cols = append(h.Cols, fmtNum(s))
+	}
+	return h, starts
+}
+
+// TableRow is one panel of a cell table: each agent's estimate of a metric
+// (NaN mean where the agent did not run) and which agents are best (lowest
+// mean; ties all marked).
+type TableRow struct {
+	Panel
+	Est  []Estimate
+	Best []bool
+}
+
+// CellTable returns, for every panel, each agent's mean and 95% CI of
+// metric (one of CompareMetrics) across replicates, agents in Data.Agents
+// order.
+func CellTable(d *Data, metricName string) []TableRow {
+	vals := map[Cell][]float64{}
+	panels := map[Panel]bool{}
+	for _, r := range d.Runs {
+		vals[r.Cell] = append(vals[r.Cell], metric(r, metricName))
+		panels[Panel{r.Topology, r.Load, r.Failure}] = true
+	}
+	var ps []Panel
+	for p := range panels {
+		ps = append(ps, p)
+	}
+	slices.SortFunc(ps, comparePanel)
+	agents := d.Agents()
+	var out []TableRow
+	for _, p := range ps {
+		row := TableRow{Panel: p, Est: make([]Estimate, len(agents)), Best: make([]bool, len(agents))}
+		best := math.Inf(1)
+		for i, ag := range agents {
+			v, ok := vals[Cell{p.Topology, ag, p.Load, p.Failure}]
+			if !ok {
+				row.Est[i] = Estimate{Mean: math.NaN(), CI95: math.NaN()}
+				continue
+			}
+			row.Est[i] = MeanCI(v)
+			if m := row.Est[i].Mean; !math.IsNaN(m) && m < best {
+				best = m
+			}
+		}
+		for i := range agents {
+			row.Best[i] = row.Est[i].Mean == best
+		}
+		out = append(out, row)
+	}
+	return out
+}

@@ -1,0 +1,102 @@
+package report
+
+// pageHTML is the report page. It loads nothing from outside: styles and
+// the image check are inline, charts are data URLs. The script at the end
+// marks the body with data-images="ok" once every chart image has decoded,
+// so a headless browser's DOM dump shows whether the page rendered.
+const pageHTML = `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="color-scheme" content="light dark">
+<title>hoplore report: {{.Name}}</title>
+<style>
+:root { --ink:#1b1b1b; --muted:#5c5c5c; --bg:#f6f6f4; --card:#ffffff; --line:#dcdcdc; --best:#d9ecf7; --accent:#0072B2; }
+@media (prefers-color-scheme: dark) {
+  :root { --ink:#e8e8e8; --muted:#a6a6a6; --bg:#121214; --card:#1c1c1e; --line:#3c3c3c; --best:#123a52; --accent:#56B4E9; }
+}
+* { box-sizing: border-box; }
+body { margin:0; background:var(--bg); color:var(--ink); font:15px/1.45 "Liberation Sans", Arial, Helvetica, sans-serif; }
+header, main { max-width: 1200px; margin: 0 auto; padding: 0 20px; }
+header { padding-top: 24px; }
+h1 { font-size: 1.5em; margin: 0 0 4px; }
+h2 { font-size: 1.2em; margin: 32px 0 8px; }
+h3 { font-size: 1em; margin: 18px 0 6px; }
+dl.facts { display:grid; grid-template-columns: max-content 1fr; gap: 2px 14px; margin: 10px 0; color: var(--muted); }
+dl.facts dt { font-weight: bold; color: var(--ink); }
+dl.facts dd { margin: 0; }
+nav ol { columns: 2; padding-left: 1.2em; }
+a { color: var(--accent); }
+figure.chart { background:var(--card); border:1px solid var(--line); border-radius:6px; margin: 12px 0 20px; padding: 10px; overflow-x: auto; }
+figure.chart img { display:block; max-width:100%; height:auto; }
+figcaption { color: var(--muted); font-size: 0.9em; margin-top: 6px; }
+table { border-collapse: collapse; background: var(--card); margin: 8px 0 20px; font-size: 0.9em; }
+th, td { border: 1px solid var(--line); padding: 4px 8px; text-align: right; white-space: nowrap; }
+th { background: var(--bg); }
+td.dim { text-align: left; }
+td.best { background: var(--best); font-weight: bold; }
+td.best::after { content: " ★"; color: var(--accent); }
+.note { color: var(--muted); }
+.scroll { overflow-x: auto; }
+</style>
+</head>
+<body data-images="pending">
+<header>
+<h1>Experiment {{.Name}}</h1>
+<dl class="facts">
+<dt>runs</dt><dd>{{.Runs}} ({{.Replicates}} replicates per cell)</dd>
+<dt>topologies</dt><dd>{{.Topologies}}</dd>
+<dt>agents</dt><dd>{{range $i, $a := .Agents}}{{if $i}}, {{end}}{{$a}}{{end}}</dd>
+<dt>loads</dt><dd>{{.Loads}} (normalised: 1 saturates the busiest channel under hop-count shortest path)</dd>
+<dt>failure schedules</dt><dd>{{.Failures}}</dd>
+</dl>
+<nav aria-label="contents"><ol>
+{{range .Charts}}<li><a href="#{{.ID}}">{{.Title}}</a></li>
+{{end}}{{if .Events}}<li><a href="#recovery">Recovery after each failure event</a></li>
+{{end}}{{range .Tables}}<li><a href="#{{.ID}}">Table: {{.Title}}</a></li>
+{{end}}</ol></nav>
+{{range .Notes}}<p class="note">{{.}}</p>
+{{end}}</header>
+<main>
+{{range .Charts}}<section class="chart-section">
+<h2>{{.Title}}</h2>
+<figure class="chart" id="{{.ID}}" data-chart="{{.ID}}">
+<img class="chart-img" id="img-{{.ID}}" alt="{{.Title}}" src="{{.Src}}">
+<figcaption>{{.Caption}}</figcaption>
+</figure>
+</section>
+{{end}}{{if .Events}}<section id="recovery">
+<h2>Recovery after each failure event</h2>
+<p class="note">Recovery time: from the event until binned delivery time and loss are back near their pre-event level for three bins in a row; mean ± 95% CI over the replicates that recovered.</p>
+{{range .Events}}<h3>{{.Topology}} · {{.Failure}}: {{.Event}} (load {{.Load}})</h3>
+<table class="recovery"><thead><tr><th>agent</th><th>recovery time</th><th>never recovered</th><th>packets lost (mean)</th></tr></thead><tbody>
+{{range .Rows}}<tr><td class="dim">{{.Agent}}</td><td>{{.Recovery}}</td><td>{{.NotRecovered}}</td><td>{{.Lost}}</td></tr>
+{{end}}</tbody></table>
+{{end}}</section>
+{{end}}{{range .Tables}}<section class="table-section">
+<h2 id="{{.ID}}">{{.Title}} ({{.Unit}}), mean ± 95% CI</h2>
+<p class="note">★ marks the lowest mean in each row.</p>
+<div class="scroll"><table class="cells" data-table="{{.ID}}">
+<thead><tr><th>topology</th><th>load</th><th>failures</th>{{range .Agents}}<th>{{.}}</th>{{end}}</tr></thead>
+<tbody>
+{{range .Rows}}<tr><td class="dim">{{.Topology}}</td><td>{{.Load}}</td><td class="dim">{{.Failure}}</td>{{range .Cells}}<td{{if .Best}} class="best"{{end}} title="{{.Title}}">{{.Text}}</td>{{end}}</tr>
+{{end}}</tbody></table></div>
+</section>
+{{end}}</main>
+<script>
+window.addEventListener("load", function () {
+  var imgs = document.querySelectorAll("img");
+  var ok = 0;
+  for (var i = 0; i < imgs.length; i++) {
+    if (imgs[i].complete && imgs[i].naturalWidth > 0) { ok++; imgs[i].setAttribute("data-decoded", "yes"); }
+    else { imgs[i].setAttribute("data-decoded", "no"); }
+  }
+  document.body.setAttribute("data-images-total", String(imgs.length));
+  document.body.setAttribute("data-images-decoded", String(ok));
+  document.body.setAttribute("data-images", ok === imgs.length ? "ok" : "failed");
+});
+</script>
+</body>
+</html>
+`

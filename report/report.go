@@ -1,0 +1,373 @@
+package report
+
+import (
+	"bytes"
+	"encoding/base64"
+	"fmt"
+	"html/template"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+)
+
+// Options choose what Write draws. The zero value gives the defaults.
+type Options struct {
+	// Out is the folder written; default DIR/report.
+	Out string
+	// LinkTopology, LinkLoad and LinkFailure choose the cell (all agents)
+	// whose link utilisation is drawn. Unset fields are free; among the
+	// matching cells the busiest (highest mean channel utilisation) is used.
+	LinkTopology string
+	LinkLoad     *float64
+	LinkFailure  string
+	// EventLoad is the load whose runs the failure-event charts show;
+	// default the highest load not above 1 that has failure events, else
+	// the lowest.
+	EventLoad *float64
+	// MaxEvents caps the events drawn per topology and failure schedule
+	// (default 4).
+	MaxEvents int
+	// MaxChannels caps the channels of the utilisation chart (default 48,
+	// the busiest).
+	MaxChannels int
+	// EmbedFonts embeds the fonts in the SVG files (about 0.5 MB each);
+	// otherwise they name Liberation Sans with metric-compatible fallbacks.
+	EmbedFonts bool
+	// DPI of the PNG files (default 144).
+	DPI float64
+}
+
+func (o Options) withDefaults(dir string) Options {
+	if o.Out == "" {
+		o.Out = filepath.Join(dir, "report")
+	}
+	if o.MaxEvents <= 0 {
+		o.MaxEvents = 4
+	}
+	if o.MaxChannels <= 0 {
+		o.MaxChannels = 48
+	}
+	if o.DPI <= 0 {
+		o.DPI = 144
+	}
+	return o
+}
+
+// Report is everything the HTML page shows, built from Data.
+type Report struct {
+	Data    *Data
+	Charts  []*chart
+	Tables  []htmlTable
+	Events  []EventPanel
+	Notes   []string
+	options Options
+}
+
+// Build aggregates d into charts and tables. It fails only on an option
+// that names nothing in d.
+func Build(d *Data, o Options) (*Report, error) {
+	o = o.withDefaults(d.Dir)
+	r := &Report{Data: d, options: o}
+	agents := d.Agents()
+	for _, m := range []struct{ metric, id, title, caption string }{
+		{"delivery_mean_s", "delivery-mean", "Mean delivery time against load",
+			"Mean delivery time of the packets delivered in the measured window, per agent, against offered load. One panel per topology (rows) and failure schedule (columns)."},
+		{"delivery_p95_s", "delivery-p95", "95th percentile of delivery time against load",
+			"The tail: 95th percentile of the delivery time of packets delivered in the measured window."},
+		{"loss_rate", "loss", "Loss rate against load",
+			"Share of the packets generated in the measured window that were dropped (any reason)."},
+	} {
+		r.Charts = append(r.Charts, loadChart(m.id, m.title, m.caption, LoadCurves(d, m.metric), agents, m.metric))
+	}
+	// failure events
+	if len(d.Recoveries) > 0 {
+		load, ok := eventLoad(d, o.EventLoad)
+		if !ok {
+			return nil, inputErr("report: no failure events at load %s", fmtNum(*o.EventLoad))
+		}
+		eps := EventCurves(d, EventOptions{Load: load, PreBins: 10, PostBins: 30, MaxEvents: o.MaxEvents})
+		r.Events = eps
+		for i := 0; i < len(eps); {
+			j := i
+			for j < len(eps) && eps[j].Topology == eps[i].Topology && eps[j].Failure == eps[i].Failure {
+				j++
+			}
+			e := eps[i]
+			r.Charts = append(r.Charts, eventChart("event-"+slug(e.Topology)+"-"+slug(e.Failure),
+				fmt.Sprintf("Around each failure event: %s, schedule %s, load %s", e.Topology, e.Failure, fmtNum(load)),
+				"Delivery time and loss per time bin, aligned on each failure event, mean across the replicates in which the event happened.",
+				eps[i:j], agents))
+			i = j
+		}
+	} else {
+		r.Notes = append(r.Notes, "No failure events in this experiment (recoveries.parquet is absent or empty).")
+	}
+	// link utilisation
+	if p, ok, err := linkPanel(d, o); err != nil {
+		return nil, err
+	} else if ok {
+		h := ChannelHeat(d, p, o.MaxChannels)
+		if len(h.Rows) > 0 && len(h.Cols) > 0 {
+			r.Charts = append(r.Charts, channelChart("links", "Link utilisation per channel",
+				fmt.Sprintf("Mean utilisation of each directed channel across replicates, per agent, in the cell %s, load %s, failures %s (the busiest channels, up to %d).",
+					p.Topology, fmtNum(p.Load), p.Failure, o.MaxChannels), p, h))
+		}
+		th, starts := TimeHeat(d, p)
+		if len(th.Rows) > 0 && len(starts) > 0 {
+			bin := binWidth(d)
+			r.Charts = append(r.Charts, timeChart("util-time", "Busiest channel over time",
+				fmt.Sprintf("Utilisation of the busiest channel in each time bin (mean across replicates), per agent, same cell (%s, load %s, failures %s).",
+					p.Topology, fmtNum(p.Load), p.Failure), p, th, starts, bin))
+		}
+	} else {
+		r.Notes = append(r.Notes, "No link table (links.parquet is absent): no utilisation chart.")
+	}
+	uniqueIDs(r.Charts)
+	for _, m := range []struct{ metric, id, title string }{
+		{"delivery_mean_s", "table-delivery-mean", "Mean delivery time"},
+		{"delivery_p95_s", "table-delivery-p95", "95th percentile of delivery time"},
+		{"loss_rate", "table-loss", "Loss rate"},
+	} {
+		r.Tables = append(r.Tables, makeTable(m.id, m.title, m.metric, agents, CellTable(d, m.metric)))
+	}
+	return r, nil
+}
+
+func uniqueIDs(cs []*chart) {
+	seen := map[string]int{}
+	for _, c := range cs {
+		seen[c.ID]++
+		if n := seen[c.ID]; n > 1 {
+			c.ID = fmt.Sprintf("%s-%d", c.ID, n)
+		}
+	}
+}
+
+func binWidth(d *Data) float64 {
+	for _, b := range d.Series {
+		if w := b.End - b.Start; w > 0 {
+			return w
+		}
+	}
+	return 1
+}
+
+func eventLoad(d *Data, want *float64) (float64, bool) {
+	var loads []float64
+	for _, r := range d.Recoveries {
+		if !slices.Contains(loads, r.Load) {
+			loads = append(loads, r.Load)
+		}
+	}
+	slices.Sort(loads)
+	if want != nil {
+		return *want, slices.Contains(loads, *want)
+	}
+	best := loads[0]
+	for _, l := range loads {
+		if l <= 1 {
+			best = l
+		}
+	}
+	return best, true
+}
+
+func linkPanel(d *Data, o Options) (Panel, bool, error) {
+	if len(d.Channels) == 0 {
+		return Panel{}, false, nil
+	}
+	sub := &Data{Dir: d.Dir}
+	for _, c := range d.Channels {
+		if (o.LinkTopology == "" || c.Topology == o.LinkTopology) && (o.LinkLoad == nil || c.Load == *o.LinkLoad) &&
+			(o.LinkFailure == "" || c.Failure == o.LinkFailure) {
+			sub.Channels = append(sub.Channels, c)
+		}
+	}
+	p, ok := BusiestPanel(sub)
+	if !ok {
+		load := "any"
+		if o.LinkLoad != nil {
+			load = fmtNum(*o.LinkLoad)
+		}
+		return p, false, inputErr("report: no link results for topology %q, load %s, failures %q",
+			orDefault(o.LinkTopology, "any"), load, orDefault(o.LinkFailure, "any"))
+	}
+	return p, true, nil
+}
+
+func orDefault(s, def string) string {
+	if s == "" {
+		return def
+	}
+	return s
+}
+
+// htmlTable is a cell table ready for the page.
+type htmlTable struct {
+	ID, Title, Unit string
+	Agents          []string
+	Rows            []htmlRow
+}
+
+type htmlRow struct {
+	Topology, Load, Failure string
+	Cells                   []htmlCell
+}
+
+type htmlCell struct {
+	Text  string
+	Best  bool
+	Title string
+}
+
+func makeTable(id, title, metricName string, agents []string, rows []TableRow) htmlTable {
+	scale, unit := 100.0, "%"
+	if metricName != "loss_rate" {
+		var hi float64
+		for _, r := range rows {
+			for _, e := range r.Est {
+				if !math.IsNaN(e.Mean) {
+					hi = math.Max(hi, e.Mean)
+				}
+			}
+		}
+		scale, unit = timeUnit(hi)
+	}
+	t := htmlTable{ID: id, Title: title, Unit: unit, Agents: agents}
+	for _, r := range rows {
+		hr := htmlRow{Topology: r.Topology, Load: fmtNum(r.Load), Failure: r.Failure}
+		for i, e := range r.Est {
+			c := htmlCell{Best: r.Best[i]}
+			switch {
+			case e.N == 0:
+				c.Text = "–"
+			case math.IsNaN(e.CI95):
+				c.Text = fmt.Sprintf("%.4g", e.Mean*scale)
+			default:
+				c.Text = fmt.Sprintf("%.4g ± %.2g", e.Mean*scale, e.CI95*scale)
+			}
+			c.Title = fmt.Sprintf("%s: n = %d replicates", agents[i], e.N)
+			hr.Cells = append(hr.Cells, c)
+		}
+		t.Rows = append(t.Rows, hr)
+	}
+	return t
+}
+
+// Write reads the result tables in dir and writes the report: index.html
+// (self-contained: charts as data URLs, no external reference) and each
+// chart as ID.svg and ID.png, into opts.Out (default dir/report). Every
+// file is written atomically.
+func Write(dir string, opts Options) error {
+	d, err := Load(dir)
+	if err != nil {
+		return err
+	}
+	r, err := Build(d, opts)
+	if err != nil {
+		return err
+	}
+	return r.Write()
+}
+
+// Write writes the report's files.
+func (r *Report) Write() error {
+	o := r.options
+	if err := os.MkdirAll(o.Out, 0o755); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	for _, c := range r.Charts {
+		svg := c.svg(lightTheme, o.EmbedFonts)
+		if err := writeFile(filepath.Join(o.Out, c.ID+".svg"), svg); err != nil {
+			return err
+		}
+		if err := writeFile(filepath.Join(o.Out, c.ID+".png"), c.png(o.DPI)); err != nil {
+			return err
+		}
+	}
+	var page bytes.Buffer
+	if err := r.HTML(&page); err != nil {
+		return err
+	}
+	return writeFile(filepath.Join(o.Out, "index.html"), page.Bytes())
+}
+
+func writeFile(path string, b []byte) error {
+	return atomicWrite(path, func(w io.Writer) error {
+		_, err := w.Write(b)
+		return err
+	})
+}
+
+// HTML writes the self-contained page.
+func (r *Report) HTML(w io.Writer) error {
+	type chartView struct {
+		ID, Title, Caption string
+		Src                template.URL
+	}
+	type recView struct {
+		Agent, Recovery, NotRecovered, Lost string
+	}
+	type eventView struct {
+		Topology, Failure, Event, Load string
+		Rows                           []recView
+	}
+	d := r.Data
+	var charts []chartView
+	for _, c := range r.Charts {
+		src := "data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(c.themedSVG(false))
+		charts = append(charts, chartView{ID: c.ID, Title: c.Title, Caption: c.Caption, Src: template.URL(src)})
+	}
+	var events []eventView
+	for _, ep := range r.Events {
+		ev := eventView{Topology: ep.Topology, Failure: ep.Failure, Event: ep.Element + " " + ep.Action + " at " + fmtNum(ep.At) + " s", Load: fmtNum(ep.Load)}
+		for _, ar := range ep.Recovery {
+			rv := recView{Agent: ar.Agent, NotRecovered: fmt.Sprintf("%d of %d", ar.NotRecovered, ar.Runs)}
+			switch {
+			case ar.Recovery.N == 0:
+				rv.Recovery = "never"
+			case math.IsNaN(ar.Recovery.CI95):
+				rv.Recovery = fmt.Sprintf("%.4g s", ar.Recovery.Mean)
+			default:
+				rv.Recovery = fmt.Sprintf("%.4g ± %.2g s", ar.Recovery.Mean, ar.Recovery.CI95)
+			}
+			rv.Lost = fmt.Sprintf("%.4g", ar.Lost.Mean)
+			ev.Rows = append(ev.Rows, rv)
+		}
+		events = append(events, ev)
+	}
+	reps := map[int]bool{}
+	for _, run := range d.Runs {
+		reps[run.Replicate] = true
+	}
+	name := d.Experiment
+	if name == "" {
+		name = filepath.Base(filepath.Clean(d.Dir))
+	}
+	loads := make([]string, 0)
+	for _, l := range d.Loads() {
+		loads = append(loads, fmtNum(l))
+	}
+	view := map[string]any{
+		"Name":       name,
+		"Runs":       len(d.Runs),
+		"Topologies": strings.Join(d.Topologies(), ", "),
+		"Agents":     d.Agents(),
+		"Loads":      strings.Join(loads, ", "),
+		"Failures":   strings.Join(d.Failures(), ", "),
+		"Replicates": len(reps),
+		"Charts":     charts,
+		"Tables":     r.Tables,
+		"Events":     events,
+		"Notes":      r.Notes,
+	}
+	if err := pageTemplate.Execute(w, view); err != nil {
+		return fmt.Errorf("report: html: %w", err)
+	}
+	return nil
+}
+
+var pageTemplate = template.Must(template.New("page").Parse(pageHTML))
