@@ -1,0 +1,76 @@
+package main
+
+import (
+	"strconv"
+	"strings"
+	"testing"
+
+	"hoplore/sim"
+	"hoplore/topologies"
+)
+
+// TestTopologiesList checks every generator's line against what Generate
+// builds at its defaults.
+func TestTopologiesList(t *testing.T) {
+	d, out, errb := testDeps()
+	if code := run([]string{"topologies"}, d); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	lines := strings.Split(strings.TrimSpace(out.String()), "\n")[1:]
+	infos := topologies.List()
+	if len(lines) != len(infos) {
+		t.Fatalf("%d lines for %d generators", len(lines), len(infos))
+	}
+	for i, info := range infos {
+		g, err := topologies.Generate(info.Name, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := []string{info.Name, strconv.Itoa(len(g.Nodes)), strconv.Itoa(len(g.Links)), strconv.Itoa(sim.Compile(g).Diameter())}
+		if got := strings.Fields(lines[i])[:4]; strings.Join(got, " ") != strings.Join(want, " ") {
+			t.Errorf("line %q, want it to start %v", lines[i], want)
+		}
+	}
+	d, out, _ = testDeps()
+	if code := run([]string{"topologies", "--params"}, d); code != 0 || !strings.Contains(out.String(), "bridge_mbps") {
+		t.Errorf("topologies --params: exit %d, output lacks two-region's bridge_mbps", code)
+	}
+}
+
+// TestTopologiesShow checks that show's output reads back as the same graph
+// in both formats, and that bad parameters are input errors.
+func TestTopologiesShow(t *testing.T) {
+	for _, format := range []string{"yaml", "graphml"} {
+		d, out, errb := testDeps()
+		if code := run([]string{"topologies", "show", "two-region", "rows=4", "bridges=1", "--format", format}, d); code != 0 {
+			t.Fatalf("%s: exit %d: %s", format, code, errb.String())
+		}
+		var g *sim.Graph
+		var err error
+		if format == "yaml" {
+			g, err = topologies.ParseFile("shown.yaml", out.Bytes())
+		} else {
+			g, err = topologies.ParseGraphML("shown.graphml", out.Bytes())
+		}
+		if err != nil {
+			t.Fatalf("%s: output does not read back: %v", format, err)
+		}
+		want, _ := topologies.Generate("two-region", map[string]float64{"rows": 4, "bridges": 1})
+		if len(g.Nodes) != len(want.Nodes) || len(g.Links) != len(want.Links) {
+			t.Errorf("%s: read back %d nodes %d links, want %d and %d", format, len(g.Nodes), len(g.Links), len(want.Nodes), len(want.Links))
+		}
+	}
+	for _, args := range [][]string{
+		{"topologies", "show", "ring", "nodes=2"},
+		{"topologies", "show", "ring", "sides=5"},
+		{"topologies", "show", "ring", "nodes"},
+		{"topologies", "show", "ring", "nodes=many"},
+		{"topologies", "show", "hexagon"},
+		{"topologies", "show", "ring", "--format", "dot"},
+	} {
+		d, out, _ := testDeps()
+		if code := run(args, d); code != 2 || out.Len() != 0 {
+			t.Errorf("%v: exit %d with %d bytes out, want 2 and nothing", args, code, out.Len())
+		}
+	}
+}
