@@ -42,7 +42,8 @@ const maxModelUtil = 0.99
 // Hold-down: at install, the next hop of a (node, destination) pair changes
 // only if its last change is at least HoldDown old; otherwise the old next
 // hop stays, unless its channel is down in the snapshot, which always
-// forces the change. Each next-hop change installed is counted with
+// forces the change, or keeping it would close a forwarding loop with the
+// other pairs' next hops, in which case the loop's nodes take the new ones. Each next-hop change installed is counted with
 // ControlView.CountRouteChanges. Before the first table computed from
 // telemetry, routes are zero-load shortest paths (u = 0).
 type CentralAdaptive struct {
@@ -170,22 +171,67 @@ func (a *CentralAdaptive) computeInto(next []int32) {
 	}
 }
 
-// install applies a computed table under the hold-down rule.
+// install applies a computed table under the hold-down rule. Keeping some
+// old next hops beside new ones can close a forwarding loop; wherever the
+// mixed table loops, the nodes on the loop take their new next hops (the new
+// table alone is a shortest-path forest, so this ends loop-free).
 func (a *CentralAdaptive) install(pd caPending) {
 	now := a.v.Now()
 	changes := 0
-	for i, nw := range pd.next {
-		old := a.table[i]
-		if nw == old {
-			continue
+	n := a.n
+	mixed := a.col
+	state := make([]uint8, n) // 0 unvisited, 1 on the current walk, 2 settled
+	for d := 0; d < n; d++ {
+		for u := 0; u < n; u++ {
+			i := u*n + d
+			old, nw := a.table[i], pd.next[i]
+			mixed[u] = nw
+			if nw != old && old != sim.NoRoute && pd.up[old] && now-a.lastChange[i] < a.p.HoldDown {
+				mixed[u] = old
+			}
 		}
-		forced := old == sim.NoRoute || !pd.up[old]
-		if !forced && now-a.lastChange[i] < a.p.HoldDown {
-			continue
+		for {
+			clear(state)
+			looped := false
+			for s := 0; s < n; s++ {
+				u := s
+				for u != d && state[u] == 0 && mixed[u] != sim.NoRoute {
+					state[u] = 1
+					u = a.net.Channels[mixed[u]].To
+				}
+				if u != d && state[u] == 1 { // closed a loop: release it
+					for v := u; ; {
+						next := a.net.Channels[mixed[v]].To
+						mixed[v] = pd.next[v*n+d]
+						looped = true
+						if v = next; v == u {
+							break
+						}
+					}
+					break // walks marked before the release are stale: start over
+				}
+				for v := s; v != u && state[v] == 1; v = a.net.Channels[mixed[v]].To {
+					state[v] = 2
+					if mixed[v] == sim.NoRoute {
+						break
+					}
+				}
+				if state[u] == 1 {
+					state[u] = 2
+				}
+			}
+			if !looped {
+				break
+			}
 		}
-		a.table[i] = nw
-		a.lastChange[i] = now
-		changes++
+		for u := 0; u < n; u++ {
+			i := u*n + d
+			if mixed[u] != a.table[i] {
+				a.table[i] = mixed[u]
+				a.lastChange[i] = now
+				changes++
+			}
+		}
 	}
 	if changes > 0 {
 		a.v.CountRouteChanges(changes)

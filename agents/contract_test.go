@@ -12,6 +12,7 @@ import (
 func contractParams() []agents.Params {
 	var ps []agents.Params
 	add := func(p agents.Params) { ps = append(ps, p) }
+	add(agents.Defaults(agents.ShortestPathKind))
 	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
 		for _, f := range []string{"instant", "in-band"} {
 			p := agents.Defaults(agents.QRoutingKind)
