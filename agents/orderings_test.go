@@ -1,0 +1,187 @@
+package agents_test
+
+import (
+	"sync"
+	"testing"
+
+	"hoplore/agents"
+	"hoplore/agents/agenttest"
+	"hoplore/sim"
+)
+
+// outcome summarises one run.
+type outcome struct {
+	mean, loss, hops  float64
+	routeChanges      int64
+	intervals         float64
+	generated, events int64
+}
+
+func summarise(r *sim.Result) outcome {
+	return outcome{
+		mean:         r.DeliverySum / float64(r.Delivered),
+		loss:         float64(r.DroppedTotal()) / float64(r.Generated),
+		hops:         float64(r.HopsSum) / float64(r.Delivered),
+		routeChanges: r.RouteChanges,
+		generated:    r.Generated,
+		events:       r.Events,
+	}
+}
+
+// runSeeds runs p on g at load for each seed, in parallel, and returns the
+// outcomes in seed order.
+func runSeeds(t *testing.T, g *sim.Graph, p agents.Params, load float64, dur, warm sim.Time, seeds []uint64) []outcome {
+	t.Helper()
+	out := make([]outcome, len(seeds))
+	var wg sync.WaitGroup
+	for i, s := range seeds {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			sc := agenttest.Scenario{Graph: g, Load: load, Duration: dur, Warmup: warm, Seed: s, ControlDelay: p.ControlDelay}
+			out[i] = summarise(agenttest.RunScenario(t, sc, p))
+		}()
+	}
+	wg.Wait()
+	return out
+}
+
+func avg(os []outcome, f func(outcome) float64) float64 {
+	s := 0.0
+	for _, o := range os {
+		s += f(o)
+	}
+	return s / float64(len(os))
+}
+
+func meanOf(o outcome) float64 { return o.mean }
+func lossOf(o outcome) float64 { return o.loss }
+
+// TestBoyanLittmanOrdering checks the published ordering of Q-routing
+// against shortest paths (Boyan & Littman, "Packet routing in dynamically
+// changing networks: a reinforcement learning approach", NIPS 6, 1994) on
+// their irregular 6×6 grid, whose two halves meet at a central and an upper
+// bridge: at low load Q-routing's mean delivery time is within a few
+// percent of shortest path's; once the central bridge is past its capacity
+// under shortest paths, Q-routing loses far fewer packets and delivers
+// faster. The same ordering for the load-adaptive controller (without
+// hold-down; see TestHoldDownDampsOscillation for the hold-down's price).
+//
+// Tolerances were fixed from a 5-seed pilot before this test was written
+// (load 1.15, 100 s, 40 s warm-up): shortest path mean 0.197 s (sd 0.001),
+// loss 0.054 (sd 0.004); q-routing mean 0.101 s (sd 0.023; 95% CI upper
+// bound 0.130 = 0.66 × shortest path), loss 0.0036 (upper bound 0.010 =
+// 0.19 × shortest path). The bounds asserted below (0.8 and 0.5) lie
+// outside those intervals. At load 0.3 the pilot's means agreed to 0.3%;
+// 3% is asserted.
+func TestBoyanLittmanOrdering(t *testing.T) {
+	g := agenttest.BoyanLittmanGrid()
+	seeds := []uint64{1, 2, 3}
+	sp := agents.Defaults(agents.ShortestPathKind)
+	qr := agents.Defaults(agents.QRoutingKind)
+	ca := agents.Defaults(agents.CentralAdaptiveKind)
+	ca.HoldDown = 0
+	const dur, warm = 100 * sim.Second, 40 * sim.Second
+	t.Run("low", func(t *testing.T) {
+		t.Parallel()
+		base := runSeeds(t, g, sp, 0.3, dur, warm, seeds)
+		for _, p := range []agents.Params{qr, ca} {
+			got := runSeeds(t, g, p, 0.3, dur, warm, seeds)
+			ratio := avg(got, meanOf) / avg(base, meanOf)
+			t.Logf("load 0.3: %s mean %.4f s, shortest path %.4f s (ratio %.4f)", p.Canonical(), avg(got, meanOf), avg(base, meanOf), ratio)
+			if ratio < 0.97 || ratio > 1.03 {
+				t.Errorf("load 0.3: %s mean delivery %.4f s is not within 3%% of shortest path's %.4f s", p.Canonical(), avg(got, meanOf), avg(base, meanOf))
+			}
+			if l := avg(got, lossOf); l != 0 {
+				t.Errorf("load 0.3: %s lost %.4f of packets, want 0", p.Canonical(), l)
+			}
+		}
+	})
+	t.Run("high", func(t *testing.T) {
+		t.Parallel()
+		base := runSeeds(t, g, sp, 1.15, dur, warm, seeds)
+		if avg(base, lossOf) < 0.01 {
+			t.Fatalf("shortest path lost only %.4f at load 1.15: the bridge is not past capacity", avg(base, lossOf))
+		}
+		for _, p := range []agents.Params{qr, ca} {
+			got := runSeeds(t, g, p, 1.15, dur, warm, seeds)
+			t.Logf("load 1.15: %s mean %.4f s loss %.4f; shortest path mean %.4f s loss %.4f",
+				p.Canonical(), avg(got, meanOf), avg(got, lossOf), avg(base, meanOf), avg(base, lossOf))
+			if m, b := avg(got, meanOf), avg(base, meanOf); m > 0.8*b {
+				t.Errorf("load 1.15: %s mean delivery %.4f s, want below 0.8 × shortest path's %.4f s", p.Canonical(), m, b)
+			}
+			if l, b := avg(got, lossOf), avg(base, lossOf); l > 0.5*b {
+				t.Errorf("load 1.15: %s loss %.4f, want below 0.5 × shortest path's %.4f", p.Canonical(), l, b)
+			}
+		}
+	})
+}
+
+// TestHoldDownDampsOscillation checks Khanna & Zinky's observation
+// ("The revised ARPANET routing metric", SIGCOMM 1989) that delay-based
+// routing recomputed from measured load oscillates on a bottleneck: without
+// hold-down the controller changes a large share of its next hops at every
+// interval; a hold-down cuts the changes. Pilot (3 seeds, load 1.15, 100 s):
+// hold_down 0 made 17,800–19,100 changes in 50 intervals (≈ 28% of the
+// 1,260 node–destination entries per interval); hold_down 10s made
+// 8,000–9,300. Asserted: more than 10% of entries per interval without
+// hold-down, and at most 0.75 × as many changes with it.
+func TestHoldDownDampsOscillation(t *testing.T) {
+	g := agenttest.BoyanLittmanGrid()
+	seeds := []uint64{1, 2}
+	const dur, warm = 100 * sim.Second, 40 * sim.Second
+	free := agents.Defaults(agents.CentralAdaptiveKind)
+	free.HoldDown = 0
+	held := agents.Defaults(agents.CentralAdaptiveKind)
+	held.HoldDown = 10 * sim.Second
+	a := runSeeds(t, g, free, 1.15, dur, warm, seeds)
+	b := runSeeds(t, g, held, 1.15, dur, warm, seeds)
+	intervals := float64(dur / free.Every)
+	entries := float64(36 * 35)
+	ca := avg(a, func(o outcome) float64 { return float64(o.routeChanges) })
+	cb := avg(b, func(o outcome) float64 { return float64(o.routeChanges) })
+	t.Logf("route changes per interval: hold_down 0 %.0f (%.1f%% of entries), hold_down 10s %.0f; mean delivery %.4f s vs %.4f s, loss %.4f vs %.4f",
+		ca/intervals, 100*ca/intervals/entries, cb/intervals, avg(a, meanOf), avg(b, meanOf), avg(a, lossOf), avg(b, lossOf))
+	if ca/intervals < 0.1*entries {
+		t.Errorf("without hold-down %.0f next-hop changes per interval, want more than 10%% of %.0f entries", ca/intervals, entries)
+	}
+	if cb > 0.75*ca {
+		t.Errorf("hold_down 10s made %.0f route changes, want at most 0.75 × %.0f", cb, ca)
+	}
+}
+
+// TestQNetworkLearnsShortestPaths checks that q-network, started from random
+// networks without the zero-load prior, learns at low load to send every
+// packet along a shortest path on a line and a ring: its greedy choice at
+// every node for every destination is a neighbour one hop closer (common
+// practice: at low load, delivery time grows with hop count).
+func TestQNetworkLearnsShortestPaths(t *testing.T) {
+	for _, g := range []*sim.Graph{agenttest.Line(5), agenttest.Ring(6)} {
+		t.Run(g.Name, func(t *testing.T) {
+			t.Parallel()
+			net := sim.Compile(g)
+			p := agents.Defaults(agents.QNetworkKind)
+			a := agents.NewQNetworkFromScratch(p, net)
+			sc := agenttest.Scenario{Graph: g, Load: 0.2, Duration: 120 * sim.Second, Warmup: 60 * sim.Second, Seed: 4}
+			r, err := sim.Run(sc.Config(net, a))
+			if err != nil {
+				t.Fatal(err)
+			}
+			wrong := 0
+			for x := 0; x < net.NumNodes(); x++ {
+				for d := 0; d < net.NumNodes(); d++ {
+					if x == d {
+						continue
+					}
+					y := agents.QNetworkGreedy(a, x, d)
+					if net.Hops[y][d] != net.Hops[x][d]-1 {
+						wrong++
+						t.Errorf("node %d → %d: prefers neighbour %d (%d hops from %d), want one %d hops away", x, d, y, net.Hops[y][d], d, net.Hops[x][d]-1)
+					}
+				}
+			}
+			o := summarise(r)
+			t.Logf("after learning: mean %.4f s, loss %.4f, stretch %.3f", o.mean, o.loss, r.StretchSum/float64(r.Delivered))
+		})
+	}
+}
