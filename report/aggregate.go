@@ -94,10 +94,10 @@ type AgentRecovery struct {
 type EventPanel struct {
 	Event
 	Load     float64
-	Bin      float64   // bin width, s
-	Delivery []Curve   // mean delivery time per bin, s
-	Loss     []Curve   // dropped/generated per bin
-	Others   []Event   // other events of the same schedule inside the window
+	Bin      float64 // bin width, s
+	Delivery []Curve // mean delivery time per bin, s
+	Loss     []Curve // dropped/generated per bin
+	Others   []Event // other events of the same schedule inside the window
 	Recovery []AgentRecovery
 }
 
