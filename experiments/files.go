@@ -165,7 +165,7 @@ func LoadBundled(name string) (*Experiment, error) {
 // (or when arg ends in .yaml or .yml), else a bundled experiment, else an
 // error listing the bundled names.
 func Resolve(arg string) (*Experiment, error) {
-	if _, err := os.Stat(arg); err == nil {
+	if fi, err := os.Stat(arg); err == nil && !fi.IsDir() {
 		return Load(arg)
 	}
 	if ext := strings.ToLower(filepath.Ext(arg)); ext == ".yaml" || ext == ".yml" {

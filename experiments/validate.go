@@ -110,6 +110,14 @@ func (c *checker) experiment() (*Experiment, error) {
 		if err := c.resolve(e, t); err != nil {
 			return nil, err
 		}
+		// Build every agent once on every topology, so that a problem only
+		// the agent can see (one that depends on the network) is reported
+		// now rather than when its runs start.
+		for i, p := range e.Agents {
+			if _, err := agents.New(p, t.Net); err != nil {
+				return nil, c.errf(c.raw.Agents.Items[i].Pos, "agents[%d]: on topology %q: %s", i, t.Label, strings.TrimPrefix(err.Error(), "agents: "))
+			}
+		}
 	}
 	e.TopologyFiles = c.names
 	return e, nil
