@@ -260,3 +260,15 @@ func TestConsensusControlBytes(t *testing.T) {
 		}
 	}
 }
+
+// TestFastTanh bounds the network's tanh approximation against math.Tanh.
+func TestFastTanh(t *testing.T) {
+	worst := 0.0
+	for i := -100000; i <= 100000; i++ {
+		x := float64(i) / 10000
+		worst = math.Max(worst, math.Abs(fastTanh(x)-math.Tanh(x)))
+	}
+	if worst > 1e-4 {
+		t.Errorf("largest error %.3g on [-10, 10], want below 1e-4", worst)
+	}
+}
