@@ -355,11 +355,11 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 	}
 
 	if comps := g.Components(); len(comps) > 1 {
-		pos := f.LinksPos
+		pos, field := f.LinksPos, "links: "
 		if pos == (yamlx.Pos{}) {
-			pos = f.Pos
+			pos, field = f.Pos, ""
 		}
-		return nil, errAt(pos, "links: topology %q is not connected: %s", g.Name, describeComponents(g, comps))
+		return nil, errAt(pos, "%stopology %q is not connected: %s", field, g.Name, describeComponents(g, comps))
 	}
 	if err := g.Validate(); err != nil {
 		return nil, errAt(f.Pos, "%v", err)

@@ -71,7 +71,7 @@ func yamlBandwidth(bps float64) string {
 		mult   float64
 	}{{"Gbps", 1e9}, {"Mbps", 1e6}, {"kbps", 1e3}} {
 		s := strconv.FormatFloat(bps/u.mult, 'g', -1, 64) + u.suffix
-		if v, err := yamlx.ParseBandwidth(s); err == nil && v == bps && !strings.ContainsAny(s, "e") {
+		if v, err := yamlx.ParseBandwidth(s); err == nil && v == bps && bps >= u.mult && !strings.ContainsAny(s, "e") {
 			return s
 		}
 	}
