@@ -22,3 +22,16 @@ func QNetworkGreedy(a sim.Agent, node, d int) int {
 func NewQNetworkFromScratch(p Params, net *sim.Net) sim.Agent {
 	return newQNetworkOpt(p, net, false)
 }
+
+// ContinueQRouting builds a q-routing agent whose nodes start from the
+// tables prev (a q-routing agent after a run of length prevDuration) ended
+// with: a second traffic phase following the first.
+func ContinueQRouting(p Params, net *sim.Net, prev sim.Agent, prevDuration sim.Time) sim.Agent {
+	a, err := newQRouting(p, net)
+	if err != nil {
+		panic(err)
+	}
+	q := a.(*QRouting)
+	q.warm, q.warmShift = prev.(*QRouting), prevDuration
+	return q
+}

@@ -87,6 +87,12 @@ type QRouting struct {
 	p      Params
 	shared *qrShared
 	nodes  []*qrNode // for tests and inspection only; nodes do not see this
+
+	// warm, when set (tests only), gives each node the learned state of the
+	// same node of an earlier run, with times shifted back by warmShift:
+	// a run that continues another under different traffic.
+	warm      *QRouting
+	warmShift sim.Time
 }
 
 // qrShared is the static, read-only knowledge every node starts with.
@@ -151,8 +157,24 @@ func (a *QRouting) Name() string { return a.p.Canonical() }
 // Node builds the router of the node behind v.
 func (a *QRouting) Node(v *sim.NodeView) sim.Router {
 	r := newQRNode(a.shared, v)
+	if a.warm != nil {
+		r.continueFrom(a.warm.nodes[r.id], a.warmShift)
+	}
 	a.nodes = append(a.nodes, r)
 	return r
+}
+
+// continueFrom copies the learned tables of o, times shifted back by shift.
+func (r *qrNode) continueFrom(o *qrNode, shift sim.Time) {
+	copy(r.q, o.q)
+	copy(r.b, o.b)
+	copy(r.r, o.r)
+	for i := range r.u {
+		r.u[i] = o.u[i] - shift
+	}
+	copy(r.c, o.c)
+	copy(r.stamp, o.stamp)
+	copy(r.rowN, o.rowN)
 }
 
 // qrNode is one node's Q-routing state. It sees the network only through v.
