@@ -94,7 +94,8 @@
 // lateral link from each region to the next, at bandwidth_mbps. Delays
 // follow great-circle distance (about 1.5 to 5 ms per link).
 //
-// Randomised generators draw from math/rand/v2's PCG seeded with their
+// A generator refuses parameters that would give more than MaxNodes (10^6)
+// nodes. Randomised generators draw from math/rand/v2's PCG seeded with their
 // seed parameter and a constant per generator, so a topology is a pure
 // function of its parameters.
 //

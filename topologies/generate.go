@@ -53,7 +53,13 @@ type generator struct {
 	name, doc string
 	params    []paramSpec
 	build     func(p values) (*sim.Graph, error)
+	// size returns the number of nodes the parameters ask for, and the
+	// parameter to blame when there are too many.
+	size func(p values) (float64, string)
 }
+
+// MaxNodes bounds the size of a generated topology.
+const MaxNodes = 1_000_000
 
 // values holds one call's parameters, defaults filled in.
 type values map[string]float64
@@ -85,16 +91,19 @@ var generators = []generator{
 		name: "ring", doc: "nodes on a cycle, each linked to the next",
 		params: []paramSpec{intParam("nodes", 8, 3, 1e5, "number of nodes"), pBandwidth, pDelay, pBuffer},
 		build:  buildRing,
+		size:   func(v values) (float64, string) { return v["nodes"], "nodes" },
 	},
 	{
 		name: "grid", doc: "rows × cols mesh, each node linked to its horizontal and vertical neighbours",
 		params: []paramSpec{intParam("rows", 4, 1, 1e4, "number of rows"), intParam("cols", 4, 1, 1e4, "number of columns"), pBandwidth, pDelay, pBuffer},
 		build:  buildGrid,
+		size:   func(v values) (float64, string) { return v["rows"] * v["cols"], "rows" },
 	},
 	{
 		name: "torus", doc: "rows × cols mesh whose rows and columns wrap around",
 		params: []paramSpec{intParam("rows", 4, 3, 1e4, "number of rows"), intParam("cols", 4, 3, 1e4, "number of columns"), pBandwidth, pDelay, pBuffer},
 		build:  buildTorus,
+		size:   func(v values) (float64, string) { return v["rows"] * v["cols"], "rows" },
 	},
 	{
 		name: "two-region", doc: "two rows × cols grids side by side, joined by a few bridge links: the bottleneck case",
@@ -107,6 +116,7 @@ var generators = []generator{
 			pDelay, pBuffer,
 		},
 		build: buildTwoRegion,
+		size:  func(v values) (float64, string) { return 2 * v["rows"] * v["cols"], "rows" },
 	},
 	{
 		name: "waxman", doc: "random geometric graph on a square plane (Waxman 1988), redrawn until connected",
@@ -119,6 +129,7 @@ var generators = []generator{
 			pBandwidth, pBuffer,
 		},
 		build: buildWaxman,
+		size:  func(v values) (float64, string) { return v["nodes"], "nodes" },
 	},
 	{
 		name: "barabasi-albert", doc: "preferential-attachment graph (Barabási & Albert 1999) grown from a star",
@@ -128,6 +139,7 @@ var generators = []generator{
 			pSeed, pBandwidth, pDelay, pBuffer,
 		},
 		build: buildBarabasiAlbert,
+		size:  func(v values) (float64, string) { return v["nodes"], "nodes" },
 	},
 	{
 		name: "leaf-spine", doc: "two-tier folded Clos: every leaf linked to every spine, hosts below the leaves",
@@ -140,6 +152,7 @@ var generators = []generator{
 			pDelay, pBuffer,
 		},
 		build: buildLeafSpine,
+		size:  func(v values) (float64, string) { return v["spines"] + v["leaves"]*(1+v["hosts"]), "hosts" },
 	},
 	{
 		name: "fat-tree", doc: "k-ary fat-tree of k-port switches (Al-Fares, Loukissas & Vahdat 2008)",
@@ -148,6 +161,7 @@ var generators = []generator{
 			pBandwidth, pDelay, pBuffer,
 		},
 		build: buildFatTree,
+		size:  func(v values) (float64, string) { k := v["k"]; return 5*k*k/4 + k*k*k/4, "k" },
 	},
 	{
 		name: "backbone", doc: "synthetic continental backbone: 18 invented sites with latitude/longitude, fast trunks between 6 hubs, slower regional links",
@@ -157,6 +171,7 @@ var generators = []generator{
 			pBuffer,
 		},
 		build: buildBackbone,
+		size:  func(values) (float64, string) { return float64(len(backboneSites)), "" },
 	},
 }
 
@@ -248,6 +263,9 @@ func Generate(name string, params map[string]float64) (*sim.Graph, error) {
 	v, err := g.resolve(params)
 	if err != nil {
 		return nil, err
+	}
+	if n, p := g.size(v); n > MaxNodes {
+		return nil, &ParamError{Param: p, Msg: fmt.Sprintf("the topology would have %s nodes; at most %d are allowed", fmtNum(n), MaxNodes)}
 	}
 	gr, err := g.build(v)
 	if err != nil {

@@ -405,6 +405,9 @@ func TestGenerateErrors(t *testing.T) {
 		{"waxman", map[string]float64{"nodes": 40, "alpha": 0.01, "beta": 0.01}, "alpha", "topologies: alpha: no connected waxman graph with nodes=40 alpha=0.01 beta=0.01 in 10000 draws; raise alpha or beta"},
 		{"barabasi-albert", map[string]float64{"nodes": 5, "m": 5}, "m", "topologies: m: must be less than nodes (5), got 5"},
 		{"fat-tree", map[string]float64{"k": 5}, "k", "topologies: k: must be even, got 5"},
+		{"fat-tree", map[string]float64{"k": 200}, "k", "topologies: k: the topology would have 2050000 nodes; at most 1000000 are allowed"},
+		{"grid", map[string]float64{"rows": 2000, "cols": 501}, "rows", "topologies: rows: the topology would have 1002000 nodes; at most 1000000 are allowed"},
+		{"leaf-spine", map[string]float64{"leaves": 1000, "hosts": 1000}, "hosts", "topologies: hosts: the topology would have 1001002 nodes; at most 1000000 are allowed"},
 		{"backbone", map[string]float64{"buffer": -1}, "buffer", "topologies: buffer: must be at least 0, got -1"},
 	}
 	for _, c := range cases {
