@@ -97,7 +97,13 @@ func readTable[T any](path, table string) ([]T, error) {
 	if err != nil {
 		return nil, fmt.Errorf("results: %w", err)
 	}
-	pf, err := parquet.OpenFile(f, st.Size(), parquet.SkipPageIndex(true), parquet.SkipBloomFilters(true))
+	return readRows[T](f, st.Size(), path, table)
+}
+
+// readRows reads every row of the Parquet file in r (size bytes, called
+// path in errors), checking that it holds the named table.
+func readRows[T any](r io.ReaderAt, size int64, path, table string) ([]T, error) {
+	pf, err := parquet.OpenFile(r, size, parquet.SkipPageIndex(true), parquet.SkipBloomFilters(true))
 	if err != nil {
 		return nil, fmt.Errorf("results: %s: %w", path, err)
 	}
@@ -109,11 +115,11 @@ func readTable[T any](path, table string) ([]T, error) {
 	if n == 0 {
 		return rows, nil
 	}
-	r := parquet.NewGenericReader[T](pf)
-	defer r.Close()
+	gr := parquet.NewGenericReader[T](pf)
+	defer gr.Close()
 	read := 0
 	for read < len(rows) {
-		k, err := r.Read(rows[read:])
+		k, err := gr.Read(rows[read:])
 		read += k
 		if err != nil {
 			if errors.Is(err, io.EOF) && read == len(rows) {
@@ -175,11 +181,23 @@ func ReadSummary(path string) ([]SummaryRow, error) {
 // writeFileAtomic writes path through a temporary file in the same folder
 // (named with a leading dot), synced and then renamed over path, so that
 // path is either absent, its old content or complete.
-func writeFileAtomic(path string, write func(io.Writer) error) (err error) {
+func writeFileAtomic(path string, write func(io.Writer) error) error {
+	p, err := writeTemp(path, write)
+	if err != nil {
+		return err
+	}
+	return commit([]pending{p})
+}
+
+// pending is a complete, synced temporary file waiting to be renamed to path.
+type pending struct{ tmp, path string }
+
+// writeTemp writes a synced temporary file for path in path's folder.
+func writeTemp(path string, write func(io.Writer) error) (p pending, err error) {
 	dir := filepath.Dir(path)
 	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
 	if err != nil {
-		return fmt.Errorf("results: %w", err)
+		return p, fmt.Errorf("results: %w", err)
 	}
 	defer func() {
 		if err != nil {
@@ -189,21 +207,46 @@ func writeFileAtomic(path string, write func(io.Writer) error) (err error) {
 	}()
 	bw := bufio.NewWriterSize(f, 1<<16)
 	if err := write(bw); err != nil {
-		return fmt.Errorf("results: writing %s: %w", path, err)
+		return p, fmt.Errorf("results: writing %s: %w", path, err)
 	}
 	if err := bw.Flush(); err != nil {
-		return fmt.Errorf("results: %w", err)
+		return p, fmt.Errorf("results: %w", err)
 	}
 	if err := f.Sync(); err != nil {
-		return fmt.Errorf("results: %w", err)
+		return p, fmt.Errorf("results: %w", err)
 	}
 	if err := f.Close(); err != nil {
-		return fmt.Errorf("results: %w", err)
+		return p, fmt.Errorf("results: %w", err)
 	}
-	if err := os.Rename(f.Name(), path); err != nil {
-		return fmt.Errorf("results: %w", err)
+	return pending{tmp: f.Name(), path: path}, nil
+}
+
+// commit renames every pending file into place, in order, and makes the
+// renames durable.
+func commit(ps []pending) error {
+	for i, p := range ps {
+		if err := os.Rename(p.tmp, p.path); err != nil {
+			discard(ps[i:])
+			return fmt.Errorf("results: %w", err)
+		}
 	}
-	return syncDir(dir)
+	done := map[string]bool{}
+	for _, p := range ps {
+		if d := filepath.Dir(p.path); !done[d] {
+			done[d] = true
+			if err := syncDir(d); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// discard removes pending files.
+func discard(ps []pending) {
+	for _, p := range ps {
+		os.Remove(p.tmp)
+	}
 }
 
 // syncDir makes a rename in dir durable.

@@ -106,8 +106,17 @@ func writePart(dir string, t *RunTables, sync bool) (err error) {
 			return err
 		}
 	}
+	if testHookInstall != nil {
+		if err := testHookInstall(tmp); err != nil {
+			return err
+		}
+	}
 	return installPart(parts, tmp, id, sync)
 }
+
+// testHookInstall, when set by a test, runs when a part is complete in its
+// temporary folder, just before the rename that makes it visible.
+var testHookInstall func(tmp string) error
 
 // installPart renames the complete part folder tmp to its final name in
 // parts, replacing an older part of the same run.
@@ -281,34 +290,48 @@ func Finalize(dir string, order []string, meta Meta) error {
 		}
 		runs[i] = r[0]
 	}
-	if err := writeFileAtomic(filepath.Join(dir, RunsFile), func(w io.Writer) error {
+	// Write every table to a synced temporary file first and rename them
+	// together, so that a bad part leaves the folder's tables untouched.
+	var ps []pending
+	add := func(p pending, err error) error {
+		if err != nil {
+			discard(ps)
+			return err
+		}
+		ps = append(ps, p)
+		return nil
+	}
+	if err := add(writeTemp(filepath.Join(dir, RunsFile), func(w io.Writer) error {
 		return writeTable(w, runs, meta.kv(tableRuns))
-	}); err != nil {
+	})); err != nil {
 		return err
 	}
-	if err := finalizeTable[SeriesRow](dir, order, tableSeries, meta); err != nil {
+	if err := add(finalizeTable[SeriesRow](dir, order, tableSeries, meta)); err != nil {
 		return err
 	}
-	if err := finalizeTable[LinkRow](dir, order, tableLinks, meta); err != nil {
+	if err := add(finalizeTable[LinkRow](dir, order, tableLinks, meta)); err != nil {
 		return err
 	}
-	if err := finalizeTable[RecoveryRow](dir, order, tableRecoveries, meta); err != nil {
+	if err := add(finalizeTable[RecoveryRow](dir, order, tableRecoveries, meta)); err != nil {
 		return err
 	}
 	sum := Summarize(runs)
-	return writeFileAtomic(filepath.Join(dir, SummaryFile), func(w io.Writer) error {
+	if err := add(writeTemp(filepath.Join(dir, SummaryFile), func(w io.Writer) error {
 		return writeTable(w, sum, meta.kv(tableSummary))
-	})
+	})); err != nil {
+		return err
+	}
+	return commit(ps)
 }
 
-// finalizeTable streams one table's rows from the parts, in order, into
-// DIR/<table>.parquet.
+// finalizeTable streams one table's rows from the parts, in order, into a
+// temporary file for DIR/<table>.parquet.
 func finalizeTable[T any, PT interface {
 	*T
 	runIDer
-}](dir string, order []string, table string, meta Meta) error {
+}](dir string, order []string, table string, meta Meta) (pending, error) {
 	name := partFileName(table)
-	return writeFileAtomic(filepath.Join(dir, name), func(w io.Writer) error {
+	return writeTemp(filepath.Join(dir, name), func(w io.Writer) error {
 		tw := newTableWriter[T](w, meta.kv(table))
 		for _, id := range order {
 			rows, err := readPartTable[T, PT](filepath.Join(dir, PartsDir, escapeID(id)), table, id)
