@@ -1,6 +1,7 @@
 package agents_test
 
 import (
+	"math"
 	"sync"
 	"testing"
 
@@ -240,5 +241,39 @@ func TestPredictiveRecoversAfterLoadFall(t *testing.T) {
 	}
 	if pred > plain-0.03 {
 		t.Errorf("predictive q-routing's stretch %.3f, want at least 0.03 below plain's %.3f", pred, plain)
+	}
+}
+
+// TestBoyanLittmanGridShape checks the reconstructed grid against the
+// figures derived in the project's notes (routing-methods.md §1): 50 links;
+// 16 nodes of degree 2, 12 of degree 3, 8 of degree 4; diameter 11; mean
+// shortest-path hop count 4.83 over the 1,260 ordered pairs.
+func TestBoyanLittmanGridShape(t *testing.T) {
+	g := agenttest.BoyanLittmanGrid()
+	if err := g.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	net := sim.Compile(g)
+	if len(g.Links) != 50 {
+		t.Errorf("got %d links, want 50", len(g.Links))
+	}
+	deg := map[int]int{}
+	for v := range net.Out {
+		deg[len(net.Out[v])]++
+	}
+	if deg[2] != 16 || deg[3] != 12 || deg[4] != 8 {
+		t.Errorf("degree counts %v, want 16×2, 12×3, 8×4", deg)
+	}
+	if d := net.Diameter(); d != 11 {
+		t.Errorf("diameter %d, want 11", d)
+	}
+	sum := 0
+	for s := range net.Hops {
+		for _, h := range net.Hops[s] {
+			sum += int(h)
+		}
+	}
+	if m := float64(sum) / (36 * 35); math.Abs(m-4.83) > 0.005 {
+		t.Errorf("mean hop count %.4f, want 4.83", m)
 	}
 }

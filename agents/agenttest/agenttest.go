@@ -46,6 +46,22 @@ func Run(t *testing.T, p agents.Params) {
 		})
 	}
 	t.Run("failure", func(t *testing.T) { checkFailure(t, p) })
+	t.Run("node-failure", func(t *testing.T) {
+		sc := Scenario{Graph: Grid(3, 3), Load: 0.3, Duration: 30 * sim.Second, Warmup: 5 * sim.Second, Seed: 9, ControlDelay: p.ControlDelay,
+			Failures: sim.Failures{Detection: 50 * sim.Millisecond, Events: []sim.FailureEvent{
+				{At: 10 * sim.Second, Node: 4, Element: "n4"},
+				{At: 20 * sim.Second, Node: 4, Up: true, Element: "n4"},
+			}}}
+		mon := &monitor{chans: [2]int{-1, -1}}
+		r := mustRun(t, sc, p, mon.wrap)
+		checkConservation(t, r)
+		if mon.knownDown > 0 {
+			t.Errorf("forwarded %d packets into a channel its node had detected down", mon.knownDown)
+		}
+		if r.Delivered < r.Generated/2 {
+			t.Errorf("delivered %d of %d with the centre of the grid down for a third of the window", r.Delivered, r.Generated)
+		}
+	})
 	t.Run("deterministic", func(t *testing.T) {
 		sc := Scenario{Graph: Grid(3, 3), Load: 0.5, Duration: 20 * sim.Second, Warmup: 5 * sim.Second, Seed: 5, ControlDelay: p.ControlDelay,
 			Failures: sim.Failures{Detection: 50 * sim.Millisecond, Events: []sim.FailureEvent{
