@@ -428,3 +428,29 @@ func TestGenerateErrors(t *testing.T) {
 		}
 	}
 }
+
+func BenchmarkGenerate(b *testing.B) {
+	for _, c := range []struct {
+		name   string
+		params map[string]float64
+	}{
+		{"waxman", map[string]float64{"nodes": 20}},
+		{"waxman", map[string]float64{"nodes": 100, "alpha": 0.15, "beta": 0.4}},
+		{"barabasi-albert", map[string]float64{"nodes": 1000}},
+		{"fat-tree", map[string]float64{"k": 8}},
+		{"backbone", nil},
+	} {
+		b.Run(Label(c.name, c.params), func(b *testing.B) {
+			b.ReportAllocs()
+			nodes := 0
+			for b.Loop() {
+				g, err := Generate(c.name, c.params)
+				if err != nil {
+					b.Fatal(err)
+				}
+				nodes += len(g.Nodes)
+			}
+			b.ReportMetric(float64(nodes)/b.Elapsed().Seconds(), "nodes/s")
+		})
+	}
+}

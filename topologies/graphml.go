@@ -432,10 +432,12 @@ func (p *gmlParser) edge(e xml.StartElement, pos yamlx.Pos) error {
 		ed.spec.Delay = yamlx.Duration{D: d, Pos: v.pos, Set: true}
 	}
 	if v, ok := data[gmlBuffer]; ok {
-		n, err := strconv.Atoi(v.val)
-		if err != nil {
+		// Whole numbers written as doubles (64.0) are accepted too.
+		x, err := strconv.ParseFloat(v.val, 64)
+		if err != nil || x != math.Trunc(x) || math.Abs(x) > 1<<53 {
 			return p.errAt(v.pos, "edge %s: buffer: %q is not a whole number", what, v.val)
 		}
+		n := int(x)
 		ed.spec.Buffer = yamlx.Int{V: n, Pos: v.pos, Set: true}
 	}
 	p.edges = append(p.edges, ed)
