@@ -57,6 +57,7 @@ func TestBadFiles(t *testing.T) {
 		{"size-field-for-other-dist", "6:60", "traffic.packet_size.bytes: not a field of dist exponential"},
 		{"bad-fraction", "6:36", "traffic.hotspot.fraction: must be in [0, 1], got 1.5"},
 		{"empty", "1:1", "name: required"},
+		{"duplicate-topology", "5:5", `topologies[1]: topology "small-ring" is listed twice; give one a label:`},
 		{"bad-topology-file", "testdata/topofiles/broken-topology.yaml:4:15", `unknown node "c"`},
 	}
 	files, err := filepath.Glob("testdata/bad/*.yaml")
@@ -423,7 +424,7 @@ func FuzzParse(f *testing.F) {
 		}
 	}
 	f.Add([]byte(seedBase))
-	big := regexp.MustCompile(`[0-9]{4,}|e[0-9]`)
+	big := regexp.MustCompile(`[0-9]{3,}|e[0-9]`)
 	f.Fuzz(func(t *testing.T, data []byte) {
 		if len(data) > 4096 || big.Match(data) {
 			t.Skip("large sizes cost time, not coverage")
@@ -443,4 +444,117 @@ func FuzzParse(f *testing.F) {
 			t.Fatalf("%d runs, want %d", got, e.Cells()*e.Replicates)
 		}
 	})
+}
+
+const features = `
+name: features
+duration: 50s
+topologies:
+  - {name: ring, nodes: 5, label: little-ring}
+  - inline:
+      nodes: [hub, a, b, c]
+      links:
+        - {a: hub, b: a, bandwidth: 2Mbps}
+        - {a: hub, b: b, bandwidth: 2Mbps}
+        - {a: hub, b: c, bandwidth: 2Mbps}
+        - {a: a, b: b, bandwidth: 1Mbps}
+traffic:
+  matrix: hotspot
+  hotspot: {fraction: 0.8}
+  packet_size: {dist: bimodal, small_bytes: 100, large_bytes: 1500, large_fraction: 0.25, redraw: per-hop}
+  loads: [0.5]
+  flows: 4
+hop_limit: 12
+agents: [q-routing]
+`
+
+// TestDefaultsAndExtras checks the documented defaults and the optional
+// fields: topology labels, unnamed inline topologies, the hotspot's default
+// node, size distributions, flows and hop limit.
+func TestDefaultsAndExtras(t *testing.T) {
+	e, err := Parse("features.yaml", []byte(features))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e.Replicates != DefaultReplicates || e.Seed != DefaultSeed || e.Bin != e.Duration/DefaultBins || e.Warmup != 0 {
+		t.Errorf("replicates %d seed %d bin %v warmup %v: not the defaults", e.Replicates, e.Seed, e.Bin, e.Warmup)
+	}
+	if e.HopLimit != 12 || e.Traffic.Flows != 4 || !e.Traffic.Redraw {
+		t.Errorf("hop limit %d flows %d redraw %v", e.HopLimit, e.Traffic.Flows, e.Traffic.Redraw)
+	}
+	if len(e.Failures) != 1 || e.Failures[0].Name != "none" {
+		t.Errorf("failures %v, want [none] by default", e.Failures)
+	}
+	if got := []string{e.Topologies[0].Label, e.Topologies[1].Label}; got[0] != "little-ring" || got[1] != "inline-1" {
+		t.Errorf("labels %v, want [little-ring inline-1]", got)
+	}
+	// The hub has 6 Mbit/s attached, more than any other node.
+	star := e.Topologies[1]
+	if len(star.hot) != 1 || star.Graph.Nodes[star.hot[0]].Name != "hub" {
+		t.Errorf("default hot node %v, want hub", star.hot)
+	}
+	if m := e.Traffic.Size.Mean(); m != 0.75*100+0.25*1500 {
+		t.Errorf("mean size %g, want 450", m)
+	}
+	r := e.Runs()[len(e.Runs())-1]
+	cfg, err := r.Config()
+	if err != nil {
+		t.Fatal(err)
+	}
+	// From a: 80% of its packets to the hub, the rest split over b and c.
+	a, _ := star.Graph.NodeIndex("a")
+	hub, _ := star.Graph.NodeIndex("hub")
+	row := cfg.Traffic.Rates[a]
+	var sum float64
+	for _, v := range row {
+		sum += v
+	}
+	if math.Abs(row[hub]/sum-0.8) > 1e-12 {
+		t.Errorf("share of a's packets to the hub %g, want 0.8", row[hub]/sum)
+	}
+	if cfg.HopLimit != 12 || cfg.Traffic.Flows != 4 {
+		t.Errorf("config hop limit %d flows %d", cfg.HopLimit, cfg.Traffic.Flows)
+	}
+
+	// Pairs with rates and loads: the rates give the shape only.
+	pairs := strings.Replace(seedBase, "traffic: {matrix: uniform, loads: [0.2, 0.6]}",
+		"traffic:\n  pairs: [{from: n0, to: n2, rate: 10/s}, {from: n1, to: n3, rate: 30/s}]\n  loads: [0.9]", 1)
+	pairs = strings.Replace(pairs, "topologies: [ring, {name: grid, rows: 2, cols: 3}]", "topologies: [ring]", 1)
+	p, err := Parse("pairs.yaml", []byte(pairs))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Traffic.Matrix != "pairs" || p.Traffic.Absolute {
+		t.Fatalf("matrix %s absolute %v, want pairs scaled to loads", p.Traffic.Matrix, p.Traffic.Absolute)
+	}
+	cfg, err = p.Runs()[0].Config()
+	if err != nil {
+		t.Fatal(err)
+	}
+	rates := cfg.Traffic.Rates
+	if math.Abs(rates[1][3]/rates[0][2]-3) > 1e-12 {
+		t.Errorf("rate ratio %g, want 3", rates[1][3]/rates[0][2])
+	}
+	if got := sim.NormalisedLoad(cfg.Net, rates, cfg.Traffic.Size.Mean()); math.Abs(got-0.9) > 1e-12 {
+		t.Errorf("normalised load %g, want 0.9", got)
+	}
+
+	// Shared-risk groups resolve to all their links in one event.
+	groups := strings.Replace(seedBase, "    events: [{at: 5s, link: [n0, n1], action: down}]",
+		"    groups: {duct: [[n0, n1], [n2, n3]]}\n    events: [{at: 5s, group: duct, action: down}]", 1)
+	groups = strings.Replace(groups, "topologies: [ring, {name: grid, rows: 2, cols: 3}]", "topologies: [ring]", 1)
+	gx, err := Parse("groups.yaml", []byte(groups))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range gx.Runs() {
+		if r.Dims.Failure != "cut" {
+			continue
+		}
+		evs := r.Failures().Events
+		if len(evs) != 1 || len(evs[0].Links) != 2 || evs[0].Element != "duct" || evs[0].Node != -1 {
+			t.Fatalf("group event %+v, want one event cutting two links", evs)
+		}
+		break
+	}
 }

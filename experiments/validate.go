@@ -145,6 +145,13 @@ func (c *checker) topologies(e *Experiment) error {
 		if err != nil {
 			return err
 		}
+		if t.Label.Set {
+			if strings.TrimSpace(t.Label.S) == "" {
+				return c.errf(t.Label.Pos, "topologies[%d].label: must not be empty", i)
+			}
+			label = t.Label.S
+			g.Name = label
+		}
 		if err := g.Validate(); err != nil {
 			var ye *yamlx.Error
 			if errors.As(err, &ye) {
@@ -153,7 +160,7 @@ func (c *checker) topologies(e *Experiment) error {
 			return c.errf(t.Pos, "topologies[%d]: %s", i, strings.TrimPrefix(err.Error(), "sim: "))
 		}
 		if seen[label] {
-			return c.errf(t.Pos, "topologies[%d]: topology %q is listed twice", i, label)
+			return c.errf(t.Pos, "topologies[%d]: topology %q is listed twice; give one a label:", i, label)
 		}
 		seen[label] = true
 		e.Topologies = append(e.Topologies, &Topology{Label: label, Graph: g, Net: sim.Compile(g)})

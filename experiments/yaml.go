@@ -143,7 +143,8 @@ type fileYAML struct {
 }
 
 // topoYAML is one entry of topologies: a bundled generator's name, a mapping
-// {name, params...}, {file: PATH} or {inline: topology file}.
+// {name, params...}, {file: PATH} or {inline: topology file}; a mapping may
+// also give a label.
 type topoYAML struct {
 	Pos     yamlx.Pos
 	Name    yamlx.String
@@ -152,6 +153,7 @@ type topoYAML struct {
 	Inline  *topologies.File
 	InlPos  yamlx.Pos
 	HasName bool
+	Label   yamlx.String // overrides the topology column's value
 }
 
 type paramYAML struct {
@@ -176,6 +178,10 @@ func (t *topoYAML) UnmarshalYAML(n ast.Node) error {
 		case "name":
 			t.HasName = true
 			if err := t.Name.UnmarshalYAML(p.Value); err != nil {
+				return err
+			}
+		case "label":
+			if err := t.Label.UnmarshalYAML(p.Value); err != nil {
 				return err
 			}
 		case "file":
