@@ -103,14 +103,15 @@
 //
 // A topology file (YAML, read by ParseFile and Load) names nodes and links:
 //
-//	name: mesh-10                  # optional; defaults to the file's base name
-//	defaults: {bandwidth: 2Mbps, delay: 1ms, buffer: 50}
+//	name: small-mesh               # optional; defaults to the file's base name
+//	defaults: {bandwidth: 2Mbps, buffer: 50}
 //	nodes:
 //	  - a                          # a bare name, or a mapping:
 //	  - {name: b, x_km: 300, y_km: 100, processing: 20us}
-//	  - {name: c, lat: 48.5, lon: 18}   # (one kind of coordinates per file)
+//	  - {name: c, x_km: 600, y_km: 0}   # or lat: and lon:, one kind per file
 //	links:
 //	  - {a: a, b: b, bandwidth: 1Mbps, delay: 4ms, buffer: 10}
+//	  - {a: b, b: c}               # 2Mbps, buffer 50, delay from distance
 //
 // Bandwidths are SI bit rates (1Mbps, 10Gbps, or a bare number of bit/s),
 // delays Go durations, buffers packets. A link's bandwidth and buffer are

@@ -349,3 +349,35 @@ topologies:
 		t.Errorf("got %v, want an error at exp.yaml:11:21", err)
 	}
 }
+
+// The topology file shown in doc.go (copied into the README) reads as
+// its comments say.
+func TestDocFile(t *testing.T) {
+	doc, err := os.ReadFile("doc.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var text strings.Builder
+	in := false
+	for _, line := range strings.Split(string(doc), "\n") {
+		if strings.HasPrefix(line, "//\tname: small-mesh") {
+			in = true
+		}
+		if in && !strings.HasPrefix(line, "//\t") {
+			break
+		}
+		if in {
+			text.WriteString(strings.TrimPrefix(line, "//\t") + "\n")
+		}
+	}
+	g, err := ParseFile("doc.yaml", []byte(text.String()))
+	if err != nil {
+		t.Fatalf("%v\n%s", err, text.String())
+	}
+	b, c := g.Nodes[1], g.Nodes[2]
+	bc, _ := sim.PropagationDelay(b, c)
+	want := []sim.Link{{A: 0, B: 1, Bandwidth: 1e6, Delay: 4 * sim.Millisecond, Buffer: 10}, {A: 1, B: 2, Bandwidth: 2e6, Delay: bc, Buffer: 50}}
+	if !reflect.DeepEqual(g.Links, want) || b.Processing != 20*sim.Microsecond {
+		t.Errorf("got %+v %+v, want %+v", g.Links, g.Nodes, want)
+	}
+}

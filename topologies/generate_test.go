@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"os"
 	"reflect"
 	"strings"
 	"testing"
@@ -452,5 +453,56 @@ func BenchmarkGenerate(b *testing.B) {
 			}
 			b.ReportMetric(float64(nodes)/b.Elapsed().Seconds(), "nodes/s")
 		})
+	}
+}
+
+// The table of defaults in doc.go (copied into the README) says what
+// Generate builds.
+func TestDocTable(t *testing.T) {
+	doc, err := os.ReadFile("doc.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows := 0
+	for _, line := range strings.Split(string(doc), "\n") {
+		if !strings.HasPrefix(line, "//\t") {
+			continue
+		}
+		f := strings.Fields(strings.TrimPrefix(line, "//"))
+		if len(f) < 4 {
+			continue
+		}
+		if _, ok := lookup(f[0]); !ok {
+			continue
+		}
+		rows++
+		g := mustGenerate(t, f[0], nil)
+		got := fmt.Sprintf("%d %d %d", len(g.Nodes), len(g.Links), sim.Compile(g).Diameter())
+		if want := strings.Join(f[len(f)-3:], " "); got != want {
+			t.Errorf("doc.go says %s has nodes, links, diameter %s; Generate gives %s", f[0], want, got)
+		}
+		for _, kv := range f[1 : len(f)-3] {
+			k, v, _ := strings.Cut(kv, "=")
+			for _, in := range List() {
+				if in.Name != f[0] {
+					continue
+				}
+				found := false
+				for _, p := range in.Params {
+					if p.Name == k {
+						found = true
+						if fmtNum(p.Default) != v {
+							t.Errorf("doc.go says %s default %s=%s; List says %g", f[0], k, v, p.Default)
+						}
+					}
+				}
+				if !found {
+					t.Errorf("doc.go names parameter %s of %s, which does not exist", k, f[0])
+				}
+			}
+		}
+	}
+	if rows != len(generators) {
+		t.Errorf("doc.go table has %d rows, want %d", rows, len(generators))
 	}
 }
