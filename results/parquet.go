@@ -2,6 +2,7 @@ package results
 
 import (
 	"bufio"
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -97,8 +98,20 @@ func readTable[T any](path, table string) ([]T, error) {
 	if err != nil {
 		return nil, fmt.Errorf("results: %w", err)
 	}
-	return readRows[T](f, st.Size(), path, table)
+	if st.Size() > inMemoryBytes {
+		return readRows[T](f, st.Size(), path, table)
+	}
+	// Small files (every part) are read in one system call: the Parquet
+	// reader otherwise issues many small reads for the footer.
+	b := make([]byte, st.Size())
+	if _, err := io.ReadFull(f, b); err != nil {
+		return nil, fmt.Errorf("results: %s: %w", path, err)
+	}
+	return readRows[T](bytes.NewReader(b), int64(len(b)), path, table)
 }
+
+// inMemoryBytes is the largest table file read whole into memory.
+const inMemoryBytes = 64 << 20
 
 // readRows reads every row of the Parquet file in r (size bytes, called
 // path in errors), checking that it holds the named table.
