@@ -79,13 +79,10 @@ func (f *File) UnmarshalYAML(n ast.Node) error {
 		return err
 	}
 	*f = File(p)
-	f.Pos = yamlx.PosOf(n)
+	f.Pos = mapPos(n)
 	it := n.(ast.MapNode).MapRange()
-	for first := true; it.Next(); first = false {
+	for it.Next() {
 		k := it.Key()
-		if first {
-			f.Pos = yamlx.PosOf(k) // a block mapping's own token is its first colon
-		}
 		switch k.GetToken().Value {
 		case "nodes":
 			f.NodesPos = yamlx.PosOf(k)
@@ -96,9 +93,23 @@ func (f *File) UnmarshalYAML(n ast.Node) error {
 	return nil
 }
 
+// mapPos is where a mapping starts: its brace, or for a block mapping its
+// first key (the library places a block mapping at its first colon).
+func mapPos(n ast.Node) yamlx.Pos {
+	if m, ok := n.(*ast.MappingNode); ok && m.IsFlowStyle {
+		return yamlx.PosOf(n)
+	}
+	if m, ok := n.(ast.MapNode); ok {
+		if it := m.MapRange(); it.Next() {
+			return yamlx.PosOf(it.Key())
+		}
+	}
+	return yamlx.PosOf(n)
+}
+
 // UnmarshalYAML accepts a bare name or a mapping.
 func (s *NodeSpec) UnmarshalYAML(n ast.Node) error {
-	pos := yamlx.PosOf(n)
+	pos := mapPos(n)
 	if _, ok := n.(ast.MapNode); ok {
 		type plain NodeSpec
 		var p plain
@@ -123,7 +134,7 @@ func (s *NodeSpec) UnmarshalYAML(n ast.Node) error {
 
 // UnmarshalYAML decodes a link's mapping and records where it starts.
 func (s *LinkSpec) UnmarshalYAML(n ast.Node) error {
-	pos := yamlx.PosOf(n)
+	pos := mapPos(n)
 	if _, ok := n.(ast.MapNode); !ok {
 		return yamlx.At(pos, "a link is a mapping {a, b, bandwidth, delay, buffer}, got %s", kind(n))
 	}

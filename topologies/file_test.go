@@ -28,6 +28,8 @@ var malformed = []struct {
 	{"yaml-missing-end", "t.yaml", "nodes: [a, b]\nlinks:\n  - {a: a}\n", "t.yaml:3:5: "},
 	{"yaml-duplicate-node", "t.yaml", "nodes:\n  - a\n  - b\n  - a\n", "t.yaml:4:5: "},
 	{"yaml-duplicate-link", "t.yaml", "nodes: [a, b]\nlinks:\n  - {a: a, b: b}\n  - {a: b, b: a}\n", "t.yaml:4:5: "},
+	{"yaml-duplicate-link-block", "t.yaml", "nodes: [a, b]\nlinks:\n  - a: a\n    b: b\n  - b: a\n    a: b\n", "t.yaml:5:5: "},
+	{"yaml-block-node-no-name", "t.yaml", "nodes:\n  - a\n  - x_km: 1\n    y_km: 2\n", "t.yaml:3:5: "},
 	{"yaml-self-loop", "t.yaml", "nodes: [a, b]\nlinks:\n  - {a: a, b: a}\n", "t.yaml:3:15: "},
 	{"yaml-negative-bandwidth", "t.yaml", "nodes: [a, b]\nlinks:\n  - a: a\n    b: b\n    bandwidth: -2Mbps\n", "t.yaml:5:16: "},
 	{"yaml-zero-default-bandwidth", "t.yaml", "defaults: {bandwidth: 0}\nnodes: [a, b]\nlinks:\n  - {a: a, b: b}\n", "t.yaml:1:23: "},
