@@ -35,7 +35,7 @@ func axisFor(metricName string, curves []Curve) metricAxis {
 	case "delivery_p95_s", "delivery_mean_s":
 		label := "mean delivery time"
 		if metricName == "delivery_p95_s" {
-			label = "95th percentile of delivery time"
+			label = "delivery time, p95"
 		}
 		scale, unit := timeUnit(hi)
 		return metricAxis{label: label, scale: scale, unit: unit, logY: lo > 0 && hi/lo > 30}
@@ -49,9 +49,12 @@ func setRange(ax *plot.Axis, lo, hi float64, logScale bool) {
 		lo, hi = 0, 1
 	}
 	if logScale {
-		ax.Scale = plot.LogScale{}
-		ax.Tick.Marker = plot.LogTicks{Prec: -1}
-		ax.Min, ax.Max = lo/1.25, hi*1.25
+		// A log axis is a linear axis of log10 values with ticks labelled
+		// in the values: plot.LogScale would misplace the axis label's
+		// bounding box (it centres it on the mean of Min and Max, not on
+		// the middle of the axis) and leave a wide gap above the panel.
+		ax.Tick.Marker = logAxisTicks{}
+		ax.Min, ax.Max = math.Log10(lo/1.25), math.Log10(hi*1.25)
 		return
 	}
 	if hi <= lo {
@@ -104,7 +107,11 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, m
 			f.panels[j] = make([]*plot.Plot, len(fails))
 		}
 		for _, lp := range panels {
-			p := newPanel(th, lp.Topology+" · failures: "+lp.Failure, loadLabel, fmt.Sprintf("%s (%s)", ax.label, ax.unit))
+			unit := ax.unit
+			if ax.logY {
+				unit += ", log scale"
+			}
+			p := newPanel(th, lp.Topology+" · failures: "+lp.Failure, loadLabel, fmt.Sprintf("%s (%s)", ax.label, unit))
 			for _, c := range lp.Curves {
 				addCurve(p, c, styleFor(idx[c.Agent]), ax.scale, ax.logY, true)
 			}

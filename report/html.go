@@ -29,7 +29,7 @@ dl.facts dd { margin: 0; }
 nav ol { columns: 2; padding-left: 1.2em; }
 a { color: var(--accent); }
 figure.chart { background:var(--card); border:1px solid var(--line); border-radius:6px; margin: 12px 0 20px; padding: 10px; overflow-x: auto; }
-figure.chart img { display:block; max-width:100%; height:auto; }
+figure.chart img { display:block; max-width:100%; height:auto; margin: 0 auto; }
 figcaption { color: var(--muted); font-size: 0.9em; margin-top: 6px; }
 table { border-collapse: collapse; background: var(--card); margin: 8px 0 20px; font-size: 0.9em; }
 th, td { border: 1px solid var(--line); padding: 4px 8px; text-align: right; white-space: nowrap; }
@@ -62,7 +62,7 @@ td.best::after { content: " ★"; color: var(--accent); }
 {{range .Charts}}<section class="chart-section">
 <h2>{{.Title}}</h2>
 <figure class="chart" id="{{.ID}}" data-chart="{{.ID}}">
-<img class="chart-img" id="img-{{.ID}}" alt="{{.Title}}" src="{{.Src}}">
+<img class="chart-img" id="img-{{.ID}}" alt="{{.Title}}" width="{{.W}}" height="{{.H}}" src="{{.Src}}">
 <figcaption>{{.Caption}}</figcaption>
 </figure>
 </section>

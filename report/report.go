@@ -307,6 +307,7 @@ func (r *Report) HTML(w io.Writer) error {
 	type chartView struct {
 		ID, Title, Caption string
 		Src                template.URL
+		W, H               int
 	}
 	type recView struct {
 		Agent, Recovery, NotRecovered, Lost string
@@ -319,7 +320,8 @@ func (r *Report) HTML(w io.Writer) error {
 	var charts []chartView
 	for _, c := range r.Charts {
 		src := "data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(c.themedSVG(false))
-		charts = append(charts, chartView{ID: c.ID, Title: c.Title, Caption: c.Caption, Src: template.URL(src)})
+		w, h := c.displaySize()
+		charts = append(charts, chartView{ID: c.ID, Title: c.Title, Caption: c.Caption, Src: template.URL(src), W: w, H: h})
 	}
 	var events []eventView
 	for _, ep := range r.Events {

@@ -1,0 +1,169 @@
+package report
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/parquet-go/parquet-go"
+)
+
+// Drug 1 and drug 2 hours of additional sleep for ten patients, Student
+// (1908) after Cushny & Peebles; their differences are sleepDiffs.
+var (
+	sleepDrug1 = []float64{0.7, -1.6, -0.2, -1.2, -0.1, 3.4, 3.7, 0.8, 0.0, 2.0}
+	sleepDrug2 = []float64{1.9, 0.8, 1.1, 0.1, -0.1, 4.4, 5.5, 1.6, 4.6, 3.4}
+)
+
+// sleepData holds the sleep table as two agents' runs, replicate i being
+// patient i, in a scrambled row order.
+func sleepData() *Data {
+	d := &Data{Dir: "sleep", Experiment: "sleep"}
+	for k := range 10 {
+		i := (k * 7) % 10 // scramble: pairing must go by replicate, not row
+		for _, ag := range []struct {
+			name string
+			v    float64
+		}{{"drug-2", sleepDrug2[i]}, {"drug-1", sleepDrug1[i]}} {
+			d.Runs = append(d.Runs, Run{Cell: Cell{Topology: "ward", Agent: ag.name, Load: 1, Failure: "none"},
+				Replicate: i, DeliveryMean: ag.v, DeliveryP95: ag.v, LossRate: ag.v})
+		}
+	}
+	return d
+}
+
+func TestCompareStudentSleep(t *testing.T) {
+	rows, err := Compare(sleepData(), "drug-2", "drug-1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != len(CompareMetrics) {
+		t.Fatalf("got %d rows, want %d", len(rows), len(CompareMetrics))
+	}
+	for _, r := range rows {
+		// Student (1908): mean difference 1.58; t = 4.06 on 9 degrees of
+		// freedom, p = 0.0028 (see TestPairedTStudentSleep); Wilcoxon exact
+		// p = 2/512 (computed by hand, see TestWilcoxonHandWorked).
+		if r.N != 10 || math.Round(r.MeanDiff*100)/100 != 1.58 || math.Round(r.T*100)/100 != 4.06 ||
+			r.DF != 9 || math.Round(r.PT*1e4)/1e4 != 0.0028 || r.PW != 2.0/512 || r.NW != 9 || r.WMethod != "exact" {
+			t.Errorf("%s: got %+v", r.Metric, r)
+		}
+		if math.Round(r.MeanA*100)/100 != 2.33 || math.Round(r.MeanB*100)/100 != 0.75 {
+			t.Errorf("%s: means %v, %v; want 2.33, 0.75 (Student 1908)", r.Metric, r.MeanA, r.MeanB)
+		}
+		if !close(r.CI95Low, r.MeanDiff-r.CI95) || !close(r.CI95High, r.MeanDiff+r.CI95) {
+			t.Errorf("%s: interval [%v, %v] not mean ± %v", r.Metric, r.CI95Low, r.CI95High, r.CI95)
+		}
+	}
+	// reversed roles: the difference and t change sign, p does not
+	rev, err := Compare(sleepData(), "drug-1", "drug-2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !close(rev[0].MeanDiff, -rows[0].MeanDiff) || !close(rev[0].T, -rows[0].T) || !close(rev[0].PT, rows[0].PT) || !close(rev[0].PW, rows[0].PW) {
+		t.Errorf("reversed: got %+v", rev[0])
+	}
+}
+
+func TestComparePairsByReplicate(t *testing.T) {
+	d := sleepData()
+	// drop drug-1's replicate 4 (the zero difference) and null drug-2's
+	// delivery_p95 in replicate 0: those pairs must be left out
+	var runs []Run
+	for _, r := range d.Runs {
+		if r.Agent == "drug-1" && r.Replicate == 4 {
+			continue
+		}
+		if r.Agent == "drug-2" && r.Replicate == 0 {
+			r.DeliveryP95 = math.NaN()
+		}
+		runs = append(runs, r)
+	}
+	d.Runs = runs
+	rows, err := Compare(d, "drug-2", "drug-1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string][]float64{
+		"delivery_mean_s": {1.2, 2.4, 1.3, 1.3, 1.0, 1.8, 0.8, 4.6, 1.4},
+		"delivery_p95_s":  {2.4, 1.3, 1.3, 1.0, 1.8, 0.8, 4.6, 1.4},
+	}
+	for _, r := range rows[:2] {
+		p := PairedTTest(want[r.Metric])
+		if int(r.N) != len(want[r.Metric]) || !close(r.MeanDiff, p.MeanDiff) || !close(r.PT, p.P) {
+			t.Errorf("%s: got n=%d diff=%v p=%v, want n=%d diff=%v p=%v", r.Metric, r.N, r.MeanDiff, r.PT, len(want[r.Metric]), p.MeanDiff, p.P)
+		}
+	}
+}
+
+func TestCompareErrors(t *testing.T) {
+	d := sleepData()
+	for _, tc := range []struct{ a, b, want string }{
+		{"drug-3", "drug-1", `no agent "drug-3"`},
+		{"drug-1", "drug-1", "both"},
+	} {
+		_, err := Compare(d, tc.a, tc.b)
+		var ie *InputError
+		if err == nil || !strings.Contains(err.Error(), tc.want) || !asInput(err, &ie) {
+			t.Errorf("Compare(%q, %q): got %v, want an input error naming %q", tc.a, tc.b, err, tc.want)
+		}
+	}
+	// agents that never share a cell
+	d.Runs = append(d.Runs, Run{Cell: Cell{Topology: "clinic", Agent: "drug-3", Load: 1, Failure: "none"}})
+	if _, err := Compare(d, "drug-3", "drug-1"); err == nil {
+		t.Error("agents without a common cell: no error")
+	}
+}
+
+func asInput(err error, target **InputError) bool {
+	ie, ok := err.(*InputError)
+	if ok {
+		*target = ie
+	}
+	return ok
+}
+
+func TestWriteComparisonsRoundTrip(t *testing.T) {
+	rows, err := Compare(sleepData(), "drug-2", "drug-1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	path := filepath.Join(dir, "compare.parquet")
+	if err := WriteComparisons(path, rows); err != nil {
+		t.Fatal(err)
+	}
+	// read back through the column reader (not the typed writer's struct)
+	tb, err := readTable(path, []string{"experiment", "topology", "load", "failure", "agent_a", "agent_b", "metric", "n",
+		"mean_a", "mean_b", "mean_diff", "ci95", "ci95_low", "ci95_high", "t", "df", "p_t", "w_plus", "n_wilcoxon", "p_wilcoxon", "wilcoxon_method"}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if tb.rows != len(rows) {
+		t.Fatalf("got %d rows, want %d", tb.rows, len(rows))
+	}
+	for i, r := range rows {
+		if tb.s("metric", i) != r.Metric || tb.f("p_t", i) != r.PT || tb.f("mean_diff", i) != r.MeanDiff ||
+			tb.s("agent_a", i) != "drug-2" || tb.s("wilcoxon_method", i) != "exact" || tb.f("n", i) != 10 {
+			t.Errorf("row %d differs from what was written", i)
+		}
+	}
+	// the file is complete Parquet that parquet-go opens, and nothing else
+	// is left in the folder
+	f, _ := os.Open(path)
+	st, _ := f.Stat()
+	if _, err := parquet.OpenFile(f, st.Size()); err != nil {
+		t.Error(err)
+	}
+	f.Close()
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 {
+		t.Errorf("folder holds %d entries, want 1", len(entries))
+	}
+	// a failing write leaves the previous file untouched
+	if err := WriteComparisons(filepath.Join(dir, "missing", "compare.parquet"), rows); err == nil {
+		t.Error("write into a missing folder: no error")
+	}
+}
