@@ -3,8 +3,8 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
-	"io"
 	"flag"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
