@@ -187,7 +187,7 @@ func BenchmarkFeedback(b *testing.B) {
 // run, and fails if a decision allocates (house rule: the hot loop
 // allocates nothing), or if q-network's decision at hidden [32] on a 4×4
 // grid takes over 2 µs (best of three timings of 5,000 decisions, so that a
-// busy machine does not fail it).
+// busy machine does not fail it; not checked under -race).
 func TestDecisionsDoNotAllocate(t *testing.T) {
 	for _, p := range benchParams() {
 		var allocs float64
@@ -206,7 +206,7 @@ func TestDecisionsDoNotAllocate(t *testing.T) {
 		if allocs != 0 {
 			t.Errorf("%s: %.1f allocations per decision, want 0", p.Canonical(), allocs)
 		}
-		if p.Kind == agents.QNetworkKind && best > 2*time.Microsecond {
+		if p.Kind == agents.QNetworkKind && !raceEnabled && best > 2*time.Microsecond {
 			t.Errorf("%s: %v per decision, want at most 2µs", p.Canonical(), best)
 		}
 	}
