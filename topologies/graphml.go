@@ -176,9 +176,24 @@ func (p *gmlParser) children(f func(e xml.StartElement, pos yamlx.Pos) error) er
 	}
 }
 
-// skip consumes the rest of the current element.
+// skip consumes the rest of the current element, however deeply nested.
 func (p *gmlParser) skip() error {
-	return p.children(func(xml.StartElement, yamlx.Pos) error { return p.skip() })
+	for depth := 1; depth > 0; {
+		tok, err := p.next()
+		if err == io.EOF {
+			return p.errAt(p.pos, "malformed GraphML: unexpected end of file")
+		}
+		if err != nil {
+			return err
+		}
+		switch tok.(type) {
+		case xml.StartElement:
+			depth++
+		case xml.EndElement:
+			depth--
+		}
+	}
+	return nil
 }
 
 // text returns the character data of the current element, which must have
