@@ -6,18 +6,82 @@
 // Experiment.Replicates times. Parse decodes a file strictly (unknown fields
 // are errors) and checks everything that can be checked before a run starts —
 // topology files, node names in traffic pairs and failure events, agent
-// parameters — reporting each problem as FILE:LINE:COL: field: message
-// (a *yamlx.Error). Experiment.Runs lists the runs in a fixed order;
-// Run.Config builds the engine configuration of one run and Run.Execute runs
-// it and returns its result tables.
+// parameters, every agent built once on every topology — reporting each
+// problem as a *yamlx.Error, FILE:LINE:COL: field: message. Experiment.Runs
+// lists the runs in a fixed order; Run.Config builds the engine configuration
+// of one run and Run.Execute runs it and returns its result tables.
 //
-// Seeds. A run's seed is a hash of the experiment seed, the cell's identity
-// without the agent (topology label, load, failure name) and the replicate
-// number, so adding a cell never changes another cell's seeds, and every agent
-// of one cell and replicate sees the same traffic and failures (common random
-// numbers for paired comparisons). The agent's own seed mixes the run seed with
-// the agent label.
+// # File reference
+//
+// Durations use Go syntax (600s, 50ms, 1m30s), bandwidths SI bit rates
+// (1Mbps, 10Gbps), sizes bytes, rates N/s (also N/ms, N/min).
+//
+//	name         required; letters, digits, '.', '_', '-'
+//	description  optional one-line text (shown by `hoplore experiments`)
+//	duration     required, > 0: simulated time per run
+//	warmup       default 0s, < duration: packets generated earlier are not measured
+//	bin          default duration/100, in (0, duration]: time-series bin width
+//	replicates   default 1, ≥ 1
+//	seed         default 1, a whole number 0 … 2^64-1
+//	hop_limit    default 64, 1 … 65535
+//	topologies   required list; each entry is one of
+//	               NAME                            a bundled generator at its defaults
+//	               {name: NAME, PARAM: value ...}  a bundled generator with parameters
+//	               {file: PATH}                    a topology file, relative to this file;
+//	                                               .graphml/.xml files are read as GraphML
+//	               {inline: {name, defaults, nodes, links}}  a topology file's content
+//	             a mapping entry may add label: TEXT (the topology column's value; by
+//	             default the generator label such as "ring(nodes=6)", else the
+//	             topology's name, else inline-INDEX); labels must differ
+//	traffic
+//	  matrix       uniform (default) | gravity | hotspot | pairs (implied by pairs:)
+//	  pairs        with matrix pairs: [{from: NODE, to: NODE, rate: N/s}, ...]; give a
+//	               rate on every pair or on none. With loads, the rates (1 each when
+//	               absent) are only the matrix's shape; without loads they are absolute
+//	               packets/s and the load column holds the normalised load they amount to
+//	  hotspot      with matrix hotspot: {nodes: [NODE, ...], fraction: F}; fraction
+//	               (default 0.5, in [0, 1]) of every source's packets go to the hot nodes,
+//	               split evenly, the rest uniformly to the others; nodes default to the
+//	               node with the most attached bandwidth (lowest index among equals)
+//	  packet_size  default {dist: fixed, bytes: 1000}; dist is one of
+//	               fixed {bytes} | exponential {mean_bytes} |
+//	               bimodal {small_bytes, large_bytes, large_fraction in [0, 1]};
+//	               sizes ≥ 1 byte; redraw: per-hop draws a fresh size at every hop
+//	               (default none: a packet keeps its size)
+//	  loads        required unless pairs give absolute rates: normalised loads > 0,
+//	               distinct; 1.0 saturates the busiest channel under hop-count
+//	               shortest path (lowest-index tie-break) on the intact topology
+//	  flows        optional, ≥ 1: flow labels per pair for ECMP hashing (default 8)
+//	agents       required list; each entry is KIND or {kind: KIND, label: TEXT, FIELD: value ...}
+//	             with the fields of that kind only (agents.Fields); the others are errors.
+//	             Unset fields take agents.Defaults(kind). consensus is {every: DURATION
+//	             (required), weight: W (default 0.5)}. Two entries with the same label
+//	             (explicit or canonical) are an error
+//	failures     default [none]; each entry is none or a mapping:
+//	  name         required, distinct, not "none"
+//	  detection    default 50ms, ≥ 0: time until the end nodes notice a link change
+//	  events       [{at: DURATION in [0, duration), link: [A, B] | node: N | group: G,
+//	               action: down | up}, ...]; each element alternates down, up, ... in time
+//	  groups       {G: [[A, B], [C, D], ...]}: shared-risk groups, links that fail together
+//	  random       {scope: links (default) | nodes, mtbf: DURATION, mttr: DURATION}: every
+//	               element alternates exponential up times (mean mtbf) and down times
+//	               (mean mttr) for the whole run, drawn from the run's seed
+//	             a mapping needs events, random or both. Event and group names must exist
+//	             in every topology of the file (checked before anything runs)
+//
+// # Grid order and seeds
+//
+// Runs are ordered by topology, then load, then failure schedule, then agent
+// (each in file order), then replicate (numbered from 0). A run's seed is
+// sim.Mix of the experiment seed, the FNV-1a hash of the cell's key without
+// the agent ("topology=…, load=…, failure=…") and the replicate, so adding a
+// cell never changes another cell's seeds, and every agent of one cell and
+// replicate sees the same traffic and failures (common random numbers for
+// paired comparisons). The agent's own seed mixes the run seed with the agent
+// label. A run's id is the first 12 hex digits of the SHA-256 of the
+// experiment name, the cell key, the agent label and the replicate.
 //
 // Bundled experiments (demo, load-sweep, link-failure, single-queue) are
-// embedded in the binary; Resolve finds a file path or a bundled name.
+// embedded in the binary with the topology files they use; Resolve finds a
+// file path or a bundled name.
 package experiments
