@@ -458,10 +458,15 @@ func (r *qnNode) Timer(tag int) {
 	}
 	copy(r.sent, r.theta)
 	vec := append([]float64(nil), r.theta...) // shared by this round's messages; receivers only read
-	for _, c := range r.out {
-		if r.v.Up(c) {
-			r.v.Send(c, sim.Message{Type: msgParams, Vec: vec, Bytes: ParamsMessageBytes(len(vec))})
+	last := -1
+	for k, c := range r.out {
+		// one message per neighbour (parallel links: the first usable one),
+		// as the Metropolis weights count neighbours
+		if r.nbr[k] == last || !r.v.Up(c) {
+			continue
 		}
+		last = r.nbr[k]
+		r.v.Send(c, sim.Message{Type: msgParams, Vec: vec, Bytes: ParamsMessageBytes(len(vec))})
 	}
 	r.v.After(r.cons.every, tagConsensus)
 }

@@ -101,33 +101,6 @@ func BoyanLittmanGrid() *sim.Graph {
 	return g
 }
 
-// TwoGrids returns two side × side grids (nodes 0…side²−1 on the left,
-// side²…2side²−1 on the right) joined by one bridge per listed row r: from
-// the left grid's last column (r·side+side−1) to the right grid's first
-// (side²+r·side).
-func TwoGrids(side int, bridges ...int) *sim.Graph {
-	n := side * side
-	g := newGraph(fmt.Sprintf("two-grids-%d", side), 2*n)
-	for half := 0; half < 2; half++ {
-		off := half * n
-		for r := 0; r < side; r++ {
-			for c := 0; c < side; c++ {
-				v := off + r*side + c
-				if c+1 < side {
-					addLink(g, v, v+1)
-				}
-				if r+1 < side {
-					addLink(g, v, v+side)
-				}
-			}
-		}
-	}
-	for _, r := range bridges {
-		addLink(g, r*side+side-1, n+r*side)
-	}
-	return g
-}
-
 // UniformRates returns a uniform traffic matrix scaled as SPEC §2's
 // normalised load: under hop-count shortest paths with the lowest-index
 // tie-break on the intact graph, the busiest channel is exactly at
