@@ -251,7 +251,7 @@ func addCurve(p *plot.Plot, c Curve, st agentStyle, yscale float64, logY, marker
 		if math.IsNaN(h) {
 			h = 0
 		}
-		l, u := m-h, m+h
+		l, u := math.Max(0, m-h), m+h // every charted quantity is non-negative
 		if logY {
 			// log axes are drawn as log10 of the values on a linear axis
 			// (see logAxisTicks)
@@ -284,12 +284,17 @@ func timeUnit(maxS float64) (scale float64, unit string) {
 	return 1, "s"
 }
 
-// valueRange returns the smallest and largest finite mean and CI ends.
+// valueRange returns the smallest and largest finite mean and CI ends,
+// leaving out lower ends at or below zero.
 func valueRange(curves []Curve) (lo, hi float64) {
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, c := range curves {
 		for _, p := range c.Points {
-			for _, v := range []float64{p.Est.Mean, p.Est.Mean - nanZero(p.Est.CI95), p.Est.Mean + nanZero(p.Est.CI95)} {
+			low := p.Est.Mean - nanZero(p.Est.CI95)
+			if low <= 0 { // bands are cut at zero: every charted quantity is non-negative
+				low = p.Est.Mean
+			}
+			for _, v := range []float64{p.Est.Mean, low, p.Est.Mean + nanZero(p.Est.CI95)} {
 				if !math.IsNaN(v) && !math.IsInf(v, 0) {
 					lo, hi = math.Min(lo, v), math.Max(hi, v)
 				}

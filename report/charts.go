@@ -236,8 +236,8 @@ func heatColor(v float64) color.NRGBA {
 	return color.NRGBA{mix(a.R, b.R), mix(a.G, b.G), mix(a.B, b.B), 255}
 }
 
-// heatPlotter draws a grid of coloured cells: row i spans y in [i−½, i+½],
-// column j spans x in [edges[j], edges[j+1]].
+// heatPlotter draws a grid of coloured cells, the first row on top: row i
+// spans y in [n−1−i−½, n−1−i+½], column j spans x in [edges[j], edges[j+1]].
 type heatPlotter struct {
 	values [][]float64
 	edges  []float64
@@ -251,9 +251,10 @@ func (h heatPlotter) Plot(c draw.Canvas, p *plot.Plot) {
 			if math.IsNaN(v) {
 				continue
 			}
+			y := float64(len(h.values) - 1 - i) // first row on top
 			r := vg.Rectangle{
-				Min: vg.Point{X: trX(h.edges[j]), Y: trY(float64(i) - 0.46)},
-				Max: vg.Point{X: trX(h.edges[j+1]) + vg.Points(0.4), Y: trY(float64(i) + 0.46)},
+				Min: vg.Point{X: trX(h.edges[j]), Y: trY(y - 0.46)},
+				Max: vg.Point{X: trX(h.edges[j+1]) + vg.Points(0.4), Y: trY(y + 0.46)},
 			}
 			c.SetColor(heatColor(v))
 			c.Fill(r.Path())
@@ -290,7 +291,9 @@ func colourBar(label string) func(draw.Canvas, theme) vg.Length {
 
 func heatPanel(th theme, title, xlabel string, h Heat, edges []float64) *plot.Plot {
 	p := basePanel(th, title, xlabel, "agent")
-	p.Y.Tick.Marker = nominalTicks(h.Rows)
+	rows := slices.Clone(h.Rows)
+	slices.Reverse(rows)
+	p.Y.Tick.Marker = nominalTicks(rows)
 	p.Y.Tick.Length = 0
 	p.Add(heatPlotter{values: h.Values, edges: edges, th: th})
 	p.Y.Min, p.Y.Max = -0.5, float64(len(h.Rows))-0.5
