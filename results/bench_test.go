@@ -41,17 +41,22 @@ func BenchmarkFinalize(b *testing.B) {
 		order[i] = t.Run.RunID
 	}
 	meta := Meta{Version: "bench", Experiment: "bench", ExperimentHash: "h"}
-	b.ReportAllocs()
-	b.ResetTimer()
-	for b.Loop() {
-		if err := Finalize(dir, order, meta); err != nil {
-			b.Fatal(err)
-		}
-	}
-	b.ReportMetric(float64(b.Elapsed().Seconds())/float64(b.N)/1000*1e6, "µs/run")
-	runs, err := ReadRuns(dir + "/" + RunsFile)
-	if err != nil || len(runs) != 1000 {
-		b.Fatalf("read back %d runs, %v", len(runs), err)
+	for _, sync := range []bool{true, false} {
+		b.Run(fmt.Sprintf("sync=%v", sync), func(b *testing.B) {
+			testNoSync = !sync
+			defer func() { testNoSync = false }()
+			b.ReportAllocs()
+			for b.Loop() {
+				if err := Finalize(dir, order, meta); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(b.Elapsed().Seconds())/float64(b.N)/1000*1e6, "µs/run")
+			runs, err := ReadRuns(dir + "/" + RunsFile)
+			if err != nil || len(runs) != 1000 {
+				b.Fatalf("read back %d runs, %v", len(runs), err)
+			}
+		})
 	}
 }
 

@@ -4,8 +4,8 @@
 // A result folder holds:
 //
 //	experiment.json       marker: experiment name, hash, tool version (MarkDir, CheckDir)
-//	parts/<run_id>/       one finished run: runs, series, links and recoveries
-//	                      .parquet files (WritePart, ListParts, ReadPart)
+//	parts/<run_id>.part   one finished run's rows, checksummed (WritePart,
+//	                      ListParts, ReadPart)
 //	runs.parquet          one row per run                  (RunRow)
 //	series.parquet        one row per run and time bin     (SeriesRow)
 //	links.parquet         one row per run and channel      (LinkRow)
@@ -16,7 +16,7 @@
 // WritePart; a resumed sweep skips the runs ListParts reports; Finalize then
 // assembles the tables in the sweep's run order, and Merge combines folders
 // (shards, resumed pieces). Every file is written atomically (a temporary
-// file or folder whose name starts with a dot, synced, then renamed), so a
+// file whose name starts with a dot, synced, then renamed), so a
 // reader never sees half a file, and every table file carries the
 // experiment's name and hash and the tool version as key-value metadata
 // (Key*). Times are float64 seconds; statistics of nothing are null.

@@ -63,7 +63,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.WallS = wall
 	run.Version = version
 
-	t.Series = make([]SeriesRow, len(r.Series))
+	t.Series = makeRows[SeriesRow](len(r.Series))
 	for i := range r.Series {
 		b := &r.Series[i]
 		t.Series[i] = SeriesRow{
@@ -81,7 +81,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 		}
 	}
 
-	t.Links = make([]LinkRow, len(net.Channels))
+	t.Links = makeRows[LinkRow](len(net.Channels))
 	for i := range net.Channels {
 		c := &net.Channels[i]
 		cr := &r.Channels[i]
@@ -101,7 +101,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 		}
 	}
 
-	t.Recoveries = make([]RecoveryRow, len(r.Failures))
+	t.Recoveries = makeRows[RecoveryRow](len(r.Failures))
 	for k := range r.Failures {
 		ev := &r.Failures[k]
 		rec := Recover(r.Series, r.Failures, k, cfg.Warmup)
@@ -127,6 +127,14 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 		t.Recoveries[k] = row
 	}
 	return t
+}
+
+// makeRows returns n zero rows, nil for none (as parts read back).
+func makeRows[T any](n int) []T {
+	if n == 0 {
+		return nil
+	}
+	return make([]T, n)
 }
 
 // ratio returns num/den, or nil when den is 0 or the ratio is not finite.

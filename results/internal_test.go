@@ -23,7 +23,7 @@ func TestWritePartInvisibleUntilComplete(t *testing.T) {
 		if err != nil || len(ids) != 0 {
 			t.Errorf("complete but unrenamed part listed: %v %v", ids, err)
 		}
-		if _, err := os.Stat(filepath.Join(tmp, SeriesFile)); err == nil {
+		if st, err := os.Stat(tmp); err == nil && st.Size() > 0 {
 			sawTmp = true
 		}
 		return errors.New("crash")

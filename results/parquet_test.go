@@ -310,15 +310,14 @@ func TestCrashLeftoversIgnored(t *testing.T) {
 	clean, dirty := t.TempDir(), t.TempDir()
 	writeAll(t, clean, runs, identity(len(runs)))
 	writeAll(t, dirty, runs, identity(len(runs)))
-	// a half-written part of another run, and half-written final tables
-	tmp := filepath.Join(dirty, results.PartsDir, ".tmp-4242")
-	if err := os.MkdirAll(tmp, 0o755); err != nil {
+	// a half-written part of another run, a leftover folder, and a
+	// half-written final table
+	parts := filepath.Join(dirty, results.PartsDir)
+	if err := os.WriteFile(filepath.Join(parts, ".other.part.tmp-4242"), []byte("hoplore-part\n\x01half"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{results.RunsFile, results.SeriesFile} {
-		if err := os.WriteFile(filepath.Join(tmp, f), []byte("PAR1\x00\x01half"), 0o644); err != nil {
-			t.Fatal(err)
-		}
+	if err := os.MkdirAll(filepath.Join(parts, ".tmp-1", "x.part"), 0o755); err != nil {
+		t.Fatal(err)
 	}
 	if err := os.WriteFile(filepath.Join(dirty, "."+results.RunsFile+".tmp-77"), []byte("PAR1"), 0o644); err != nil {
 		t.Fatal(err)
@@ -347,15 +346,22 @@ func TestCorruptPartRefused(t *testing.T) {
 		t.Fatal(err)
 	}
 	before := readFiles(t, dir)
-	// truncate one part's series file
-	ents, _ := os.ReadDir(filepath.Join(dir, results.PartsDir))
-	p := filepath.Join(dir, results.PartsDir, ents[1].Name(), results.SeriesFile)
-	b, _ := os.ReadFile(p)
-	if err := os.WriteFile(p, b[:len(b)/2], 0o644); err != nil {
+	// a truncated part, then one with a flipped byte
+	p := filepath.Join(dir, results.PartsDir, "shortest-path%2F1.2%2Fr0.part")
+	b, err := os.ReadFile(p)
+	if err != nil {
 		t.Fatal(err)
 	}
-	if err := results.Finalize(dir, ids(runs), testMeta); err == nil {
-		t.Fatal("Finalize read a truncated part")
+	for _, bad := range [][]byte{b[:len(b)/2], append(append([]byte{}, b[:100]...), append([]byte{b[100] ^ 4}, b[101:]...)...)} {
+		if err := os.WriteFile(p, bad, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		if err := results.Finalize(dir, ids(runs), testMeta); err == nil {
+			t.Fatal("Finalize read a damaged part")
+		}
+		if _, err := results.ReadPart(dir, runs[1].Run.RunID); err == nil {
+			t.Fatal("ReadPart read a damaged part")
+		}
 	}
 	sameFiles(t, before, readFiles(t, dir), "after a failed Finalize")
 }
@@ -402,6 +408,11 @@ func TestRunIDEscaping(t *testing.T) {
 	tb.Series[0].RunID = "other"
 	if err := results.WritePart(dir, tb); err == nil {
 		t.Error("WritePart accepted a series row of another run")
+	}
+	tb.Series[0].RunID = tb.Run.RunID
+	tb.Links[3].Load = 7
+	if err := results.WritePart(dir, tb); err == nil {
+		t.Error("WritePart accepted a links row with other dimensions")
 	}
 	tb.Run.RunID = ""
 	if err := results.WritePart(dir, tb); err == nil {

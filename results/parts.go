@@ -1,6 +1,7 @@
 package results
 
 import (
+	"bufio"
 	"cmp"
 	"errors"
 	"fmt"
@@ -18,143 +19,75 @@ import (
 const PartsDir = "parts"
 
 // WritePart stores one finished run's rows durably in
-// DIR/parts/<run_id>/{runs,series,links,recoveries}.parquet, so that a killed
-// sweep can resume and Finalize can assemble the tables later.
+// DIR/parts/<run_id>.part, so that a killed sweep can resume and Finalize
+// can assemble the tables later. Every row must carry the run's dimensions.
 //
-// The part is written into a temporary folder inside DIR/parts whose name
-// starts with a dot, every file is synced, and the folder is renamed into
-// place in one step: a part is visible completely or not at all, and
-// leftovers of a crash (dot-folders) are ignored by ListParts and Finalize.
-// A run id may be any non-empty string; characters other than ASCII letters,
-// digits, '-', '_' and inner '.' are escaped as %XX in the folder name.
-// Rewriting a finished run replaces its part. Safe for concurrent use on
-// different runs.
+// The part is written to a temporary file in DIR/parts whose name starts
+// with a dot, synced, and renamed into place: a part is visible complete or
+// not at all, and leftovers of a crash (dot-files) are ignored by ListParts
+// and Finalize. Parts end with a checksum, so damage is detected, never read
+// as rows. A run id may be any non-empty string; characters other than
+// ASCII letters, digits, '-', '_' and inner '.' are escaped as %XX in the
+// file name. Rewriting a finished run replaces its part. Safe for concurrent
+// use on different runs. Cost: one file write, two syncs.
 func WritePart(dir string, t *RunTables) error { return writePart(dir, t, true) }
 
-func writePart(dir string, t *RunTables, sync bool) (err error) {
+// PartExt is the file name extension of parts.
+const PartExt = ".part"
+
+func writePart(dir string, t *RunTables, sync bool) error {
 	id := t.Run.RunID
 	if id == "" {
 		return errors.New("results: run has no run id")
 	}
+	d := t.Run.Dims
 	for i := range t.Series {
-		if t.Series[i].RunID != id {
-			return fmt.Errorf("results: run %q: series row %d has run id %q", id, i, t.Series[i].RunID)
+		if t.Series[i].Dims != d {
+			return fmt.Errorf("results: run %q: series row %d has other dimensions", id, i)
 		}
 	}
 	for i := range t.Links {
-		if t.Links[i].RunID != id {
-			return fmt.Errorf("results: run %q: links row %d has run id %q", id, i, t.Links[i].RunID)
+		if t.Links[i].Dims != d {
+			return fmt.Errorf("results: run %q: links row %d has other dimensions", id, i)
 		}
 	}
 	for i := range t.Recoveries {
-		if t.Recoveries[i].RunID != id {
-			return fmt.Errorf("results: run %q: recoveries row %d has run id %q", id, i, t.Recoveries[i].RunID)
+		if t.Recoveries[i].Dims != d {
+			return fmt.Errorf("results: run %q: recoveries row %d has other dimensions", id, i)
 		}
 	}
 	parts := filepath.Join(dir, PartsDir)
 	if err := os.MkdirAll(parts, 0o755); err != nil {
 		return fmt.Errorf("results: %w", err)
 	}
-	tmp, err := os.MkdirTemp(parts, ".tmp-")
+	b := encodePart(t)
+	write := func(w io.Writer) error {
+		_, err := w.Write(b)
+		return err
+	}
+	path := partPath(dir, id)
+	if !sync {
+		return os.WriteFile(path, b, 0o644)
+	}
+	p, err := writeTemp(path, write)
 	if err != nil {
-		return fmt.Errorf("results: %w", err)
-	}
-	defer func() {
-		if err != nil {
-			os.RemoveAll(tmp)
-		}
-	}()
-	kv := [][2]string{{KeyTable, ""}, {"hoplore.run_id", id}}
-	put := func(table string, write func(io.Writer, [][2]string) error) error {
-		kv[0][1] = table
-		path := filepath.Join(tmp, partFileName(table))
-		f, err := os.Create(path)
-		if err != nil {
-			return fmt.Errorf("results: %w", err)
-		}
-		if err := write(f, kv); err != nil {
-			f.Close()
-			return fmt.Errorf("results: writing %s: %w", path, err)
-		}
-		if sync {
-			if err := f.Sync(); err != nil {
-				f.Close()
-				return fmt.Errorf("results: %w", err)
-			}
-		}
-		if err := f.Close(); err != nil {
-			return fmt.Errorf("results: %w", err)
-		}
-		return nil
-	}
-	if err := put(tableRuns, func(w io.Writer, kv [][2]string) error {
-		return writeTable(w, []RunRow{t.Run}, kv)
-	}); err != nil {
 		return err
-	}
-	if err := put(tableSeries, func(w io.Writer, kv [][2]string) error { return writeTable(w, t.Series, kv) }); err != nil {
-		return err
-	}
-	if err := put(tableLinks, func(w io.Writer, kv [][2]string) error { return writeTable(w, t.Links, kv) }); err != nil {
-		return err
-	}
-	if err := put(tableRecoveries, func(w io.Writer, kv [][2]string) error { return writeTable(w, t.Recoveries, kv) }); err != nil {
-		return err
-	}
-	if sync {
-		if err := syncDir(tmp); err != nil {
-			return err
-		}
 	}
 	if testHookInstall != nil {
-		if err := testHookInstall(tmp); err != nil {
+		if err := testHookInstall(p.tmp); err != nil {
+			discard([]pending{p})
 			return err
 		}
 	}
-	return installPart(parts, tmp, id, sync)
+	return commit([]pending{p})
 }
 
 // testHookInstall, when set by a test, runs when a part is complete in its
-// temporary folder, just before the rename that makes it visible.
+// temporary file, just before the rename that makes it visible.
 var testHookInstall func(tmp string) error
 
-// installPart renames the complete part folder tmp to its final name in
-// parts, replacing an older part of the same run.
-func installPart(parts, tmp, id string, sync bool) error {
-	final := filepath.Join(parts, escapeID(id))
-	if err := os.Rename(tmp, final); err != nil {
-		// An older part of the run is in the way: move it aside first.
-		old, err2 := os.MkdirTemp(parts, ".old-")
-		if err2 != nil {
-			return fmt.Errorf("results: %w", err)
-		}
-		aside := filepath.Join(old, "part")
-		if err2 := os.Rename(final, aside); err2 != nil {
-			os.Remove(old)
-			return fmt.Errorf("results: %w", err)
-		}
-		if err := os.Rename(tmp, final); err != nil {
-			return fmt.Errorf("results: %w", err)
-		}
-		os.RemoveAll(old)
-	}
-	if sync {
-		return syncDir(parts)
-	}
-	return nil
-}
-
-func partFileName(table string) string {
-	switch table {
-	case tableRuns:
-		return RunsFile
-	case tableSeries:
-		return SeriesFile
-	case tableLinks:
-		return LinksFile
-	default:
-		return RecoveriesFile
-	}
+func partPath(dir, id string) string {
+	return filepath.Join(dir, PartsDir, escapeID(id)+PartExt)
 }
 
 // ListParts returns the ids of the runs whose parts DIR holds (an empty set
@@ -170,12 +103,12 @@ func ListParts(dir string) (map[string]bool, error) {
 	ids := make(map[string]bool, len(ents))
 	for _, e := range ents {
 		name := e.Name()
-		if !e.IsDir() || strings.HasPrefix(name, ".") {
+		if !e.Type().IsRegular() || strings.HasPrefix(name, ".") || !strings.HasSuffix(name, PartExt) {
 			continue
 		}
-		id, err := unescapeID(name)
-		if err != nil {
-			continue // not a part folder of ours
+		id, err := unescapeID(strings.TrimSuffix(name, PartExt))
+		if err != nil || id == "" {
+			continue // not a part of ours
 		}
 		ids[id] = true
 	}
@@ -184,86 +117,41 @@ func ListParts(dir string) (map[string]bool, error) {
 
 // ReadPart reads the part of run id from result folder DIR.
 func ReadPart(dir, id string) (*RunTables, error) {
-	p := filepath.Join(dir, PartsDir, escapeID(id))
-	runs, err := readTable[RunRow](filepath.Join(p, RunsFile), tableRuns)
+	path := partPath(dir, id)
+	b, err := os.ReadFile(path)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("results: run %q: %w", id, err)
 	}
-	if len(runs) != 1 || runs[0].RunID != id {
-		return nil, fmt.Errorf("results: part %s does not hold run %q", p, id)
+	t, err := decodePart(b)
+	if err != nil {
+		return nil, fmt.Errorf("results: %s: %w", path, err)
 	}
-	t := &RunTables{Run: runs[0]}
-	if t.Series, err = readPartTable[SeriesRow](p, tableSeries, id); err != nil {
-		return nil, err
-	}
-	if t.Links, err = readPartTable[LinkRow](p, tableLinks, id); err != nil {
-		return nil, err
-	}
-	if t.Recoveries, err = readPartTable[RecoveryRow](p, tableRecoveries, id); err != nil {
-		return nil, err
+	if t.Run.RunID != id {
+		return nil, fmt.Errorf("results: %s holds run %q, not %q", path, t.Run.RunID, id)
 	}
 	return t, nil
 }
 
-// runIDer is implemented by every per-run row type (through Dims).
-type runIDer interface{ runID() string }
-
-func (d *Dims) runID() string { return d.RunID }
-
-func readPartTable[T any, PT interface {
-	*T
-	runIDer
-}](p, table, id string) ([]T, error) {
-	rows, err := readTable[T](filepath.Join(p, partFileName(table)), table)
-	if err != nil {
-		return nil, err
-	}
-	for i := range rows {
-		if got := PT(&rows[i]).runID(); got != id {
-			return nil, fmt.Errorf("results: part %s: %s row %d has run id %q, want %q", p, table, i, got, id)
-		}
-	}
-	return rows, nil
-}
-
 // Finalize assembles the parts in DIR into runs.parquet, series.parquet,
-// links.parquet, recoveries.parquet and summary.parquet, each written
-// atomically and carrying meta as key-value metadata. Rows follow order (run
-// ids); every listed run must have a part and other parts are left out. With
-// a nil order, every part is taken, ordered by run_index then run_id. The
-// output depends only on the parts' content and the order, never on the
-// order in which parts were written, so it is byte-identical across worker
-// counts but for runs.parquet's wall_s column (the measured wall-clock time,
-// kept as measured). The parts stay in place for resuming and merging.
+// links.parquet, recoveries.parquet and summary.parquet, each carrying meta
+// as key-value metadata. Rows follow order (run ids); every listed run must
+// have a part and other parts are left out. With a nil order, every part is
+// taken, ordered by run_index then run_id. The output depends only on the
+// parts' content and the order, never on the order in which parts were
+// written, so it is byte-identical across worker counts but for
+// runs.parquet's wall_s column (each run's measured wall-clock time, kept
+// as measured). All five files are written to synced temporary files first
+// and renamed only when all are complete: a bad part leaves the folder's
+// previous tables untouched. The parts stay in place for resuming and
+// merging.
 //
-// Memory: the runs rows plus one run's rows of one table at a time.
+// Cost: one read of every part; memory: the runs rows plus one row group
+// of each table.
 func Finalize(dir string, order []string, meta Meta) error {
 	if order == nil {
-		ids, err := ListParts(dir)
-		if err != nil {
+		var err error
+		if order, err = partOrder(dir); err != nil {
 			return err
-		}
-		order = make([]string, 0, len(ids))
-		for id := range ids {
-			order = append(order, id)
-		}
-		slices.Sort(order)
-		runs := make([]RunRow, len(order))
-		for i, id := range order {
-			r, err := readTable[RunRow](filepath.Join(dir, PartsDir, escapeID(id), RunsFile), tableRuns)
-			if err != nil {
-				return err
-			}
-			if len(r) != 1 || r[0].RunID != id {
-				return fmt.Errorf("results: part %s does not hold run %q", id, id)
-			}
-			runs[i] = r[0]
-		}
-		slices.SortStableFunc(runs, func(a, b RunRow) int {
-			return cmp.Or(cmp.Compare(a.Index, b.Index), cmp.Compare(a.RunID, b.RunID))
-		})
-		for i := range runs {
-			order[i] = runs[i].RunID
 		}
 	}
 	seen := make(map[string]bool, len(order))
@@ -273,77 +161,119 @@ func Finalize(dir string, order []string, meta Meta) error {
 		}
 		seen[id] = true
 	}
-	parts := filepath.Join(dir, PartsDir)
 
+	var ps []pending
+	fail := func(err error) error {
+		discard(ps)
+		return err
+	}
+	type stream struct {
+		f   *os.File
+		bw  *bufio.Writer
+		tmp string
+	}
+	open := func(name string) (*stream, error) {
+		f, err := os.CreateTemp(dir, "."+name+".tmp-*")
+		if err != nil {
+			return nil, fmt.Errorf("results: %w", err)
+		}
+		ps = append(ps, pending{tmp: f.Name(), path: filepath.Join(dir, name)})
+		return &stream{f: f, bw: bufio.NewWriterSize(f, 1<<16), tmp: f.Name()}, nil
+	}
+	var streams []*stream
+	defer func() {
+		for _, s := range streams {
+			s.f.Close()
+		}
+	}()
+	for _, name := range []string{SeriesFile, LinksFile, RecoveriesFile} {
+		s, err := open(name)
+		if err != nil {
+			return fail(err)
+		}
+		streams = append(streams, s)
+	}
+	sw := newTableWriter[SeriesRow](streams[0].bw, meta.kv(tableSeries))
+	lw := newTableWriter[LinkRow](streams[1].bw, meta.kv(tableLinks))
+	cw := newTableWriter[RecoveryRow](streams[2].bw, meta.kv(tableRecoveries))
 	runs := make([]RunRow, len(order))
 	for i, id := range order {
-		p := filepath.Join(parts, escapeID(id))
-		r, err := readTable[RunRow](filepath.Join(p, RunsFile), tableRuns)
-		if errors.Is(err, fs.ErrNotExist) {
-			return fmt.Errorf("results: run %q has no part in %s: %w", id, dir, err)
-		}
+		t, err := ReadPart(dir, id)
 		if err != nil {
-			return err
+			return fail(err)
 		}
-		if len(r) != 1 || r[0].RunID != id {
-			return fmt.Errorf("results: part %s does not hold run %q", p, id)
+		runs[i] = t.Run
+		if err := sw.write(t.Series); err != nil {
+			return fail(fmt.Errorf("results: %s: %w", SeriesFile, err))
 		}
-		runs[i] = r[0]
+		if err := lw.write(t.Links); err != nil {
+			return fail(fmt.Errorf("results: %s: %w", LinksFile, err))
+		}
+		if err := cw.write(t.Recoveries); err != nil {
+			return fail(fmt.Errorf("results: %s: %w", RecoveriesFile, err))
+		}
 	}
-	// Write every table to a synced temporary file first and rename them
-	// together, so that a bad part leaves the folder's tables untouched.
-	var ps []pending
-	add := func(p pending, err error) error {
-		if err != nil {
-			discard(ps)
-			return err
+	for i, c := range []interface{ close() error }{sw, lw, cw} {
+		s := streams[i]
+		if err := c.close(); err != nil {
+			return fail(fmt.Errorf("results: writing %s: %w", s.tmp, err))
 		}
-		ps = append(ps, p)
-		return nil
+		if err := s.bw.Flush(); err != nil {
+			return fail(fmt.Errorf("results: %w", err))
+		}
+		if err := fsync(s.f); err != nil {
+			return fail(fmt.Errorf("results: %w", err))
+		}
 	}
-	if err := add(writeTemp(filepath.Join(dir, RunsFile), func(w io.Writer) error {
+	p, err := writeTemp(filepath.Join(dir, RunsFile), func(w io.Writer) error {
 		return writeTable(w, runs, meta.kv(tableRuns))
-	})); err != nil {
-		return err
+	})
+	if err != nil {
+		return fail(err)
 	}
-	if err := add(finalizeTable[SeriesRow](dir, order, tableSeries, meta)); err != nil {
-		return err
-	}
-	if err := add(finalizeTable[LinkRow](dir, order, tableLinks, meta)); err != nil {
-		return err
-	}
-	if err := add(finalizeTable[RecoveryRow](dir, order, tableRecoveries, meta)); err != nil {
-		return err
-	}
+	ps = append(ps, p)
 	sum := Summarize(runs)
-	if err := add(writeTemp(filepath.Join(dir, SummaryFile), func(w io.Writer) error {
+	p, err = writeTemp(filepath.Join(dir, SummaryFile), func(w io.Writer) error {
 		return writeTable(w, sum, meta.kv(tableSummary))
-	})); err != nil {
-		return err
+	})
+	if err != nil {
+		return fail(err)
 	}
+	ps = append(ps, p)
+	for _, s := range streams {
+		if err := s.f.Close(); err != nil {
+			return fail(fmt.Errorf("results: %w", err))
+		}
+	}
+	streams = nil
 	return commit(ps)
 }
 
-// finalizeTable streams one table's rows from the parts, in order, into a
-// temporary file for DIR/<table>.parquet.
-func finalizeTable[T any, PT interface {
-	*T
-	runIDer
-}](dir string, order []string, table string, meta Meta) (pending, error) {
-	name := partFileName(table)
-	return writeTemp(filepath.Join(dir, name), func(w io.Writer) error {
-		tw := newTableWriter[T](w, meta.kv(table))
-		for _, id := range order {
-			rows, err := readPartTable[T, PT](filepath.Join(dir, PartsDir, escapeID(id)), table, id)
-			if err != nil {
-				return err
-			}
-			if err := tw.write(rows); err != nil {
-				return err
-			}
+// partOrder returns the ids of every part in DIR ordered by run_index, then
+// run_id.
+func partOrder(dir string) ([]string, error) {
+	ids, err := ListParts(dir)
+	if err != nil {
+		return nil, err
+	}
+	type key struct {
+		index int
+		id    string
+	}
+	keys := make([]key, 0, len(ids))
+	for id := range ids {
+		t, err := ReadPart(dir, id)
+		if err != nil {
+			return nil, err
 		}
-		return tw.close()
-	})
+		keys = append(keys, key{t.Run.Index, id})
+	}
+	slices.SortFunc(keys, func(a, b key) int { return cmp.Or(cmp.Compare(a.index, b.index), cmp.Compare(a.id, b.id)) })
+	order := make([]string, len(keys))
+	for i, k := range keys {
+		order[i] = k.id
+	}
+	return order, nil
 }
 
 // escapeID turns a run id into a folder name: ASCII letters, digits, '-',
