@@ -172,14 +172,14 @@ func RandomFailures(seed uint64, n int, mtbf, mttr, horizon Time, fill func(i in
 		t := Time(0)
 		for {
 			t += Time(math.Ceil(r.ExpFloat64() * float64(mtbf)))
-			if t > horizon {
+			if t >= horizon {
 				break
 			}
 			down := FailureEvent{At: t, Node: -1}
 			fill(i, &down)
 			out = append(out, down)
 			t += Time(math.Ceil(r.ExpFloat64() * float64(mttr)))
-			if t > horizon {
+			if t >= horizon {
 				break
 			}
 			up := FailureEvent{At: t, Node: -1, Up: true}

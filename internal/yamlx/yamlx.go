@@ -22,8 +22,20 @@ type Pos struct {
 	Line, Col int
 }
 
-// PosOf returns where node starts.
+// PosOf returns where node starts: for a block mapping, its first key
+// (the library's own token for a mapping is its first colon).
 func PosOf(n ast.Node) Pos {
+	if m, ok := n.(*ast.MappingNode); ok && len(m.Values) > 0 && m.Values[0].Key != nil {
+		if p := PosOf(m.Values[0].Key); p.Line > 0 {
+			if t := m.GetToken(); t != nil && t.Position != nil && t.Value == "{" {
+				return Pos{Line: t.Position.Line, Col: t.Position.Column}
+			}
+			return p
+		}
+	}
+	if mv, ok := n.(*ast.MappingValueNode); ok && mv.Key != nil {
+		return PosOf(mv.Key)
+	}
 	if n == nil || n.GetToken() == nil || n.GetToken().Position == nil {
 		return Pos{}
 	}
@@ -67,9 +79,14 @@ func At(pos Pos, format string, args ...any) error {
 
 // Decode parses data (the contents of file) into v, rejecting unknown
 // fields, and returns any problem as an *Error.
-func Decode(file string, data []byte, v any) error {
-	err := yaml.UnmarshalWithOptions(data, v, yaml.Strict())
-	return Convert(file, err)
+func Decode(file string, data []byte, v any) (err error) {
+	defer func() {
+		// the YAML library can panic on hostile input: report, don't crash
+		if r := recover(); r != nil {
+			err = &Error{File: file, Msg: fmt.Sprintf("cannot read this YAML (%v)", r)}
+		}
+	}()
+	return Convert(file, yaml.UnmarshalWithOptions(data, v, yaml.Strict()))
 }
 
 // DecodeNode decodes one node into v strictly; for UnmarshalYAML methods.
