@@ -113,6 +113,39 @@ func TestLoadReadsResultsTables(t *testing.T) {
 		same("recovery_s", g.Recovery, nf(r.RecoveryS))
 		same("lost_packets", float64(g.Lost), float64(r.LostPackets))
 	}
+	// the report's aggregation agrees with summary.parquet, computed by the
+	// results package on its own
+	sum, err := results.ReadSummary(filepath.Join(dir, results.SummaryFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range []struct {
+		name     string
+		mean, ci func(results.SummaryRow) *float64
+	}{
+		{"delivery_mean_s", func(r results.SummaryRow) *float64 { return r.DeliveryMeanSMean }, func(r results.SummaryRow) *float64 { return r.DeliveryMeanSCI95 }},
+		{"delivery_p95_s", func(r results.SummaryRow) *float64 { return r.DeliveryP95SMean }, func(r results.SummaryRow) *float64 { return r.DeliveryP95SCI95 }},
+		{"loss_rate", func(r results.SummaryRow) *float64 { return r.LossRateMean }, func(r results.SummaryRow) *float64 { return r.LossRateCI95 }},
+	} {
+		found := 0
+		for _, p := range LoadCurves(d, m.name) {
+			for _, c := range p.Curves {
+				for _, pt := range c.Points {
+					for _, r := range sum {
+						if r.Topology == p.Topology && r.Failure == p.Failure && r.Agent == c.Agent && r.Load == pt.X {
+							found++
+							if !close(pt.Est.Mean, nf(m.mean(r))) || !close(pt.Est.CI95, nf(m.ci(r))) {
+								t.Errorf("%s %s: got %v ± %v, summary.parquet %v ± %v", m.name, c.Agent, pt.Est.Mean, pt.Est.CI95, nf(m.mean(r)), nf(m.ci(r)))
+							}
+						}
+					}
+				}
+			}
+		}
+		if found != len(sum) {
+			t.Errorf("%s: matched %d of %d summary rows", m.name, found, len(sum))
+		}
+	}
 	// and the whole report builds from them
 	if err := Write(dir, Options{}); err != nil {
 		t.Fatal(err)

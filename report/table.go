@@ -53,7 +53,7 @@ func readTable(path string, required, optional []string) (*table, error) {
 		return nil, fmt.Errorf("report: %s: %w", path, err)
 	}
 	t := &table{path: path, rows: int(pf.NumRows()), cols: map[string]*column{}}
-	byIndex := map[int]*column{}
+	byIndex := make([]*column, len(pf.Schema().Columns())) // by leaf column index
 	add := func(name string, must bool) error {
 		leaf, ok := pf.Schema().Lookup(name)
 		if !ok {
@@ -93,11 +93,9 @@ func readTable(path string, required, optional []string) (*table, error) {
 			n, err := rows.ReadRows(buf)
 			for _, row := range buf[:n] {
 				for _, v := range row {
-					c := byIndex[v.Column()]
-					if c == nil {
-						continue
+					if i := v.Column(); i >= 0 && i < len(byIndex) && byIndex[i] != nil {
+						byIndex[i].append(v)
 					}
-					c.append(v)
 				}
 			}
 			if err == io.EOF {
