@@ -157,6 +157,7 @@ func benchRun(b *testing.B, g *sim.Graph, p agents.Params, arrivals bool) {
 		}
 		b.StopTimer()
 	})
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/call")
 }
 
 // BenchmarkDecision times one routing decision of every kind (ns/op is per
