@@ -31,9 +31,6 @@ type LoadPanel struct {
 // LoadCurves aggregates metric (one of CompareMetrics) by topology, failure
 // schedule, agent and load.
 func LoadCurves(d *Data, metricName string) []LoadPanel {
-	type key struct {
-		Cell
-	}
 	vals := map[Cell][]float64{}
 	for _, r := range d.Runs {
 		vals[r.Cell] = append(vals[r.Cell], metric(r, metricName))
@@ -114,9 +111,6 @@ type EventOptions struct {
 // bin k holds the bins whose start s satisfies k = floor((s − at)/w + ε).
 func EventCurves(d *Data, o EventOptions) []EventPanel {
 	// events and the replicates they happened in, per agent
-	type evKey struct {
-		Event
-	}
 	type runKey struct {
 		Cell
 		Replicate int

@@ -131,7 +131,6 @@ type eventMarks struct {
 	at       float64
 	recovery []AgentRecovery
 	idx      map[string]int
-	xmax     float64
 }
 
 func (m eventMarks) Plot(c draw.Canvas, p *plot.Plot) {
@@ -199,7 +198,7 @@ func eventChart(id, title, caption string, eps []EventPanel, agents []string) *c
 			lo, hi := valueRange(ep.Delivery)
 			setRange(&pd.X, xlo, xhi, false)
 			setRange(&pd.Y, math.Min(0, lo*scale), hi*scale*1.18, false)
-			pd.Add(eventMarks{th: th, others: ep.Others, at: ep.At, recovery: ep.Recovery, idx: idx, xmax: xhi})
+			pd.Add(eventMarks{th: th, others: ep.Others, at: ep.At, recovery: ep.Recovery, idx: idx})
 			pl := newPanel(th, head+": loss", "time since the event (s)", "loss per bin (% of packets generated)")
 			for _, c := range ep.Loss {
 				addCurve(pl, c, styleFor(idx[c.Agent]), 100, false, false)
@@ -207,7 +206,7 @@ func eventChart(id, title, caption string, eps []EventPanel, agents []string) *c
 			_, lhi := valueRange(ep.Loss)
 			setRange(&pl.X, xlo, xhi, false)
 			setRange(&pl.Y, 0, math.Max(lhi*100, 1), false)
-			pl.Add(eventMarks{th: th, others: ep.Others, at: ep.At, idx: idx, xmax: xhi})
+			pl.Add(eventMarks{th: th, others: ep.Others, at: ep.At, idx: idx})
 			f.panels = append(f.panels, []*plot.Plot{pd, pl})
 		}
 		return f

@@ -5,6 +5,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"strings"
 	"testing"
 )
 
@@ -39,5 +40,74 @@ func TestWriteDemoReport(t *testing.T) {
 	}
 	if m := regexp.MustCompile(`(?i)(https?:|src="[^d#]|href="[^#]|<link )`).Find(page); m != nil {
 		t.Errorf("index.html references something outside itself: %q", m)
+	}
+}
+
+// TestWriteMinimal writes the report of a degenerate experiment: one
+// replicate (no confidence bands), one load, no failures, and no series or
+// link tables.
+func TestWriteMinimal(t *testing.T) {
+	dir := t.TempDir()
+	writeSynthetic(t, dir, synSpec{topologies: []string{"pair"}, agents: []string{"shortest-path"}, loads: []float64{0.5},
+		failures: []string{"none"}, replicates: 1, duration: 60, bin: 10, channels: 2, seed: 1})
+	for _, f := range []string{"series.parquet", "links.parquet", "recoveries.parquet"} {
+		if err := os.Remove(filepath.Join(dir, f)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := Write(dir, Options{}); err != nil {
+		t.Fatal(err)
+	}
+	page, err := os.ReadFile(filepath.Join(dir, "report", "index.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range []string{`id="delivery-mean"`, `id="loss"`, "No failure events", "No link table", `data-table="table-loss"`} {
+		if !strings.Contains(string(page), s) {
+			t.Errorf("index.html lacks %q", s)
+		}
+	}
+	// an option naming a load with no events is refused before anything is written
+	load := 3.0
+	if err := Write(dir, Options{Out: filepath.Join(dir, "other"), LinkLoad: &load}); err != nil {
+		t.Errorf("link load without a link table: got %v, want no error (no link chart)", err)
+	}
+}
+
+func TestBuildRefusesOptionsNamingNothing(t *testing.T) {
+	d, _ := loadSynthetic(t, smallSpec)
+	seven, half := 7.0, 0.5
+	tests := []struct {
+		name string
+		o    Options
+		want string
+	}{
+		{"event load", Options{EventLoad: &seven}, "no failure events at load 7"},
+		{"link topology", Options{LinkTopology: "nowhere"}, `topology "nowhere"`},
+		{"link load", Options{LinkLoad: &seven}, "load 7"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Build(d, tc.o)
+			var ie *InputError
+			if err == nil || !strings.Contains(err.Error(), tc.want) || !asInput(err, &ie) {
+				t.Errorf("got %v, want an input error naming %q", err, tc.want)
+			}
+		})
+	}
+	// a valid choice is honoured: the link charts show load 0.5
+	r, err := Build(d, Options{LinkLoad: &half, LinkFailure: "cut", EventLoad: &half})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range r.Charts {
+		if c.ID == "links" && !strings.Contains(c.Caption, "load 0.5, failures cut") {
+			t.Errorf("links caption %q does not name the chosen cell", c.Caption)
+		}
+	}
+	for _, ep := range r.Events {
+		if ep.Load != 0.5 {
+			t.Errorf("event panel at load %v, want 0.5", ep.Load)
+		}
 	}
 }
