@@ -93,12 +93,16 @@ func fmtRate(r float64) string {
 // barReporter draws a progress bar (for a terminal).
 type barReporter struct {
 	meter
-	w   io.Writer
-	bar *progressbar.ProgressBar
+	w        io.Writer
+	throttle time.Duration // least time between redraws; 0 means 100 ms
+	bar      *progressbar.ProgressBar
 }
 
 func (b *barReporter) begin(todo, skipped int, cost float64) {
 	b.meter.begin(todo, skipped, cost)
+	if b.throttle == 0 {
+		b.throttle = 100 * time.Millisecond
+	}
 	desc := "runs"
 	if skipped > 0 {
 		desc = fmt.Sprintf("runs (%d kept)", skipped)
@@ -110,7 +114,7 @@ func (b *barReporter) begin(todo, skipped int, cost float64) {
 		progressbar.OptionSetPredictTime(false),
 		progressbar.OptionSetElapsedTime(true),
 		progressbar.OptionSetWidth(30),
-		progressbar.OptionThrottle(100*time.Millisecond),
+		progressbar.OptionThrottle(b.throttle),
 		progressbar.OptionClearOnFinish(),
 	)
 	_ = b.bar.RenderBlank()

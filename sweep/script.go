@@ -18,6 +18,11 @@ type ScriptOptions struct {
 	CPUs       int    // CPUs per task, also the workers of each shard; at least 1
 }
 
+// ScriptPathOK reports whether path can appear in an #SBATCH directive:
+// Slurm splits directives at white space, so paths with white space or
+// quotes are refused rather than trusted to its quoting rules.
+func ScriptPathOK(path string) bool { return !strings.ContainsAny(path, " \t\n'\"\\") }
+
 // ShardDir returns the folder of share i of a sweep into out.
 func ShardDir(out string, i int) string {
 	return fmt.Sprintf("%s/shards/%d", strings.TrimRight(out, "/"), i)
@@ -37,6 +42,7 @@ func Script(o ScriptOptions) string {
 	if o.Tasks < 1 || o.CPUs < 1 {
 		panic("sweep: Script needs Tasks and CPUs of at least 1")
 	}
+	o.Out = strings.TrimRight(o.Out, "/")
 	q := shellQuote
 	var b strings.Builder
 	w := func(format string, a ...any) { fmt.Fprintf(&b, format, a...) }

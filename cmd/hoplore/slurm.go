@@ -94,6 +94,11 @@ func runSlurm(d *deps, arg string, o *slurmOptions) error {
 	if err := results.CheckDir(out, e.Hash); err != nil {
 		return badInput(fmt.Errorf("slurm: %w", err))
 	}
+	for _, p := range []string{out, expArg} {
+		if !sweep.ScriptPathOK(p) {
+			return badInput(fmt.Errorf("slurm: %q: paths in a Slurm script must not contain white space or quotes", p))
+		}
+	}
 	bin := o.binary
 	if bin == "" {
 		if bin, err = os.Executable(); err != nil {
@@ -114,6 +119,9 @@ func runSlurm(d *deps, arg string, o *slurmOptions) error {
 	}
 	if path, err = filepath.Abs(path); err != nil {
 		return fmt.Errorf("slurm: %w", err)
+	}
+	if !sweep.ScriptPathOK(path) || !sweep.ScriptPathOK(bin) {
+		return badInput(fmt.Errorf("slurm: %q, %q: paths in a Slurm script must not contain white space or quotes", path, bin))
 	}
 	text := sweep.Script(sweep.ScriptOptions{
 		Name: e.Name, Experiment: expArg, Binary: bin, Out: out, Path: path,
