@@ -148,9 +148,11 @@ func (m eventMarks) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 		c.FillText(lt, vg.Point{X: x + dx, Y: c.Min.Y + vg.Points(2)}, o.Element+" "+o.Action)
 	}
+	lt := textStyle(m.th.muted, 6.5)
+	lt.XAlign, lt.YAlign = draw.XLeft, draw.YCenter
 	for i, r := range m.recovery {
 		st := styleFor(m.idx[r.Agent])
-		y := c.Max.Y - vg.Points(4) - vg.Length(i)*vg.Points(5)
+		y := c.Max.Y - vg.Points(5) - vg.Length(i)*vg.Points(7)
 		line := draw.LineStyle{Color: st.color, Width: vg.Points(2.2)}
 		if r.Recovery.N == 0 {
 			// never recovered in any replicate: a dotted bar to the edge
@@ -163,7 +165,18 @@ func (m eventMarks) Plot(c draw.Canvas, p *plot.Plot) {
 			x = c.Max.X
 		}
 		c.StrokeLine2(line, x0, y, x, y)
-		c.StrokeLine2(draw.LineStyle{Color: st.color, Width: vg.Points(1.2)}, x, y-vg.Points(2.2), x, y+vg.Points(2.2))
+		c.StrokeLine2(draw.LineStyle{Color: st.color, Width: vg.Points(1.2)}, x, y-vg.Points(2.6), x, y+vg.Points(2.6))
+		label := fmt.Sprintf("%.3g s", r.Recovery.Mean)
+		if r.NotRecovered > 0 {
+			label += fmt.Sprintf(" (%d of %d never)", r.NotRecovered, r.Runs)
+		}
+		if w := lt.Width(label); x+vg.Points(3)+w > c.Max.X {
+			lr := lt
+			lr.XAlign = draw.XRight
+			c.FillText(lr, vg.Point{X: c.Max.X, Y: y - vg.Points(4)}, label)
+		} else {
+			c.FillText(lt, vg.Point{X: x + vg.Points(3), Y: y}, label)
+		}
 	}
 }
 
@@ -179,7 +192,7 @@ func eventChart(id, title, caption string, eps []EventPanel, agents []string) *c
 	scale, unit := timeUnit(dhi)
 	legend := agentLegend(agents, idx,
 		"lines: mean across replicates per bin; bands: 95% CI; solid vertical: the event; dashed: other events",
-		"bars at the top: mean time to recovery per agent (dotted to the edge: never recovered)")
+		"bars at the top: mean time to recovery per agent, over the replicates that recovered (dotted to the edge: none did)")
 	return &chart{ID: id, Title: title, Caption: caption, build: func(th theme) *figure {
 		f := &figure{panelW: panelW, panelH: panelH, legend: legend}
 		f.legendH = legendHeight(legend, 2*panelW)
@@ -197,7 +210,8 @@ func eventChart(id, title, caption string, eps []EventPanel, agents []string) *c
 			}
 			lo, hi := valueRange(ep.Delivery)
 			setRange(&pd.X, xlo, xhi, false)
-			setRange(&pd.Y, math.Min(0, lo*scale), hi*scale*1.18, false)
+			// headroom for one recovery bar per agent above the data
+			setRange(&pd.Y, math.Min(0, lo*scale), hi*scale*(1.1+0.05*float64(len(ep.Recovery))), false)
 			pd.Add(eventMarks{th: th, others: ep.Others, at: ep.At, recovery: ep.Recovery, idx: idx})
 			pl := newPanel(th, head+": loss", "time since the event (s)", "loss per bin (% of packets generated)")
 			for _, c := range ep.Loss {
