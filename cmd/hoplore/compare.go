@@ -37,7 +37,16 @@ func newCompareCmd(d *deps) *cobra.Command {
 	f.StringVar(&o.out, "out", "", "Parquet file to write (default DIR/compare.parquet)")
 	_ = cmd.MarkFlagRequired("a")
 	_ = cmd.MarkFlagRequired("b")
+	cmd.ValidArgsFunction = completeDirs
 	return cmd
+}
+
+// completeDirs completes a result folder argument.
+func completeDirs(_ *cobra.Command, args []string, _ string) ([]string, cobra.ShellCompDirective) {
+	if len(args) > 0 {
+		return nil, cobra.ShellCompDirectiveNoFileComp
+	}
+	return nil, cobra.ShellCompDirectiveFilterDirs
 }
 
 // runCompare compares o.a with o.b in o.dir, prints the table and writes

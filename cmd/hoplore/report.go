@@ -39,6 +39,7 @@ func newReportCmd(d *deps) *cobra.Command {
 			return runReport(d, o)
 		},
 	}
+	cmd.ValidArgsFunction = completeDirs
 	f := cmd.Flags()
 	f.StringVar(&o.out, "out", "", "folder to write (default DIR/report)")
 	f.StringVar(&o.linkTopology, "links-topology", "", "topology of the cell whose link utilisation is drawn (default: the busiest cell)")
