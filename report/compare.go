@@ -44,6 +44,10 @@ type Comparison struct {
 	NW         int64   `parquet:"n_wilcoxon"`           // non-zero differences
 	PW         float64 `parquet:"p_wilcoxon"`           // two-sided
 	WMethod    string  `parquet:"wilcoxon_method,dict"` // "exact", "normal" or "" (no non-zero difference)
+	// SameSeeds reports whether every pair ran with the same seed, as the
+	// experiment design promises (common random numbers); false flags a
+	// folder whose runs were not paired by design.
+	SameSeeds bool `parquet:"same_seeds"`
 }
 
 // Compare pairs agents a and b across replicates in every panel where both
@@ -97,8 +101,11 @@ func Compare(d *Data, a, b string) ([]Comparison, error) {
 		slices.Sort(reps)
 		for _, m := range CompareMetrics {
 			var xa, xb, diff []float64
+			same := true
 			for _, rep := range reps {
-				va, vb := metric(runsA[key{p, rep}], m), metric(runsB[key{p, rep}], m)
+				ra, rb := runsA[key{p, rep}], runsB[key{p, rep}]
+				same = same && ra.Seed == rb.Seed
+				va, vb := metric(ra, m), metric(rb, m)
 				if math.IsNaN(va) || math.IsNaN(vb) {
 					continue
 				}
@@ -111,7 +118,7 @@ func Compare(d *Data, a, b string) ([]Comparison, error) {
 				AgentA: a, AgentB: b, Metric: m, N: int64(len(diff)),
 				MeanA: MeanCI(xa).Mean, MeanB: MeanCI(xb).Mean,
 				MeanDiff: t.MeanDiff, CI95: t.CI95, CI95Low: t.MeanDiff - t.CI95, CI95High: t.MeanDiff + t.CI95,
-				T: t.T, DF: t.DF, PT: t.P, WPlus: w.WPlus, NW: int64(w.N), PW: w.P,
+				T: t.T, DF: t.DF, PT: t.P, WPlus: w.WPlus, NW: int64(w.N), PW: w.P, SameSeeds: same,
 			}
 			switch {
 			case w.N == 0:
@@ -216,8 +223,20 @@ func PrintComparisons(w io.Writer, rows []Comparison) error {
 	if err := tw.Flush(); err != nil {
 		return err
 	}
-	_, err := fmt.Fprintln(w, "p (Wilcoxon): exact signed-rank distribution; ~ marks the normal approximation")
-	return err
+	if _, err := fmt.Fprintln(w, "p (Wilcoxon): exact signed-rank distribution; ~ marks the normal approximation"); err != nil {
+		return err
+	}
+	differ := 0
+	for _, r := range rows {
+		if !r.SameSeeds {
+			differ++
+		}
+	}
+	if differ > 0 {
+		_, err := fmt.Fprintf(w, "warning: in %d of %d rows the paired runs had different seeds: differences mix the agents' effect with the randomness\n", differ, len(rows))
+		return err
+	}
+	return nil
 }
 
 func fmtNum(x float64) string {

@@ -167,3 +167,27 @@ func TestWriteComparisonsRoundTrip(t *testing.T) {
 		t.Error("write into a missing folder: no error")
 	}
 }
+
+func TestCompareFlagsUnpairedSeeds(t *testing.T) {
+	d := sleepData()
+	for i := range d.Runs {
+		if d.Runs[i].Agent == "drug-1" && d.Runs[i].Replicate == 3 {
+			d.Runs[i].Seed = 99
+		}
+	}
+	rows, err := Compare(d, "drug-2", "drug-1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	if err := PrintComparisons(&b, rows); err != nil {
+		t.Fatal(err)
+	}
+	if rows[0].SameSeeds || !strings.Contains(b.String(), "warning: in 3 of 3 rows the paired runs had different seeds") {
+		t.Errorf("different seeds not flagged: SameSeeds=%v, output:\n%s", rows[0].SameSeeds, b.String())
+	}
+	rows, _ = Compare(sleepData(), "drug-2", "drug-1")
+	if !rows[0].SameSeeds {
+		t.Error("equal seeds flagged as different")
+	}
+}

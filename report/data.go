@@ -29,6 +29,7 @@ type Panel struct {
 type Run struct {
 	Cell
 	Replicate    int
+	Seed         uint64 // 0 when the table has no seed column
 	Generated    int64
 	Delivered    int64
 	Dropped      int64
@@ -106,7 +107,7 @@ func Load(dir string) (*Data, error) {
 	d := &Data{Dir: dir}
 	rt, err := readTable(filepath.Join(dir, "runs.parquet"),
 		append(slices.Clone(dimCols), "generated", "delivered", "dropped", "loss_rate", "delivery_mean_s", "delivery_p95_s"),
-		[]string{"experiment", "throughput_bps", "util_max"})
+		[]string{"experiment", "seed", "throughput_bps", "util_max"})
 	if err != nil {
 		return nil, err
 	}
@@ -115,7 +116,7 @@ func Load(dir string) (*Data, error) {
 			d.Experiment = rt.s("experiment", i)
 		}
 		d.Runs = append(d.Runs, Run{
-			Cell: cellOf(rt, i), Replicate: int(rt.i("replicate", i)),
+			Cell: cellOf(rt, i), Replicate: int(rt.i("replicate", i)), Seed: rt.bits("seed", i),
 			Generated: rt.i("generated", i), Delivered: rt.i("delivered", i), Dropped: rt.i("dropped", i),
 			LossRate: rt.f("loss_rate", i), DeliveryMean: rt.f("delivery_mean_s", i), DeliveryP95: rt.f("delivery_p95_s", i),
 			Throughput: rt.f("throughput_bps", i), UtilMax: rt.f("util_max", i),

@@ -57,6 +57,9 @@ func TestLoadReadsResultsTables(t *testing.T) {
 		if g.Cell != (Cell{r.Topology, r.Agent, r.Load, r.Failure}) || g.Replicate != r.Replicate {
 			t.Errorf("run %d: dims %+v, want %+v", i, g.Cell, r.Dims)
 		}
+		if g.Seed != r.Seed {
+			t.Errorf("run %d: seed %d, want %d (unsigned 64-bit, exact)", i, g.Seed, r.Seed)
+		}
 		same("loss_rate", g.LossRate, nf(r.LossRate))
 		same("delivery_mean_s", g.DeliveryMean, nf(r.DeliveryMeanS))
 		same("delivery_p95_s", g.DeliveryP95, nf(r.DeliveryP95S))

@@ -25,6 +25,7 @@ type table struct {
 // strings are empty.
 type column struct {
 	num []float64
+	raw []int64 // the exact integers of an integer column (0 where null)
 	str []string
 	isS bool
 }
@@ -134,18 +135,20 @@ func (c *column) append(v parquet.Value) {
 	}
 	if v.IsNull() {
 		c.num = append(c.num, math.NaN())
+		c.raw = append(c.raw, 0)
 		return
 	}
 	var x float64
+	var raw int64
 	switch v.Kind() {
 	case parquet.Boolean:
 		if v.Boolean() {
 			x = 1
 		}
 	case parquet.Int32:
-		x = float64(v.Int32())
+		x, raw = float64(v.Int32()), int64(v.Int32())
 	case parquet.Int64:
-		x = float64(v.Int64())
+		x, raw = float64(v.Int64()), v.Int64()
 	case parquet.Float:
 		x = float64(v.Float())
 	case parquet.Double:
@@ -154,6 +157,7 @@ func (c *column) append(v parquet.Value) {
 		x = math.NaN()
 	}
 	c.num = append(c.num, x)
+	c.raw = append(c.raw, raw)
 }
 
 // f returns column name's value in row i as float64 (NaN if the column is
@@ -173,6 +177,16 @@ func (t *table) i(name string, i int) int64 {
 		return 0
 	}
 	return int64(x)
+}
+
+// bits returns the exact 64 bits of an integer column's value in row i
+// (so an unsigned 64-bit seed keeps its value), 0 if missing or null.
+func (t *table) bits(name string, i int) uint64 {
+	c := t.cols[name]
+	if c == nil || c.isS {
+		return 0
+	}
+	return uint64(c.raw[i])
 }
 
 // s returns column name's value in row i as a string; a numeric column is
