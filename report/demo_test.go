@@ -111,3 +111,28 @@ func TestBuildRefusesOptionsNamingNothing(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkWrite measures a whole report of a grid the size of a bundled
+// load sweep: 2 topologies × 7 agents × 4 loads × 2 failure schedules × 3
+// replicates, 60 bins and 60 channels per run.
+func BenchmarkWrite(b *testing.B) {
+	dir := b.TempDir()
+	writeSynthetic(b, dir, synSpec{
+		topologies: []string{"two-region", "mesh-ten"},
+		agents:     []string{"a1", "a2", "a3", "a4", "a5", "a6", "a7"},
+		loads:      []float64{0.3, 0.7, 1.0, 1.3},
+		failures:   []string{"none", "cut"},
+		replicates: 3, duration: 600, bin: 10, channels: 60, seed: 5,
+	})
+	b.ReportAllocs()
+	for b.Loop() {
+		if err := Write(dir, Options{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	st, err := os.Stat(filepath.Join(dir, "report", "index.html"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportMetric(float64(st.Size())/1e3, "kB-html")
+}
