@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"runtime/debug"
 	"slices"
 	"sync"
 	"time"
@@ -198,7 +199,7 @@ func pool[T any](ctx context.Context, p plan[T], st store[T], o engineOpts, todo
 			defer wg.Done()
 			for i := range jobs {
 				u := p.units[i]
-				t, ev, err := u.Execute(ctx)
+				t, ev, err := safeExecute(ctx, u)
 				if err == nil {
 					gate.RLock()
 					if stopped {
@@ -246,4 +247,16 @@ func pool[T any](ctx context.Context, p plan[T], st store[T], o engineOpts, todo
 			prog.done(r.cost, r.events)
 		}
 	}
+}
+
+// safeExecute runs u, turning a panic into an error (with the stack, for
+// the report), so that one faulty run stops the sweep as a failure does and
+// the runs in progress on other workers are still kept.
+func safeExecute[T any](ctx context.Context, u unit[T]) (t T, ev int64, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("panic: %v\n%s", r, debug.Stack())
+		}
+	}()
+	return u.Execute(ctx)
 }

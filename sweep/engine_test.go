@@ -252,3 +252,14 @@ func TestEngineRunFailure(t *testing.T) {
 		t.Error("dispatch did not stop after the failure")
 	}
 }
+
+func TestEngineRunPanic(t *testing.T) {
+	var calls atomic.Int64
+	p := fakePlan(6, &calls)
+	p.units[2].(*fakeUnit).run = func(context.Context) error { panic("index out of range") }
+	st := newMemStore("h")
+	_, err := execute(context.Background(), p, st, engineOpts{out: "x", workers: 2})
+	if err == nil || !errors.Is(err, errRun) || !strings.Contains(err.Error(), "run r002: panic: index out of range") {
+		t.Fatalf("err = %v, want the panic reported as the run's failure", err)
+	}
+}
