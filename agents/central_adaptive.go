@@ -84,7 +84,7 @@ func newCentralAdaptive(p Params, net *sim.Net) (sim.Agent, error) {
 	nc := len(net.Channels)
 	a := &CentralAdaptive{p: p, net: net, n: n, pf: newPathFinder(net),
 		util: make([]float64, nc), prevBusy: make([]sim.Time, nc), prevSent: make([]int64, nc),
-		meanBytes: AssumedPacketBytes,
+		meanBytes: p.packetBytes(),
 		table:     make([]int32, n*n), lastChange: make([]sim.Time, n*n),
 		cost: make([]float64, nc), dist: make([]float64, n), usable: make([]bool, nc), col: make([]int32, n)}
 	for i := range a.usable {

@@ -100,7 +100,7 @@ var (
 func newCentralQ(p Params, net *sim.Net) (sim.Agent, error) {
 	n := net.NumNodes()
 	nc := len(net.Channels)
-	a := &CentralQ{p: p, net: net, n: n, k: p.K, pf: newPathFinder(net), zl: zeroLoadCosts(net, AssumedPacketBytes),
+	a := &CentralQ{p: p, net: net, n: n, k: p.K, pf: newPathFinder(net), zl: zeroLoadCosts(net, p.packetBytes()),
 		util: make([]float64, nc), prevBusy: make([]sim.Time, nc),
 		pairs: make([]*cqPair, n*n), choice: make([]int8, n*n), up: make([]bool, nc),
 		usable: make([]bool, nc), dist: make([]float64, n), col: make([]int32, n)}

@@ -58,6 +58,19 @@ type Params struct {
 	K            int      // central-q: candidate paths per pair (Yen)
 	Discount     float64  // central-q
 	DropPenalty  sim.Time // central-q: cost charged per dropped packet
+
+	// MeanPacketBytes is the mean packet size of the run's traffic, used for
+	// zero-load time estimates; set by whoever builds the run, not read from
+	// files. Zero means AssumedPacketBytes.
+	MeanPacketBytes float64
+}
+
+// packetBytes returns the packet size zero-load estimates assume.
+func (p *Params) packetBytes() float64 {
+	if p.MeanPacketBytes > 0 {
+		return p.MeanPacketBytes
+	}
+	return AssumedPacketBytes
 }
 
 // fieldsByKind lists the experiment-file fields each kind accepts, besides
@@ -93,7 +106,9 @@ func Defaults(kind string) Params {
 	case CentralAdaptiveKind:
 		p.Every = 2 * sim.Second
 		p.ControlDelay = 50 * sim.Millisecond
-		p.HoldDown = 10 * sim.Second
+		// one interval at the default every: measured on the 6×6 bottleneck grid,
+		// 10 s turned fast flapping into slow swings of about 20 s and lost more
+		p.HoldDown = 2 * sim.Second
 		p.Smoothing = 0.5
 	case CentralQKind:
 		p.Every = 2 * sim.Second

@@ -104,7 +104,7 @@ func newQNetworkOpt(p Params, net *sim.Net, prior bool) *QNetwork {
 		off += s.sizes[l+1]
 	}
 	s.nParam = off
-	s.zl = zeroLoadCosts(net, AssumedPacketBytes)
+	s.zl = zeroLoadCosts(net, p.packetBytes())
 	s.dist = allPairsDist(net, s.zl)
 	s.qCap = qCeiling(s.dist)
 	for _, row := range s.dist {

@@ -130,7 +130,7 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	default:
 		return nil, fmt.Errorf("agents: q-routing: unknown variant %q", p.Variant)
 	}
-	s.zl = zeroLoadCosts(net, AssumedPacketBytes)
+	s.zl = zeroLoadCosts(net, p.packetBytes())
 	s.dist = allPairsDist(net, s.zl)
 	s.qCap = qCeiling(s.dist)
 	return &QRouting{p: p, shared: s}, nil

@@ -188,7 +188,9 @@ func (r *Run) Rates() [][]float64 {
 // shared between runs (read-only); everything else is the run's own.
 func (r *Run) Config() (*sim.Config, error) {
 	e, t := r.Exp, r.Topology
-	agent, err := agents.New(r.Agent, t.Net)
+	ap := r.Agent
+	ap.MeanPacketBytes = e.Traffic.Size.Mean()
+	agent, err := agents.New(ap, t.Net)
 	if err != nil {
 		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
 	}

@@ -48,7 +48,8 @@ type Arrivals interface {
 
 // Receiver gets control messages sent by neighbours (in-band, over channel
 // in, or instantly with NodeView.Tell, in which case in is the channel from
-// the sender to this node).
+// the sender to this node). m is valid only during the call: copy what you
+// keep (m.Vec may be kept: it belongs to the receiver).
 type Receiver interface {
 	Receive(m *Message, in int)
 }

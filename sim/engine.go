@@ -85,6 +85,8 @@ type engine struct {
 	cTimed  Timed
 	cview   *ControlView
 
+	tellBuf    []*Message
+	tellDepth  int
 	snaps      []*Snapshot
 	pairDel    []int64
 	pairDelay  []float64
@@ -530,7 +532,7 @@ func (e *engine) arrive(c int, id int32, epoch uint32) {
 		if r := e.rcv; r != nil && r[to] != nil {
 			m := p.Msg
 			e.release(id)
-			r[to].Receive(&m, c)
+			e.deliverMsg(to, c, m)
 			return
 		}
 		e.release(id)
@@ -644,13 +646,33 @@ func (e *engine) sendControl(node, c int, m Message) bool {
 	return true
 }
 
-func (e *engine) tell(node, c int, m *Message) {
+// tell delivers m to the far end of channel c at once. The message lives in
+// an engine-owned slot for the duration of the call (receivers must not keep
+// the pointer), so instant feedback allocates nothing; nested tells use
+// deeper slots.
+func (e *engine) tell(node, c int, m Message) {
 	to := e.net.Channels[c].To
 	if !e.nodes[to].up || e.rcv == nil || e.rcv[to] == nil {
 		return
 	}
 	m.From = node
-	e.rcv[to].Receive(m, c)
+	e.deliverMsg(to, c, m)
+}
+
+// deliverMsg hands m to node to's receiver from an engine-owned slot.
+func (e *engine) deliverMsg(to, c int, m Message) {
+	if e.tellDepth == len(e.tellBuf) {
+		e.tellBuf = append(e.tellBuf, make([]*Message, 4)...)
+		for i := e.tellDepth; i < len(e.tellBuf); i++ {
+			e.tellBuf[i] = new(Message)
+		}
+	}
+	slot := e.tellBuf[e.tellDepth]
+	*slot = m
+	e.tellDepth++
+	e.rcv[to].Receive(slot, c)
+	e.tellDepth--
+	slot.Vec = nil
 }
 
 func (e *engine) schedTimer(d Time, node, tag int) {

@@ -72,7 +72,7 @@ func (v *NodeView) Send(c int, m Message) bool {
 // traffic. It is lost if that neighbour is down.
 func (v *NodeView) Tell(c int, m Message) {
 	v.own(c)
-	v.e.tell(v.node, c, &m)
+	v.e.tell(v.node, c, m)
 }
 
 // After arranges for the router's Timer(tag) to be called after d.
