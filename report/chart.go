@@ -57,6 +57,8 @@ var dashes = [][]vg.Length{
 	{vg.Points(1.5), vg.Points(1.8)},
 	{vg.Points(6), vg.Points(2), vg.Points(1.5), vg.Points(2)},
 	{vg.Points(3), vg.Points(3)},
+	{vg.Points(8), vg.Points(2), vg.Points(1.5), vg.Points(2), vg.Points(1.5), vg.Points(2)},
+	{vg.Points(1), vg.Points(4)},
 }
 
 var glyphs = []draw.GlyphDrawer{
@@ -76,7 +78,7 @@ func styleFor(i int) agentStyle {
 	c := okabeIto[i%len(okabeIto)]
 	return agentStyle{
 		color: c,
-		line:  draw.LineStyle{Color: c, Width: vg.Points(1.6), Dashes: dashes[(i+i/len(okabeIto))%len(dashes)]},
+		line:  draw.LineStyle{Color: c, Width: vg.Points(1.6), Dashes: dashes[(i+i/len(dashes))%len(dashes)]},
 		glyph: draw.GlyphStyle{Color: c, Radius: vg.Points(2.6), Shape: glyphs[i%len(glyphs)]},
 	}
 }

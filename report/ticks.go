@@ -59,7 +59,7 @@ type logTicks struct{}
 func (logTicks) Ticks(min, max float64) []plot.Tick {
 	lo := int(math.Floor(math.Log10(min)))
 	hi := int(math.Ceil(math.Log10(max)))
-	few := hi-lo <= 2
+	few := math.Log10(max/min) < 2 // under two decades: label 2× and 5× too
 	var ts []plot.Tick
 	for e := lo; e <= hi; e++ {
 		p := math.Pow10(e)

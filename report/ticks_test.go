@@ -30,6 +30,7 @@ func TestTicks(t *testing.T) {
 		{"offset", false, 0.15, 1.45, "0.2 0.4 0.6 0.8 1.0 1.2 1.4"},
 		{"log decades", true, 0.008, 1.2, "0.01 0.1 1"},
 		{"log narrow", true, 0.03, 0.4, "0.05 0.1 0.2"},
+		{"log two decades less a bit", true, 12, 1050, "20 50 100 200 500 1000"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
