@@ -52,6 +52,8 @@
 //	               distinct; 1.0 saturates the busiest channel under hop-count
 //	               shortest path (lowest-index tie-break) on the intact topology
 //	  flows        optional, ≥ 1: flow labels per pair for ECMP hashing (default 8)
+//	  phases       optional [{at: DURATION, factor: F}], times increasing: from `at` on
+//	               every rate is multiplied by F ≥ 0 (load that rises or falls mid-run)
 //	agents       required list; each entry is KIND or {kind: KIND, label: TEXT, FIELD: value ...}
 //	             with the fields of that kind only (agents.Fields); the others are errors.
 //	             Unset fields take agents.Defaults(kind). consensus is {every: DURATION

@@ -87,6 +87,9 @@ type Traffic struct {
 	Size     sim.SizeDist
 	Redraw   bool
 	Flows    int // flow labels per pair; 0 means sim.DefaultFlows
+	// Phases scale every rate from a time on: load that rises or falls
+	// during a run.
+	Phases []sim.RatePhase
 }
 
 // Pair is one explicit source–destination flow.

@@ -205,6 +205,7 @@ func (r *Run) Config() (*sim.Config, error) {
 			Size:   e.Traffic.Size,
 			Redraw: e.Traffic.Redraw,
 			Flows:  e.Traffic.Flows,
+			Phases: e.Traffic.Phases,
 		},
 		Failures:  r.Failures(),
 		Agent:     agent,

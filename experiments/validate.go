@@ -317,6 +317,25 @@ func (c *checker) traffic(e *Experiment) error {
 		}
 		tr.Flows = t.Flows.V
 	}
+	for i, ph := range t.Phases.Items {
+		if !ph.At.Set {
+			return c.errf(ph.Pos, "traffic.phases[%d].at: required: when the phase starts", i)
+		}
+		if !ph.Factor.Set {
+			return c.errf(ph.Pos, "traffic.phases[%d].factor: required: what every rate is multiplied by from then on", i)
+		}
+		at := sim.Time(ph.At.D)
+		if at < 0 || at >= sim.Time(e.Duration) {
+			return c.errf(ph.At.Pos, "traffic.phases[%d].at: must be in [0, duration), got %v", i, ph.At.D)
+		}
+		if i > 0 && at <= tr.Phases[i-1].At {
+			return c.errf(ph.At.Pos, "traffic.phases[%d].at: phases must be in increasing time order", i)
+		}
+		if ph.Factor.V < 0 || ph.Factor.V > 1000 {
+			return c.errf(ph.Factor.Pos, "traffic.phases[%d].factor: must be in [0, 1000], got %g", i, ph.Factor.V)
+		}
+		tr.Phases = append(tr.Phases, sim.RatePhase{At: at, Factor: ph.Factor.V})
+	}
 	// loads
 	switch {
 	case tr.Absolute:

@@ -231,6 +231,26 @@ type trafficYAML struct {
 	PacketSize sizeYAML         `yaml:"packet_size"`
 	Loads      seq[yamlx.Float] `yaml:"loads"`
 	Flows      yamlx.Int        `yaml:"flows"`
+	Phases     seq[phaseYAML]   `yaml:"phases"`
+}
+
+// phaseYAML scales all rates from a time on.
+type phaseYAML struct {
+	Pos    yamlx.Pos      `yaml:"-"`
+	At     yamlx.Duration `yaml:"at"`
+	Factor yamlx.Float    `yaml:"factor"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (q *phaseYAML) UnmarshalYAML(n ast.Node) error {
+	type plain phaseYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*q = phaseYAML(p)
+	q.Pos = nodePos(n)
+	return nil
 }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.
