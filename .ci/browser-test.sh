@@ -102,7 +102,7 @@ done
 ls "$dir"/report/event-*.svg >/dev/null 2>&1 || fail "no failure-event chart written"
 total="$(grep -o 'data-images-total="[0-9]*"' "$dom" | grep -o '[0-9]*')"
 [ "$total" = "$charts" ] || fail "page has $total images, $charts charts were written"
-for t in table-delivery-mean table-delivery-p95 table-loss; do
+for t in glance table-delivery-mean table-delivery-p95 table-loss; do
 	grep -q "data-table=\"$t\"" "$dom" || fail "table $t missing"
 done
 grep -q 'class="best"' "$dom" || fail "no best agent highlighted in the tables"
@@ -111,4 +111,4 @@ grep -q 'id="recovery"' "$dom" || fail "recovery section missing"
 # 4. the screenshot is an image of some size
 [ "$(stat -c %s "$work/report.png")" -gt 20000 ] || fail "screenshot $work/report.png is (nearly) empty"
 
-note "OK: $charts charts and 3 tables rendered and decoded, nothing loaded from outside; screenshot $work/report.png"
+note "OK: $charts charts and 4 tables rendered and decoded, nothing loaded from outside; screenshot $work/report.png"

@@ -410,3 +410,52 @@ func CellTable(d *Data, metricName string) []TableRow {
 	}
 	return out
 }
+
+// GlanceRow answers, for one panel (topology, load, failure schedule),
+// which agent delivered fastest and whether the runner-up is clearly
+// slower: the paired comparison of the two on delivery_mean_s across
+// replicates.
+type GlanceRow struct {
+	Panel
+	Best, Second         string
+	BestMean, SecondMean Estimate // delivery_mean_s, s
+	BestLoss, SecondLoss Estimate // loss_rate
+	Diff                 Comparison // Best − Second on delivery_mean_s
+}
+
+// Glance returns a GlanceRow for every panel in which at least two agents
+// ran, in panel order. Agents are ranked by mean delivery time across
+// replicates (ties: sorted label order).
+func Glance(d *Data) []GlanceRow {
+	agents := d.Agents()
+	delay, loss := CellTable(d, "delivery_mean_s"), CellTable(d, "loss_rate")
+	byPanel := map[Panel][]Run{}
+	for _, r := range d.Runs {
+		p := Panel{r.Topology, r.Load, r.Failure}
+		byPanel[p] = append(byPanel[p], r)
+	}
+	var out []GlanceRow
+	for i, row := range delay {
+		var ranked []int
+		for j, e := range row.Est {
+			if !math.IsNaN(e.Mean) {
+				ranked = append(ranked, j)
+			}
+		}
+		if len(ranked) < 2 {
+			continue
+		}
+		slices.SortStableFunc(ranked, func(a, b int) int { return cmp.Compare(row.Est[a].Mean, row.Est[b].Mean) })
+		b, s := ranked[0], ranked[1]
+		g := GlanceRow{Panel: row.Panel, Best: agents[b], Second: agents[s],
+			BestMean: row.Est[b], SecondMean: row.Est[s], BestLoss: loss[i].Est[b], SecondLoss: loss[i].Est[s]}
+		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
+		cs, err := Compare(sub, g.Best, g.Second)
+		if err != nil {
+			continue // the two never shared a replicate index
+		}
+		g.Diff = cs[0] // delivery_mean_s comes first
+		out = append(out, g)
+	}
+	return out
+}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -189,5 +190,45 @@ func TestCompareFlagsUnpairedSeeds(t *testing.T) {
 	rows, _ = Compare(sleepData(), "drug-2", "drug-1")
 	if !rows[0].SameSeeds {
 		t.Error("equal seeds flagged as different")
+	}
+}
+
+func TestGlance(t *testing.T) {
+	d, _ := loadSynthetic(t, demoSpec)
+	rows := Glance(d)
+	if want := len(demoSpec.topologies) * len(demoSpec.failures) * len(demoSpec.loads); len(rows) != want {
+		t.Fatalf("got %d rows, want %d", len(rows), want)
+	}
+	table := CellTable(d, "delivery_mean_s")
+	agents := d.Agents()
+	for i, g := range rows {
+		// best and runner-up are the two lowest means of the cell table
+		var means []float64
+		for _, e := range table[i].Est {
+			means = append(means, e.Mean)
+		}
+		sorted := append([]float64(nil), means...)
+		slices.Sort(sorted)
+		if g.BestMean.Mean != sorted[0] || g.SecondMean.Mean != sorted[1] || g.Best == g.Second ||
+			means[slices.Index(agents, g.Best)] != sorted[0] {
+			t.Errorf("%+v: best %s (%v), second %s (%v); cell means %v", g.Panel, g.Best, g.BestMean.Mean, g.Second, g.SecondMean.Mean, means)
+		}
+		// the difference is Compare's, for that panel
+		all, err := Compare(d, g.Best, g.Second)
+		if err != nil {
+			t.Fatal(err)
+		}
+		found := false
+		for _, c := range all {
+			if c.Metric == "delivery_mean_s" && c.Topology == g.Topology && c.Load == g.Load && c.Failure == g.Failure {
+				found = true
+				if c != g.Diff {
+					t.Errorf("%+v: glance diff %+v, Compare %+v", g.Panel, g.Diff, c)
+				}
+			}
+		}
+		if !found || g.Diff.MeanDiff > 0 {
+			t.Errorf("%+v: comparison found=%v, mean difference %v (best minus runner-up must be ≤ 0)", g.Panel, found, g.Diff.MeanDiff)
+		}
 	}
 }

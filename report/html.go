@@ -37,6 +37,7 @@ th { background: var(--bg); }
 td.dim { text-align: left; }
 td.best { background: var(--best); font-weight: bold; }
 td.best::after { content: " ★"; color: var(--accent); }
+td.clear { font-weight: bold; color: var(--accent); }
 .note { color: var(--muted); }
 .scroll { overflow-x: auto; }
 </style>
@@ -52,14 +53,24 @@ td.best::after { content: " ★"; color: var(--accent); }
 <dt>failure schedules</dt><dd>{{.Failures}}</dd>
 </dl>
 <nav aria-label="contents"><ol>
-{{range .Charts}}<li><a href="#{{.ID}}">{{.Title}}</a></li>
+{{if .Glance}}<li><a href="#glance">At a glance: the fastest agent in each cell</a></li>
+{{end}}{{range .Charts}}<li><a href="#{{.ID}}">{{.Title}}</a></li>
 {{end}}{{if .Events}}<li><a href="#recovery">Recovery after each failure event</a></li>
 {{end}}{{range .Tables}}<li><a href="#{{.ID}}">Table: {{.Title}}</a></li>
 {{end}}</ol></nav>
 {{range .Notes}}<p class="note">{{.}}</p>
 {{end}}</header>
 <main>
-{{range .Charts}}<section class="chart-section">
+{{if .Glance}}<section id="glance">
+<h2>At a glance: the fastest agent in each cell</h2>
+<p class="note">Fastest: lowest mean delivery time across replicates. The runner-up is compared with it run by run (same replicate, same seeds): difference in mean delivery time with its 95% confidence interval, paired t test and Wilcoxon signed-rank test. Loss rates beside them, since an agent that drops slow packets can look fast.</p>
+<div class="scroll"><table class="glance" data-table="glance">
+<thead><tr><th>topology</th><th>failures</th><th>load</th><th>fastest</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>runner-up</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>difference ({{.GlanceUnit}}) [95% CI]</th><th>p (t)</th><th>p (Wilcoxon)</th><th>verdict</th></tr></thead>
+<tbody>
+{{range .Glance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestMean}}</td><td>{{.BestLoss}}</td><td class="dim">{{.Second}}</td><td>{{.SecondMean}}</td><td>{{.SecondLoss}}</td><td>{{.Diff}} {{.CI}}</td><td>{{.PT}}</td><td>{{.PW}}</td><td class="dim{{if .Clear}} clear{{end}}">{{.Verdict}}</td></tr>
+{{end}}</tbody></table></div>
+</section>
+{{end}}{{range .Charts}}<section class="chart-section">
 <h2>{{.Title}}</h2>
 <figure class="chart" id="{{.ID}}" data-chart="{{.ID}}">
 <img class="chart-img" id="img-{{.ID}}" alt="{{.Title}}" width="{{.W}}" height="{{.H}}" src="{{.Src}}">

@@ -62,6 +62,7 @@ type Report struct {
 	Charts  []*chart
 	Tables  []htmlTable
 	Events  []EventPanel
+	Glance  []GlanceRow
 	Notes   []string
 	options Options
 }
@@ -126,6 +127,7 @@ func Build(d *Data, o Options) (*Report, error) {
 		r.Notes = append(r.Notes, "No link table (links.parquet is absent): no utilisation chart.")
 	}
 	uniqueIDs(r.Charts)
+	r.Glance = Glance(d)
 	for _, m := range []struct{ metric, id, title string }{
 		{"delivery_mean_s", "table-delivery-mean", "Mean delivery time"},
 		{"delivery_p95_s", "table-delivery-p95", "95th percentile of delivery time"},
@@ -223,6 +225,17 @@ type htmlCell struct {
 	Title string
 }
 
+// fmtEstimate formats mean ± half-width in display units.
+func fmtEstimate(e Estimate, scale float64) string {
+	switch {
+	case e.N == 0 || math.IsNaN(e.Mean):
+		return "–"
+	case math.IsNaN(e.CI95):
+		return fmt.Sprintf("%.4g", e.Mean*scale)
+	}
+	return fmt.Sprintf("%.4g ± %.2g", e.Mean*scale, e.CI95*scale)
+}
+
 func makeTable(id, title, metricName string, agents []string, rows []TableRow) htmlTable {
 	scale, unit := 100.0, "%"
 	if metricName != "loss_rate" {
@@ -316,7 +329,36 @@ func (r *Report) HTML(w io.Writer) error {
 		Topology, Failure, Event, Load string
 		Rows                           []recView
 	}
+	type glanceView struct {
+		Topology, Load, Failure        string
+		Best, BestMean, BestLoss       string
+		Second, SecondMean, SecondLoss string
+		Diff, CI, PT, PW, Verdict      string
+		Clear                          bool
+	}
 	d := r.Data
+	var glance []glanceView
+	var dhi float64
+	for _, g := range r.Glance {
+		dhi = math.Max(dhi, nanZero(g.SecondMean.Mean))
+	}
+	scale, unit := timeUnit(dhi)
+	for _, g := range r.Glance {
+		c := g.Diff
+		v := glanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
+			Best: g.Best, BestMean: fmtEstimate(g.BestMean, scale), BestLoss: fmtEstimate(g.BestLoss, 100),
+			Second: g.Second, SecondMean: fmtEstimate(g.SecondMean, scale), SecondLoss: fmtEstimate(g.SecondLoss, 100),
+			Diff: fmtSigned(c.MeanDiff * scale), CI: fmtInterval(c.CI95Low*scale, c.CI95High*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
+		switch {
+		case c.N < 2:
+			v.Verdict = "one replicate: untested"
+		case c.CI95High < 0 && c.PT < 0.05:
+			v.Verdict, v.Clear = "faster (p < 0.05)", true
+		default:
+			v.Verdict = "not distinguishable"
+		}
+		glance = append(glance, v)
+	}
 	var charts []chartView
 	for _, c := range r.Charts {
 		src := "data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(c.themedSVG(false))
@@ -365,6 +407,8 @@ func (r *Report) HTML(w io.Writer) error {
 		"Tables":     r.Tables,
 		"Events":     events,
 		"Notes":      r.Notes,
+		"Glance":     glance,
+		"GlanceUnit": unit,
 	}
 	if err := pageTemplate.Execute(w, view); err != nil {
 		return fmt.Errorf("report: html: %w", err)
