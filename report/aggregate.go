@@ -418,8 +418,8 @@ func CellTable(d *Data, metricName string) []TableRow {
 type GlanceRow struct {
 	Panel
 	Best, Second         string
-	BestMean, SecondMean Estimate // delivery_mean_s, s
-	BestLoss, SecondLoss Estimate // loss_rate
+	BestMean, SecondMean Estimate   // delivery_mean_s, s
+	BestLoss, SecondLoss Estimate   // loss_rate
 	Diff                 Comparison // Best − Second on delivery_mean_s
 }
 
