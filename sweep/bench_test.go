@@ -93,6 +93,7 @@ func BenchmarkSweepSpeedup(b *testing.B) {
 	for i := 0; i < b.N; i++ {
 		d1, _, _ := sweepOnce(b, e, 1)
 		d2, _, _ := sweepOnce(b, e, 2)
+		b.Logf("1 worker %v, 2 workers %v", d1, d2)
 		one += d1
 		two += d2
 	}
