@@ -338,3 +338,68 @@ func (e *Experiment) EstimateEvents() float64 {
 	}
 	return s
 }
+
+// EstimateBytes returns a rough upper estimate of the memory one run holds
+// at its peak, in bytes: the time series (a delivery-time histogram and
+// per-channel busy time per bin), packets that can be queued at once (every
+// buffer full), the agent's tables (per-node Q tables; per-node networks,
+// their target copies and replay buffers; the central agents' per-pair
+// telemetry) and the result rows. It ignores what the Go runtime itself
+// needs (a few MB per process).
+func (r *Run) EstimateBytes() float64 {
+	const (
+		histBytes   = 1403 * 4 // log buckets of uint32
+		packetBytes = 200      // a packet and its queue slot
+	)
+	e, t := r.Exp, r.Topology
+	N := float64(t.Net.NumNodes())
+	channels := float64(len(t.Net.Channels))
+	bins := math.Ceil(float64(e.Duration) / float64(e.Bin))
+	b := bins * (histBytes + 8*channels + 200) // series, busy time, series rows
+	var queued float64
+	for _, c := range t.Net.Channels {
+		queued += float64(min(c.Buffer, 1<<20)) + 2
+	}
+	b += queued * packetBytes
+	b += channels * 300 // channel state and links rows
+	p := r.Agent
+	switch p.Kind {
+	case agents.ShortestPathKind:
+		b += N * (N*24 + channels*8 + float64(len(t.Net.Graph.Links)))
+	case agents.QRoutingKind:
+		b += 2 * channels * N * 8 * 5 // Q plus the variants' extra tables, per neighbour and destination
+	case agents.QNetworkKind:
+		in := 3*N + 2
+		params := 0.0
+		prev := in
+		for _, h := range p.Hidden {
+			params += (prev + 1) * float64(h)
+			prev = float64(h)
+		}
+		params += prev + 1
+		// weights, target copy, gradient and consensus scratch per node,
+		// replay samples of the inputs
+		b += N * (params*8*4 + float64(p.Replay)*(in+4)*8)
+	case agents.CentralAdaptiveKind, agents.CentralQKind:
+		b += N * N * 24 * 3 // pair counters and two snapshots in flight
+		b += N * N * float64(max(p.K, 1)) * 8 * 8
+	}
+	return b
+}
+
+// EstimatePeakBytes returns a rough peak memory estimate for running the
+// experiment with the given number of workers: the largest runs at once,
+// plus a fixed allowance for the process.
+func (e *Experiment) EstimatePeakBytes(workers int) float64 {
+	var sizes []float64
+	for _, r := range e.Runs() {
+		sizes = append(sizes, r.EstimateBytes())
+	}
+	slices.Sort(sizes)
+	slices.Reverse(sizes)
+	total := 30e6 // runtime, parsed experiment, parquet writers
+	for i := 0; i < workers && i < len(sizes); i++ {
+		total += sizes[i]
+	}
+	return total
+}

@@ -107,6 +107,8 @@ func writeCheck(w io.Writer, e *experiments.Experiment, workers int) {
 	par := single / float64(min(workers, len(runs)))
 	fmt.Fprintf(tw, "wall time\tabout %s with %s (%s on one), at a nominal %s events/s per worker\n",
 		checkRoughDuration(par), checkPlural(workers, "worker"), checkRoughDuration(single), checkSci(nominalEventsPerSecond))
+	fmt.Fprintf(tw, "memory\tabout %s at peak with %s (rough upper estimate)\n",
+		checkBytes(e.EstimatePeakBytes(workers)), checkPlural(workers, "worker"))
 	fmt.Fprintf(tw, "hash\t%s\n", e.Hash)
 	tw.Flush()
 }
@@ -125,10 +127,18 @@ func checkPlural(n int, word string) string {
 }
 
 // roughDuration rounds seconds to a readable duration.
+// checkBytes formats a byte count in MB or GB.
+func checkBytes(b float64) string {
+	if b >= 1e9 {
+		return fmt.Sprintf("%.1f GB", b/1e9)
+	}
+	return fmt.Sprintf("%.0f MB", math.Ceil(b/1e6))
+}
+
 func checkRoughDuration(s float64) string {
 	switch {
 	case s < 1:
-		return "under a second"
+		return "a second"
 	case s < 120:
 		return fmt.Sprintf("%.0fs", math.Ceil(s))
 	case s < 2*3600:
