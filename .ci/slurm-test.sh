@@ -141,6 +141,6 @@ for ((i = 0; i < TASKS; i++)); do
   echo "--- ${ARRAY}_$i.out:"; tail -n 2 "$LOG"
   [ -f "$WORK/cluster/shards/$i/runs.parquet" ] && fail "shard $i finalized tables though it holds only its share"
 done
-echo "--- merge log:"; tail -n 4 "$WORK"/cluster/slurm/logs/merge-"$MERGE".out
+echo "--- merge log:"; head -n 3 "$WORK"/cluster/slurm/logs/merge-"$MERGE".out
 go test ./sweep -run '^TestCompareDirs$' -count=1 -v -args "$WORK/local" "$WORK/cluster"
 ts "PASS: merged job-array result equals the local run (wall_s masked)"
