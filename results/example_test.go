@@ -7,6 +7,7 @@ import (
 
 	"hoplore/results"
 	"hoplore/results/resultstest"
+	"hoplore/sim"
 )
 
 // A sweep stores each finished run as a part, then assembles the tables.
@@ -51,4 +52,31 @@ func ExampleFinalize() {
 	// shortest-path/0.5/r2: loss 0.0449, throughput 76000 bit/s
 	// mill-quarry down at 60s: 60 lost, recovered: false
 	// summary: 1 cell, loss 0.04396 ± 0.00237
+}
+
+// A link cut at 105 s in 10 s bins: loss and delay jump, then settle.
+func ExampleRecover() {
+	mk := func(start int, gen, drop int64, mean float64) sim.Bin {
+		del := gen - drop
+		return sim.Bin{Start: sim.Time(start) * sim.Second, End: sim.Time(start+10) * sim.Second,
+			Generated: gen, Delivered: del, Dropped: drop, DelaySum: float64(del) * mean}
+	}
+	var series []sim.Bin
+	for t := 0; t < 100; t += 10 {
+		series = append(series, mk(t, 200, 0, 0.020)) // steady: 20 ms, no loss
+	}
+	series = append(series,
+		mk(100, 200, 40, 0.090), // the cut: queued packets lost, rerouting
+		mk(110, 200, 6, 0.031),  // still 3% loss
+		mk(120, 200, 0, 0.024),  // back within the band ...
+		mk(130, 200, 0, 0.022),
+		mk(140, 200, 0, 0.021), // ... three bins in a row
+	)
+	cut := []sim.FailureEvent{{At: 105 * sim.Second, Node: -1, Element: "c-d"}}
+	r := results.Recover(series, cut, 0, 20*sim.Second)
+	fmt.Printf("level %.0f ms, band up to %.0f ms and %.0f%% loss\n", r.PreDeliveryMean*1e3, r.MaxDeliveryMean*1e3, r.MaxLossRate*100)
+	fmt.Printf("recovered after %.0f s, %d packets lost\n", r.RecoveryS, r.LostPackets)
+	// Output:
+	// level 20 ms, band up to 25 ms and 1% loss
+	// recovered after 15 s, 46 packets lost
 }
