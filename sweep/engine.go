@@ -31,7 +31,20 @@ type store[T any] interface {
 // and the indices of this share.
 type plan[T any] struct {
 	units []unit[T]
-	share []int // indices into units, ascending
+	share []int     // indices into units, ascending
+	costs []float64 // units' estimated costs (Cost), by index; nil: ask the units
+}
+
+// withCosts fills p.costs once, so that sorting and progress do not
+// re-estimate (an estimate may cost O(nodes²)).
+func (p *plan[T]) withCosts() {
+	if p.costs != nil {
+		return
+	}
+	p.costs = make([]float64, len(p.units))
+	for i, u := range p.units {
+		p.costs[i] = u.Cost()
+	}
 }
 
 // engineOpts are the resolved options.
@@ -57,6 +70,7 @@ func (e *Interrupted) Error() string {
 // Out if it holds every run.
 func execute[T any](ctx context.Context, p plan[T], st store[T], o engineOpts) (*Outcome, error) {
 	start := time.Now()
+	p.withCosts()
 	oc := &Outcome{Out: o.out, Shard: o.shard, Runs: len(p.share), Total: len(p.units)}
 	if err := st.Check(o.out); err != nil {
 		return nil, err
@@ -79,7 +93,7 @@ func execute[T any](ctx context.Context, p plan[T], st store[T], o engineOpts) (
 	}
 	// Largest first, so the workers finish together (as in Assign).
 	slices.SortStableFunc(todo, func(a, b int) int {
-		ca, cb := p.units[a].Cost(), p.units[b].Cost()
+		ca, cb := p.costs[a], p.costs[b]
 		switch {
 		case ca > cb:
 			return -1
@@ -90,7 +104,7 @@ func execute[T any](ctx context.Context, p plan[T], st store[T], o engineOpts) (
 	})
 	var est float64
 	for _, i := range todo {
-		est += p.units[i].Cost()
+		est += p.costs[i]
 	}
 	prog := o.prog
 	if prog == nil {
@@ -213,7 +227,7 @@ func pool[T any](ctx context.Context, p plan[T], st store[T], o engineOpts, todo
 					err = &runError{u.ID(), err}
 				}
 				select {
-				case results <- result{ev, u.Cost(), err}:
+				case results <- result{ev, p.costs[i], err}:
 				case <-ctx.Done():
 					return
 				}

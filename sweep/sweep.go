@@ -62,9 +62,14 @@ type Outcome struct {
 // tables are finalized in e's run order and their summary is returned.
 //
 // Errors: an Out holding another experiment is reported as results.CheckDir
-// reports it; a cancelled ctx returns *Interrupted (finished runs kept); a
-// failed run stops the dispatch of new runs, keeps the runs in progress, and
-// is returned naming the run.
+// reports it (wrapping results.ErrOtherExperiment); a cancelled ctx returns
+// *Interrupted at once, with the finished runs kept: runs in progress are
+// abandoned and never written, even when they finish afterwards (a run
+// that has an ExecuteContext method is also told to stop); a failed or
+// panicking run stops the dispatch of new runs, keeps the runs in progress,
+// and is returned naming the run.
+//
+// Memory: each worker holds one run's simulation and tables at a time.
 func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Outcome, error) {
 	runs := e.Runs()
 	units := make([]unit[*results.RunTables], len(runs))
@@ -124,11 +129,8 @@ func makePlan[T any](units []unit[T], opts Options) (plan[T], Shard, error) {
 			return plan[T]{}, Shard{}, fmt.Errorf("sweep: shard %d/%d: want 0 <= I < N", opts.Shard, opts.Shards)
 		}
 		sh = Shard{opts.Shard, opts.Shards}
-		costs := make([]float64, len(units))
-		for i, u := range units {
-			costs[i] = u.Cost()
-		}
-		p.share = Assign(costs, opts.Shards)[opts.Shard]
+		p.withCosts()
+		p.share = Assign(p.costs, opts.Shards)[opts.Shard]
 	} else {
 		p.share = make([]int, len(units))
 		for i := range p.share {
