@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"slices"
+	"sync"
 )
 
 // MarkFile is the marker, in a result folder, naming the experiment whose
@@ -128,14 +129,16 @@ func Merge(out string, dirs []string) error {
 	var srcs []mergeSource
 	from := map[string]int{} // run id -> index of the source that provides it
 	absOut, _ := filepath.Abs(out)
-	add := func(dir string, own bool) error {
+	add := func(dir string) error {
 		ids, err := ListParts(dir)
 		if err != nil {
 			return err
 		}
 		src := mergeSource{dir: dir}
+		// A folder with no parts is read from its tables; one with neither
+		// (a shard that finished no run) contributes nothing.
 		_, statErr := os.Stat(filepath.Join(dir, RunsFile))
-		if len(ids) == 0 && (!own || statErr == nil) {
+		if len(ids) == 0 && statErr == nil {
 			if src.tables, err = splitTables(dir); err != nil {
 				return err
 			}
@@ -171,14 +174,14 @@ func Merge(out string, dirs []string) error {
 		}
 		return nil
 	}
-	if err := add(out, true); err != nil {
+	if err := add(out); err != nil {
 		return err
 	}
 	for _, d := range dirs {
 		if a, _ := filepath.Abs(d); a == absOut {
 			continue
 		}
-		if err := add(d, false); err != nil {
+		if err := add(d); err != nil {
 			return err
 		}
 	}
@@ -186,23 +189,34 @@ func Merge(out string, dirs []string) error {
 	if err := MarkDir(out, meta); err != nil {
 		return err
 	}
-	ids := make([]string, 0, len(from))
-	for id := range from {
-		ids = append(ids, id)
+	var todo []string
+	for id, k := range from {
+		if k != 0 || srcs[0].tables != nil { // not yet a part in OUT
+			todo = append(todo, id)
+		}
 	}
-	slices.Sort(ids)
-	for _, id := range ids {
-		k := from[id]
-		if k == 0 && srcs[0].tables == nil {
-			continue // already a part in OUT
-		}
-		t, err := srcs[k].load(id)
-		if err != nil {
-			return err
-		}
-		if err := WritePart(out, t); err != nil {
-			return err
-		}
+	slices.Sort(todo)
+	// Parts are written by a few goroutines at once: each is synced, and
+	// concurrent syncs share the file system's journal commits.
+	const writers = 8
+	errs := make([]error, writers)
+	var wg sync.WaitGroup
+	for w := range writers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := w; i < len(todo) && errs[w] == nil; i += writers {
+				t, err := srcs[from[todo[i]]].load(todo[i])
+				if err == nil {
+					err = WritePart(out, t)
+				}
+				errs[w] = err
+			}
+		}()
+	}
+	wg.Wait()
+	if err := errors.Join(errs...); err != nil {
+		return err
 	}
 	return Finalize(out, nil, meta)
 }

@@ -496,8 +496,13 @@ func TestMerge(t *testing.T) {
 	if err := os.RemoveAll(filepath.Join(shards[1], results.PartsDir)); err != nil {
 		t.Fatal(err)
 	}
+	// a shard that finished no run holds only its marker
+	empty := filepath.Join(root, "empty")
+	if err := results.MarkDir(empty, testMeta); err != nil {
+		t.Fatal(err)
+	}
 	out := filepath.Join(root, "merged")
-	if err := results.Merge(out, []string{shards[2], shards[0], shards[1]}); err != nil {
+	if err := results.Merge(out, []string{shards[2], empty, shards[0], shards[1]}); err != nil {
 		t.Fatal(err)
 	}
 	sameFiles(t, want, readFiles(t, out), "merged shards against one folder")
