@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"os"
 	"path/filepath"
 
 	"github.com/spf13/cobra"
@@ -33,14 +34,33 @@ are refused (exit status 2) and nothing is written.`,
 }
 
 func runMerge(d *deps, out string, dirs []string, quiet bool) error {
-	for _, dir := range dirs {
-		if _, err := results.ReadMark(dir); errors.Is(err, fs.ErrNotExist) {
+	// Every folder must be marked with the same experiment. Folders that
+	// hold no run (a shard with an empty share) are checked, then left out.
+	var first results.Meta
+	var full []string
+	for i, dir := range dirs {
+		m, err := results.ReadMark(dir)
+		if errors.Is(err, fs.ErrNotExist) {
 			return badInput(fmt.Errorf("merge: %s is not a result folder (no %s)", dir, results.MarkFile))
 		} else if err != nil {
 			return badInput(fmt.Errorf("merge: %w", err))
 		}
+		if i == 0 {
+			first = m
+		} else if m.ExperimentHash != first.ExperimentHash {
+			return badInput(fmt.Errorf("merge: %s holds experiment %q, %s holds %q: %w",
+				dirs[0], first.Experiment, dir, m.Experiment, results.ErrOtherExperiment))
+		}
+		if empty, err := holdsNoRun(dir); err != nil {
+			return fmt.Errorf("merge: %w", err)
+		} else if !empty {
+			full = append(full, dir)
+		}
 	}
-	err := results.Merge(out, dirs)
+	if len(full) == 0 {
+		return badInput(fmt.Errorf("merge: the folders hold no finished run"))
+	}
+	err := results.Merge(out, full)
 	if errors.Is(err, results.ErrOtherExperiment) {
 		return badInput(fmt.Errorf("merge: %w", err))
 	}
@@ -60,4 +80,18 @@ func runMerge(d *deps, out string, dirs []string, quiet bool) error {
 	}
 	fmt.Fprintf(d.stdout, "merged %d folders into %s: %d runs, %d cells\n\n", len(dirs), out, len(runs), len(sum))
 	return sweep.WriteSummary(d.stdout, sum)
+}
+
+// holdsNoRun reports whether a marked result folder holds neither parts nor
+// tables.
+func holdsNoRun(dir string) (bool, error) {
+	ids, err := results.ListParts(dir)
+	if err != nil || len(ids) > 0 {
+		return false, err
+	}
+	_, err = os.Stat(filepath.Join(dir, results.RunsFile))
+	if errors.Is(err, fs.ErrNotExist) {
+		return true, nil
+	}
+	return false, err
 }

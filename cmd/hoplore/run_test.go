@@ -85,6 +85,15 @@ func TestRunShardMergeCommands(t *testing.T) {
 		t.Errorf("merged shards against the whole sweep: %v", err)
 	}
 
+	// A shard with an empty share (more shards than runs) merges as nothing.
+	empty := filepath.Join(base, "empty")
+	hop(t, 0, "run", tiny, "--shard", "39/40", "--out", empty, "--quiet")
+	out, _ = hop(t, 0, "merge", filepath.Join(base, "merged2"), s0, empty, s1)
+	if !strings.Contains(out, "32 runs, 16 cells") {
+		t.Errorf("merge with an empty shard: stdout %q", out)
+	}
+	hop(t, 2, "merge", filepath.Join(base, "merged3"), empty, empty)
+
 	other := filepath.Join(base, "other")
 	if err := results.MarkDir(other, results.Meta{Version: "test", Experiment: "other", ExperimentHash: "0123"}); err != nil {
 		t.Fatal(err)
