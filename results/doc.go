@@ -21,6 +21,12 @@
 // experiment's name and hash and the tool version as key-value metadata
 // (Key*). Times are float64 seconds; statistics of nothing are null.
 //
+// Parts are a compact internal format (see partcodec.go), matched by column
+// name so that parts of an older tool version still read; the tables a
+// notebook reads are the Parquet files. The seed column is an unsigned
+// 64-bit integer. The module in ../xcheck reads every table back with Apache
+// arrow-go as an independent check (go test ./xcheck/...).
+//
 // Writing uses zstd compression for every column and dictionary encoding for
 // the low-cardinality labels. The tables are byte-identical whatever the
 // number of workers or the order parts were written in, except for the
