@@ -42,7 +42,7 @@ bash SCRIPT merge merges by hand. Paths in the script are absolute: the
 experiment file, the results folder and this hoplore executable (--hoplore
 to name another path on the cluster).`,
 		Example: `  hoplore slurm sweep.yaml --tasks 16 --partition compute --time 2:00:00 --cpus-per-task 8 --out /scratch/sweep
-  bash /scratch/sweep/slurm/load-sweep.sbatch`,
+  bash /scratch/sweep/slurm/NAME.sbatch    # the path it printed: submits the array and the merge job`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runSlurm(d, args[0], o)
