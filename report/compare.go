@@ -243,21 +243,24 @@ func fmtNum(x float64) string {
 	if math.IsNaN(x) {
 		return "–"
 	}
-	return fmt.Sprintf("%.4g", x)
+	return sig(x, 4)
 }
 
 func fmtSigned(x float64) string {
 	if math.IsNaN(x) {
 		return "–"
 	}
-	return fmt.Sprintf("%+.4g", x)
+	if x > 0 || (x == 0 && !math.Signbit(x)) {
+		return "+" + sig(x, 4)
+	}
+	return sig(x, 4)
 }
 
 func fmtInterval(lo, hi float64) string {
 	if math.IsNaN(lo) || math.IsNaN(hi) {
 		return "–"
 	}
-	return fmt.Sprintf("[%.4g, %.4g]", lo, hi)
+	return "[" + sig(lo, 4) + ", " + sig(hi, 4) + "]"
 }
 
 func fmtP(p float64) string {

@@ -18,7 +18,7 @@ const pageHTML = `<!DOCTYPE html>
 }
 * { box-sizing: border-box; }
 body { margin:0; background:var(--bg); color:var(--ink); font:15px/1.45 "Liberation Sans", Arial, Helvetica, sans-serif; }
-header, main { max-width: 1200px; margin: 0 auto; padding: 0 20px; }
+header, main { max-width: 1320px; margin: 0 auto; padding: 0 20px; }
 header { padding-top: 24px; }
 h1 { font-size: 1.5em; margin: 0 0 4px; }
 h2 { font-size: 1.2em; margin: 32px 0 8px; }
@@ -63,11 +63,11 @@ td.clear { font-weight: bold; color: var(--accent); }
 <main>
 {{if .Glance}}<section id="glance">
 <h2>At a glance: the fastest agent in each cell</h2>
-<p class="note">Fastest: lowest mean delivery time across replicates. The runner-up is compared with it run by run (same replicate, same seeds): difference in mean delivery time with its 95% confidence interval, paired t test and Wilcoxon signed-rank test. Loss rates beside them, since an agent that drops slow packets can look fast.</p>
+<p class="note">Fastest: lowest mean delivery time across replicates. The runner-up is compared with it run by run (same replicate, same seeds): difference in mean delivery time with its 95% confidence interval, paired t test and Wilcoxon signed-rank test. Loss rates beside them, since an agent that drops slow packets can look fast. Verdict "faster": the 95% confidence interval of the difference lies below zero (paired t, p &lt; 0.05); "unclear": it does not; "untested": fewer than two paired replicates.</p>
 <div class="scroll"><table class="glance" data-table="glance">
-<thead><tr><th>topology</th><th>failures</th><th>load</th><th>fastest</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>runner-up</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>difference ({{.GlanceUnit}}) [95% CI]</th><th>p (t)</th><th>p (Wilcoxon)</th><th>verdict</th></tr></thead>
+<thead><tr><th>topology</th><th>failures</th><th>load</th><th>fastest</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>runner-up</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>difference ({{.GlanceUnit}}) ± 95% CI</th><th>p (t)</th><th>p (Wilcoxon)</th><th>verdict</th></tr></thead>
 <tbody>
-{{range .Glance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestMean}}</td><td>{{.BestLoss}}</td><td class="dim">{{.Second}}</td><td>{{.SecondMean}}</td><td>{{.SecondLoss}}</td><td>{{.Diff}} {{.CI}}</td><td>{{.PT}}</td><td>{{.PW}}</td><td class="dim{{if .Clear}} clear{{end}}">{{.Verdict}}</td></tr>
+{{range .Glance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestMean}}</td><td>{{.BestLoss}}</td><td class="dim">{{.Second}}</td><td>{{.SecondMean}}</td><td>{{.SecondLoss}}</td><td>{{.Diff}}</td><td>{{.PT}}</td><td>{{.PW}}</td><td class="dim{{if .Clear}} clear{{end}}">{{.Verdict}}</td></tr>
 {{end}}</tbody></table></div>
 </section>
 {{end}}{{range .Charts}}<section class="chart-section">

@@ -231,9 +231,9 @@ func fmtEstimate(e Estimate, scale float64) string {
 	case e.N == 0 || math.IsNaN(e.Mean):
 		return "–"
 	case math.IsNaN(e.CI95):
-		return fmt.Sprintf("%.4g", e.Mean*scale)
+		return sig(e.Mean*scale, 4)
 	}
-	return fmt.Sprintf("%.4g ± %.2g", e.Mean*scale, e.CI95*scale)
+	return plusMinus(e.Mean*scale, e.CI95*scale)
 }
 
 func makeTable(id, title, metricName string, agents []string, rows []TableRow) htmlTable {
@@ -258,9 +258,9 @@ func makeTable(id, title, metricName string, agents []string, rows []TableRow) h
 			case e.N == 0:
 				c.Text = "–"
 			case math.IsNaN(e.CI95):
-				c.Text = fmt.Sprintf("%.4g", e.Mean*scale)
+				c.Text = sig(e.Mean*scale, 4)
 			default:
-				c.Text = fmt.Sprintf("%.4g ± %.2g", e.Mean*scale, e.CI95*scale)
+				c.Text = plusMinus(e.Mean*scale, e.CI95*scale)
 			}
 			c.Title = fmt.Sprintf("%s: n = %d replicates", agents[i], e.N)
 			hr.Cells = append(hr.Cells, c)
@@ -348,14 +348,14 @@ func (r *Report) HTML(w io.Writer) error {
 		v := glanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
 			Best: g.Best, BestMean: fmtEstimate(g.BestMean, scale), BestLoss: fmtEstimate(g.BestLoss, 100),
 			Second: g.Second, SecondMean: fmtEstimate(g.SecondMean, scale), SecondLoss: fmtEstimate(g.SecondLoss, 100),
-			Diff: fmtSigned(c.MeanDiff * scale), CI: fmtInterval(c.CI95Low*scale, c.CI95High*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
+			Diff: plusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
 		switch {
 		case c.N < 2:
-			v.Verdict = "one replicate: untested"
+			v.Verdict = "untested"
 		case c.CI95High < 0 && c.PT < 0.05:
-			v.Verdict, v.Clear = "faster (p < 0.05)", true
+			v.Verdict, v.Clear = "faster", true
 		default:
-			v.Verdict = "not distinguishable"
+			v.Verdict = "unclear"
 		}
 		glance = append(glance, v)
 	}
@@ -374,11 +374,11 @@ func (r *Report) HTML(w io.Writer) error {
 			case ar.Recovery.N == 0:
 				rv.Recovery = "never"
 			case math.IsNaN(ar.Recovery.CI95):
-				rv.Recovery = fmt.Sprintf("%.4g s", ar.Recovery.Mean)
+				rv.Recovery = sig(ar.Recovery.Mean, 3) + " s"
 			default:
-				rv.Recovery = fmt.Sprintf("%.4g ± %.2g s", ar.Recovery.Mean, ar.Recovery.CI95)
+				rv.Recovery = plusMinus(ar.Recovery.Mean, ar.Recovery.CI95) + " s"
 			}
-			rv.Lost = fmt.Sprintf("%.4g", ar.Lost.Mean)
+			rv.Lost = sig(ar.Lost.Mean, 4)
 			ev.Rows = append(ev.Rows, rv)
 		}
 		events = append(events, ev)
