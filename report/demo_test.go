@@ -100,7 +100,7 @@ func TestBuildRefusesOptionsNamingNothing(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, c := range r.Charts {
+	for _, c := range r.charts {
 		if c.ID == "links" && !strings.Contains(c.Caption, "load 0.5, failures cut") {
 			t.Errorf("links caption %q does not name the chosen cell", c.Caption)
 		}

@@ -3,8 +3,11 @@ package report_test
 import (
 	"fmt"
 	"os"
+	"path/filepath"
 
 	"hoplore/report"
+	"hoplore/results"
+	"hoplore/results/resultstest"
 )
 
 // The paired t test on Student's (1908) sleep data: differences between two
@@ -52,4 +55,53 @@ func ExampleCompare() {
 	//   two-region     none   0.8   delivery_p95 (ms)  4      23      29     -6  [-8.598, -3.402]  0.0052        0.1250
 	//   two-region     none   0.8       loss_rate (%)  4       0       0     +0            [0, 0]       –             –
 	// p (Wilcoxon): exact signed-rank distribution; ~ marks the normal approximation
+}
+
+// Write reads a result folder and writes the page and the chart files.
+// The folder here is written with the results package from hand-made runs
+// of two agents.
+func ExampleWrite() {
+	dir, err := os.MkdirTemp("", "report-example")
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	defer os.RemoveAll(dir)
+	net := resultstest.Net()
+	cfg := resultstest.Config(net)
+	for _, agent := range []string{"shortest-path", "q-routing"} {
+		for rep := range 2 {
+			r := results.FromRun(resultstest.Dims(agent, 0.5, rep), net, cfg, resultstest.Run(net, rep, false), 1, "example")
+			if err := results.WritePart(dir, r); err != nil {
+				fmt.Println(err)
+				return
+			}
+		}
+	}
+	if err := results.Finalize(dir, nil, results.Meta{Version: "example", Experiment: "square-sweep", ExperimentHash: "x"}); err != nil {
+		fmt.Println(err)
+		return
+	}
+	if err := report.Write(dir, report.Options{}); err != nil {
+		fmt.Println(err)
+		return
+	}
+	files, _ := os.ReadDir(filepath.Join(dir, "report"))
+	for _, f := range files {
+		fmt.Println(f.Name())
+	}
+	// Output:
+	// delivery-mean.png
+	// delivery-mean.svg
+	// delivery-p95.png
+	// delivery-p95.svg
+	// event-square-cut.png
+	// event-square-cut.svg
+	// index.html
+	// links.png
+	// links.svg
+	// loss.png
+	// loss.svg
+	// util-time.png
+	// util-time.svg
 }

@@ -24,19 +24,19 @@ func TestGoldenSVG(t *testing.T) {
 		t.Fatal(err)
 	}
 	var ids []string
-	for _, c := range r.Charts {
+	for _, c := range r.charts {
 		ids = append(ids, c.ID)
 	}
 	want := []string{"delivery-mean", "delivery-p95", "loss", "event-two-region-cut", "links", "util-time"}
 	if strings.Join(ids, ",") != strings.Join(want, ",") {
 		t.Fatalf("charts: got %v, want %v", ids, want)
 	}
-	for _, c := range r.Charts {
+	for _, c := range r.charts {
 		svg := c.svg(lightTheme, false)
 		wellFormed(t, c.ID, svg)
 		golden(t, filepath.Join("testdata", "golden", c.ID+".svg"), svg)
 	}
-	themed := r.Charts[0].themedSVG(false)
+	themed := r.charts[0].themedSVG(false)
 	wellFormed(t, "themed", themed)
 	golden(t, filepath.Join("testdata", "golden", "delivery-mean.themed.svg"), themed)
 	for _, s := range []string{"var(--ink,#1b1b1b)", "prefers-color-scheme: dark"} {

@@ -56,15 +56,26 @@ func (o Options) withDefaults(dir string) Options {
 	return o
 }
 
-// Report is everything the HTML page shows, built from Data.
+// Report is everything the HTML page shows, built from Data by Build.
 type Report struct {
-	Data    *Data
-	Charts  []*chart
-	Tables  []htmlTable
-	Events  []EventPanel
-	Glance  []GlanceRow
-	Notes   []string
+	Data   *Data
+	Events []EventPanel // the failure events drawn, with recovery times
+	Glance []GlanceRow  // the fastest agent per cell against the runner-up
+	Notes  []string     // what the page leaves out and why
+
+	charts  []*chart
+	tables  []htmlTable
 	options Options
+}
+
+// ChartIDs returns the ids of the charts, in page order: the element id in
+// index.html and the stem of the SVG and PNG files.
+func (r *Report) ChartIDs() []string {
+	ids := make([]string, len(r.charts))
+	for i, c := range r.charts {
+		ids[i] = c.ID
+	}
+	return ids
 }
 
 // Build aggregates d into charts and tables. It fails only on an option
@@ -81,7 +92,7 @@ func Build(d *Data, o Options) (*Report, error) {
 		{"loss_rate", "loss", "Loss rate against load",
 			"Share of the packets generated in the measured window that were dropped (any reason)."},
 	} {
-		r.Charts = append(r.Charts, loadChart(m.id, m.title, m.caption, LoadCurves(d, m.metric), agents, m.metric))
+		r.charts = append(r.charts, loadChart(m.id, m.title, m.caption, LoadCurves(d, m.metric), agents, m.metric))
 	}
 	// failure events
 	if len(d.Recoveries) > 0 {
@@ -97,7 +108,7 @@ func Build(d *Data, o Options) (*Report, error) {
 				j++
 			}
 			e := eps[i]
-			r.Charts = append(r.Charts, eventChart("event-"+slug(e.Topology)+"-"+slug(e.Failure),
+			r.charts = append(r.charts, eventChart("event-"+slug(e.Topology)+"-"+slug(e.Failure),
 				fmt.Sprintf("Around each failure event: %s, schedule %s, load %s", e.Topology, e.Failure, fmtNum(load)),
 				"Delivery time and loss per time bin, aligned on each failure event, mean across the replicates in which the event happened.",
 				eps[i:j], agents))
@@ -112,28 +123,28 @@ func Build(d *Data, o Options) (*Report, error) {
 	} else if ok {
 		h := ChannelHeat(d, p, o.MaxChannels)
 		if len(h.Rows) > 0 && len(h.Cols) > 0 {
-			r.Charts = append(r.Charts, channelChart("links", "Link utilisation per channel",
+			r.charts = append(r.charts, channelChart("links", "Link utilisation per channel",
 				fmt.Sprintf("Mean utilisation of each directed channel across replicates, per agent, in the cell %s, load %s, failures %s (the busiest channels, up to %d).",
 					p.Topology, fmtNum(p.Load), p.Failure, o.MaxChannels), p, h))
 		}
 		th, starts := TimeHeat(d, p)
 		if len(th.Rows) > 0 && len(starts) > 0 {
 			bin := binWidth(d)
-			r.Charts = append(r.Charts, timeChart("util-time", "Busiest channel over time",
+			r.charts = append(r.charts, timeChart("util-time", "Busiest channel over time",
 				fmt.Sprintf("Utilisation of the busiest channel in each time bin (mean across replicates), per agent, same cell (%s, load %s, failures %s).",
 					p.Topology, fmtNum(p.Load), p.Failure), p, th, starts, bin))
 		}
 	} else {
 		r.Notes = append(r.Notes, "No link table (links.parquet is absent): no utilisation chart.")
 	}
-	uniqueIDs(r.Charts)
+	uniqueIDs(r.charts)
 	r.Glance = Glance(d)
 	for _, m := range []struct{ metric, id, title string }{
 		{"delivery_mean_s", "table-delivery-mean", "Mean delivery time"},
 		{"delivery_p95_s", "table-delivery-p95", "95th percentile of delivery time"},
 		{"loss_rate", "table-loss", "Loss rate"},
 	} {
-		r.Tables = append(r.Tables, makeTable(m.id, m.title, m.metric, agents, CellTable(d, m.metric)))
+		r.tables = append(r.tables, makeTable(m.id, m.title, m.metric, agents, CellTable(d, m.metric)))
 	}
 	return r, nil
 }
@@ -292,7 +303,7 @@ func (r *Report) Write() error {
 	if err := os.MkdirAll(o.Out, 0o755); err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
-	for _, c := range r.Charts {
+	for _, c := range r.charts {
 		svg := c.svg(lightTheme, o.EmbedFonts)
 		if err := writeFile(filepath.Join(o.Out, c.ID+".svg"), svg); err != nil {
 			return err
@@ -360,7 +371,7 @@ func (r *Report) HTML(w io.Writer) error {
 		glance = append(glance, v)
 	}
 	var charts []chartView
-	for _, c := range r.Charts {
+	for _, c := range r.charts {
 		src := "data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(c.themedSVG(false))
 		w, h := c.displaySize()
 		charts = append(charts, chartView{ID: c.ID, Title: c.Title, Caption: c.Caption, Src: template.URL(src), W: w, H: h})
@@ -404,7 +415,7 @@ func (r *Report) HTML(w io.Writer) error {
 		"Failures":   strings.Join(d.Failures(), ", "),
 		"Replicates": len(reps),
 		"Charts":     charts,
-		"Tables":     r.Tables,
+		"Tables":     r.tables,
 		"Events":     events,
 		"Notes":      r.Notes,
 		"Glance":     glance,
