@@ -212,6 +212,13 @@ func writeTemp(path string, write func(io.Writer) error) (p pending, err error) 
 	if err != nil {
 		return p, fmt.Errorf("results: %w", err)
 	}
+	// results are for sharing: readable by others, like any file written with
+	// os.WriteFile(…, 0o644) (temp files start at 0600)
+	if err := f.Chmod(0o644); err != nil {
+		f.Close()
+		os.Remove(f.Name())
+		return p, fmt.Errorf("results: %w", err)
+	}
 	defer func() {
 		if err != nil {
 			f.Close()

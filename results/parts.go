@@ -177,6 +177,11 @@ func Finalize(dir string, order []string, meta Meta) error {
 		if err != nil {
 			return nil, fmt.Errorf("results: %w", err)
 		}
+		if err := f.Chmod(0o644); err != nil {
+			f.Close()
+			os.Remove(f.Name())
+			return nil, fmt.Errorf("results: %w", err)
+		}
 		ps = append(ps, pending{tmp: f.Name(), path: filepath.Join(dir, name)})
 		return &stream{f: f, bw: bufio.NewWriterSize(f, 1<<16), tmp: f.Name()}, nil
 	}
