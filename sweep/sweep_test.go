@@ -274,3 +274,27 @@ func ExampleExecute() {
 	// tiny: 32 runs, 32 run now, complete true, 16 cells
 	// first cell: ring, shortest-path, load 0.3, none, 2 replicates
 }
+
+func ExampleWriteSummary() {
+	f := func(v float64) *float64 { return &v }
+	rows := []results.SummaryRow{
+		{
+			CellDims:   results.CellDims{Experiment: "x", Topology: "ring", Agent: "shortest-path", Load: 0.5, Failure: "none"},
+			Replicates: 5,
+			// seconds, seconds, fraction, bit/s
+			DeliveryMeanSMean: f(0.0082213), DeliveryMeanSCI95: f(0.0000464),
+			DeliveryP95SMean: f(0.1573), DeliveryP95SCI95: f(0.05887),
+			LossRateMean: f(0.000402), LossRateCI95: f(0.000238),
+			ThroughputBpsMean: f(19.4e6), ThroughputBpsCI95: f(0.107e6),
+		},
+		{
+			CellDims:   results.CellDims{Experiment: "x", Topology: "ring", Agent: "q-routing", Load: 0.5, Failure: "none"},
+			Replicates: 1, ThroughputBpsMean: f(0),
+		},
+	}
+	WriteSummary(os.Stdout, rows)
+	// Output:
+	// topology  agent          load  failure  reps  delivery mean ms  delivery p95 ms  loss %           throughput Mbit/s
+	// ring      shortest-path  0.5   none     5     8.22 ± 0.05       157 ± 59         0.0402 ± 0.0238  19.4 ± 0.1
+	// ring      q-routing      0.5   none     1     -                 -                -                0.00
+}

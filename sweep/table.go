@@ -17,10 +17,10 @@ import (
 // there is a single replicate; a statistic with no value prints as "-".
 func WriteSummary(w io.Writer, rows []results.SummaryRow) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "topology\tagent\tload\tfailure\treps\tdelivery mean ms\tdelivery p95 ms\tloss %\tthroughput Mbit/s\t")
+	fmt.Fprintln(tw, "topology\tagent\tload\tfailure\treps\tdelivery mean ms\tdelivery p95 ms\tloss %\tthroughput Mbit/s")
 	for i := range rows {
 		r := &rows[i]
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t\n",
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\n",
 			r.Topology, r.Agent, strconv.FormatFloat(r.Load, 'g', -1, 64), r.Failure, r.Replicates,
 			pm(r.DeliveryMeanSMean, r.DeliveryMeanSCI95, 1e3),
 			pm(r.DeliveryP95SMean, r.DeliveryP95SCI95, 1e3),
