@@ -13,8 +13,10 @@ cd "$(dirname "$0")/.."
 REPO=$(pwd)
 export DEBIAN_FRONTEND=noninteractive
 export PATH="$PATH:/usr/local/go/bin"
-T0=$(date +%s.%N)
-ts() { printf '[slurm-test %6.1fs] %s\n' "$(echo "$(date +%s.%N) - $T0" | bc)" "$*"; }
+ms() { echo $(($(date +%s%N) / 1000000)); }   # milliseconds, without needing bc
+secs() { local d=$(($(ms) - $1)); printf '%d.%03d' $((d / 1000)) $((d % 1000)); }
+T0=$(ms)
+ts() { printf '[slurm-test %8ss] %s\n' "$(secs "$T0")" "$*"; }
 fail() { echo "slurm-test: FAIL: $*" >&2; exit 1; }
 
 [ "$(id -u)" = 0 ] || fail "must run as root (it installs packages and starts daemons)"
@@ -118,12 +120,12 @@ bash "$SCRIPT" | tee "$WORK/submit.txt"
 ARRAY=$(sed -n 's/^submitted array job \([0-9]*\) .*/\1/p' "$WORK/submit.txt")
 MERGE=$(sed -n 's/.* and merge job \([0-9]*\);.*/\1/p' "$WORK/submit.txt")
 [ -n "$ARRAY" ] && [ -n "$MERGE" ] || fail "could not read the job ids from the submission"
-S0=$(date +%s.%N)
+S0=$(ms)
 for _ in $(seq 1 1200); do                     # poll every 0.5 s, at most 10 minutes
   [ -z "$(squeue -h -j "$ARRAY,$MERGE" 2>/dev/null)" ] && break; sleep 0.5
 done
 [ -z "$(squeue -h -j "$ARRAY,$MERGE" 2>/dev/null)" ] || { squeue; fail "jobs still queued after 10 minutes"; }
-ts "array $ARRAY and merge $MERGE finished in $(echo "$(date +%s.%N) - $S0" | bc)s"
+ts "array $ARRAY and merge $MERGE finished in $(secs "$S0")s"
 
 # ---- 6. states, logs and tables ----
 states() {  # one line per job: its id, array task, state and exit code
