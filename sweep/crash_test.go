@@ -69,9 +69,12 @@ func TestKillAndResume(t *testing.T) {
 	exp := tinyPath(t)
 	base := t.TempDir()
 	ref := filepath.Join(base, "ref")
-	if out, err := exec.Command(bin, "run", exp, "--out", ref, "--quiet", "--workers", "2").CombinedOutput(); err != nil {
+	t0 := time.Now()
+	if out, err := exec.Command(bin, "run", exp, "--out", ref, "--quiet", "--workers", "1").CombinedOutput(); err != nil {
 		t.Fatalf("uninterrupted run: %v\n%s", err, out)
 	}
+	whole := time.Since(t0) // the kills below fall within such a span
+	t.Logf("uninterrupted sweep: %v", whole)
 	dir := filepath.Join(base, "killed")
 	start := func() *exec.Cmd {
 		cmd := exec.Command(bin, "run", exp, "--out", dir, "--quiet", "--workers", "1")
@@ -92,7 +95,7 @@ func TestKillAndResume(t *testing.T) {
 		prev = n
 	}
 	// Kills once given numbers of runs have finished ...
-	for _, more := range []int{1, 3} {
+	for _, more := range []int{1, 3, 5} {
 		want := prev + more
 		cmd := start()
 		exited := make(chan struct{})
@@ -121,9 +124,9 @@ func TestKillAndResume(t *testing.T) {
 	// ... and at random moments (in a part write, between runs, while
 	// finalizing), until the sweep is done.
 	rng := rand.New(rand.NewPCG(2026, 5))
-	for k := 0; k < 6 && prev < 32; k++ {
+	for k := 0; k < 10 && prev < 32; k++ {
 		cmd := start()
-		d := time.Duration(50+rng.IntN(600)) * time.Millisecond
+		d := time.Duration(rng.Float64() * 0.3 * float64(whole)).Round(time.Millisecond)
 		time.Sleep(d)
 		after("killed after "+d.String(), cmd)
 	}
