@@ -197,19 +197,22 @@ func TestEngineInterrupt(t *testing.T) {
 	if !errors.As(err, &ie) {
 		t.Fatalf("err = %v, want *Interrupted", err)
 	}
-	if ie.Kept != 5 || ie.Runs != 20 {
-		t.Errorf("interrupted: %+v, want 5 of 20 kept", ie)
+	// The five quick runs are kept; a blocked run that returns between the
+	// cancellation and the stop may be kept too (it is complete).
+	if ie.Kept < 5 || ie.Runs != 20 {
+		t.Errorf("interrupted: %+v, want at least 5 of 20 kept", ie)
 	}
 	if !strings.Contains(ie.Error(), "rerun") {
 		t.Errorf("message %q does not say that a rerun resumes", ie.Error())
 	}
-	// Runs that finish after the interruption must not be written.
+	// Runs that finish after the interruption must not be written: the
+	// folder holds exactly the runs reported kept.
 	time.Sleep(100 * time.Millisecond)
 	st.mu.Lock()
 	n := len(st.parts)
 	st.mu.Unlock()
-	if n != 5 {
-		t.Errorf("%d parts after the interruption (%d runs finished late), want 5", n, late.Load())
+	if n != ie.Kept {
+		t.Errorf("%d parts after the interruption (%d runs finished late), want the %d reported kept", n, late.Load(), ie.Kept)
 	}
 	if st.finalized != nil {
 		t.Error("finalized after an interruption")
