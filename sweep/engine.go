@@ -170,8 +170,8 @@ func (e *runError) Error() string   { return fmt.Sprintf("sweep: run %s: %v", e.
 func (e *runError) Unwrap() []error { return []error{e.err, errRun} }
 
 // pool runs the units todo (in that order of dispatch) on o.workers workers.
-// It returns at once when ctx is cancelled: runs in progress are abandoned
-// and never written afterwards. On a run's failure it stops dispatching,
+// It returns at once when ctx is cancelled: runs in progress are abandoned,
+// and no part is written once it has returned. On a run's failure it stops dispatching,
 // lets the runs in progress finish (and keeps them), and returns the error.
 func pool[T any](ctx context.Context, p plan[T], st store[T], o engineOpts, todo []int, prog reporter) (ran int, events int64, err error) {
 	workers := max(1, min(o.workers, len(todo)))

@@ -63,9 +63,10 @@ type Outcome struct {
 //
 // Errors: an Out holding another experiment is reported as results.CheckDir
 // reports it (wrapping results.ErrOtherExperiment); a cancelled ctx returns
-// *Interrupted at once, with the finished runs kept: runs in progress are
-// abandoned and never written, even when they finish afterwards (a run
-// that has an ExecuteContext method is also told to stop); a failed or
+// *Interrupted at once, with the finished runs kept and counted: runs in
+// progress are abandoned, and one that finishes after the sweep stopped is
+// never written (a run that has an ExecuteContext method is also told to
+// stop); a failed or
 // panicking run stops the dispatch of new runs, keeps the runs in progress,
 // and is returned naming the run.
 //
