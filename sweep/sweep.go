@@ -66,9 +66,8 @@ type Outcome struct {
 // *Interrupted at once, with the finished runs kept and counted: runs in
 // progress are abandoned, and one that finishes after the sweep stopped is
 // never written (a run that has an ExecuteContext method is also told to
-// stop); a failed or
-// panicking run stops the dispatch of new runs, keeps the runs in progress,
-// and is returned naming the run.
+// stop); a failed or panicking run stops the dispatch of new runs, keeps
+// the runs in progress, and is returned naming the run.
 //
 // Memory: each worker holds one run's simulation and tables at a time.
 func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Outcome, error) {
