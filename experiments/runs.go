@@ -1,6 +1,7 @@
 package experiments
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
@@ -273,12 +274,18 @@ func randomFailures(g *sim.Graph, rf *Random, duration sim.Time, seed uint64) []
 // Execute builds the run's configuration, runs it and returns its result
 // tables, with the wall-clock time it took and version in them.
 func (r *Run) Execute(version string) (*results.RunTables, error) {
+	return r.ExecuteContext(context.Background(), version)
+}
+
+// ExecuteContext is Execute that stops soon after ctx is done, returning
+// ctx's error (wrapped).
+func (r *Run) ExecuteContext(ctx context.Context, version string) (*results.RunTables, error) {
 	cfg, err := r.Config()
 	if err != nil {
 		return nil, err
 	}
 	start := time.Now()
-	res, err := sim.Run(cfg)
+	res, err := sim.RunContext(ctx, cfg)
 	if err != nil {
 		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
 	}

@@ -1,6 +1,8 @@
 package sim_test
 
 import (
+	"context"
+	"errors"
 	"testing"
 
 	"hoplore/sim"
@@ -104,5 +106,17 @@ func TestConfigErrors(t *testing.T) {
 		if _, err := sim.Run(c); err == nil {
 			t.Errorf("%s: no error", name)
 		}
+	}
+}
+
+// A cancelled context stops a run early with the context's error.
+func TestRunContextCancel(t *testing.T) {
+	net := sim.Compile(lineGraph([]float64{1e6}, []sim.Time{0}, 10))
+	cfg := &sim.Config{Net: net, Agent: shortest(t, net), Duration: 1e6 * sim.Second, Bin: 1000 * sim.Second,
+		Traffic: sim.Traffic{Rates: oneFlow(2, 0, 1, 50), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 100}}}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := sim.RunContext(ctx, cfg); !errors.Is(err, context.Canceled) {
+		t.Errorf("error %v, want context.Canceled", err)
 	}
 }

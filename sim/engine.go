@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -11,11 +12,19 @@ import (
 // Run simulates cfg and returns what it measured. It is deterministic: the
 // same Config gives the same Result. Cost: O(events · log events).
 func Run(cfg *Config) (*Result, error) {
+	return RunContext(context.Background(), cfg)
+}
+
+// RunContext is Run that gives up, returning ctx's error, soon after ctx is
+// done (it looks every 65,536 events).
+func RunContext(ctx context.Context, cfg *Config) (*Result, error) {
 	e, err := newEngine(cfg)
 	if err != nil {
 		return nil, err
 	}
-	e.loop()
+	if err := e.loop(ctx); err != nil {
+		return nil, fmt.Errorf("sim: run stopped at %.3f s of simulated time: %w", e.now.Seconds(), err)
+	}
 	return e.finish()
 }
 
@@ -275,11 +284,19 @@ func (e *engine) schedule(at Time, kind uint8, a, b int32, c uint32) {
 	e.heap.push(event{at: at, seq: e.seq, kind: kind, a: a, b: b, c: c})
 }
 
-func (e *engine) loop() {
+func (e *engine) loop(ctx context.Context) error {
 	end := e.cfg.Duration
+	done := ctx.Done()
 	for e.heap.len() > 0 {
 		if e.heap.ev[0].at > end {
 			break
+		}
+		if done != nil && e.res.Events&0xffff == 0 {
+			select {
+			case <-done:
+				return ctx.Err()
+			default:
+			}
 		}
 		ev := e.heap.pop()
 		e.now = ev.at
@@ -310,6 +327,7 @@ func (e *engine) loop() {
 		}
 	}
 	e.now = end
+	return nil
 }
 
 // ---- packets ----
