@@ -11,6 +11,7 @@ type PathTree struct {
 	First []uint64  // bit i set: Out[src][i] starts a cheapest path (nodes of degree ≤ 64)
 	order []int
 	done  []bool
+	heap  []distItem
 }
 
 // equalCost reports whether a and b are equal within the tie tolerance.
@@ -20,8 +21,8 @@ func equalCost(a, b float64) bool {
 
 // ShortestFrom computes cheapest paths from src over channels with finite,
 // non-negative weight w[c] (use math.Inf(1) for unusable channels), reusing t's
-// storage. Cost: O(N² + L) — simple and allocation-free once t is sized,
-// adequate for the topologies hoplore runs (up to a few thousand nodes).
+// storage. Cost: O((N + L) log N) with a binary heap; allocation-free once t
+// is sized.
 func ShortestFrom(n *Net, src int, w []float64, t *PathTree) {
 	N := n.NumNodes()
 	if len(t.Dist) != N {
@@ -36,17 +37,16 @@ func ShortestFrom(n *Net, src int, w []float64, t *PathTree) {
 		t.done[i] = false
 	}
 	t.order = t.order[:0]
+	t.heap = t.heap[:0]
 	t.Dist[src] = 0
-	for {
-		u, best := -1, math.Inf(1)
-		for v := 0; v < N; v++ {
-			if !t.done[v] && t.Dist[v] < best {
-				u, best = v, t.Dist[v]
-			}
+	t.push(distItem{0, src})
+	for len(t.heap) > 0 {
+		it := t.pop()
+		u := it.node
+		if t.done[u] || it.d != t.Dist[u] {
+			continue // a stale entry
 		}
-		if u < 0 {
-			break
-		}
+		best := it.d
 		t.done[u] = true
 		t.order = append(t.order, u)
 		for i, c := range n.Out[u] {
@@ -71,11 +71,67 @@ func ShortestFrom(n *Net, src int, w []float64, t *PathTree) {
 			case math.IsInf(t.Dist[v], 1) || (nd < t.Dist[v] && !equalCost(nd, t.Dist[v])):
 				t.Dist[v] = nd
 				t.First[v] = bits
+				t.push(distItem{nd, v})
 			case equalCost(nd, t.Dist[v]):
 				t.First[v] |= bits
 			}
 		}
 	}
+}
+
+type distItem struct {
+	d    float64
+	node int
+}
+
+func (t *PathTree) push(x distItem) {
+	t.heap = append(t.heap, x)
+	h := t.heap
+	i := len(h) - 1
+	for i > 0 {
+		p := (i - 1) / 2
+		if !distLess(x, h[p]) {
+			break
+		}
+		h[i] = h[p]
+		i = p
+	}
+	h[i] = x
+}
+
+func (t *PathTree) pop() distItem {
+	h := t.heap
+	top := h[0]
+	n := len(h) - 1
+	x := h[n]
+	t.heap = h[:n]
+	h = t.heap
+	if n == 0 {
+		return top
+	}
+	i := 0
+	for {
+		c := 2*i + 1
+		if c >= n {
+			break
+		}
+		if c+1 < n && distLess(h[c+1], h[c]) {
+			c++
+		}
+		if !distLess(h[c], x) {
+			break
+		}
+		h[i] = h[c]
+		i = c
+	}
+	h[i] = x
+	return top
+}
+
+// distLess orders heap entries by distance, then node index, so that the
+// settling order is deterministic.
+func distLess(a, b distItem) bool {
+	return a.d < b.d || (a.d == b.d && a.node < b.node)
 }
 
 // NextHop returns the lowest-index first-hop channel from src towards d in
