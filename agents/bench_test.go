@@ -1,9 +1,7 @@
 package agents_test
 
 import (
-	"math"
 	"testing"
-	"time"
 
 	"hoplore/agents"
 	"hoplore/agents/agenttest"
@@ -157,7 +155,7 @@ func benchRun(b *testing.B, g *sim.Graph, p agents.Params, arrivals bool) {
 		}
 		b.StopTimer()
 	})
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/call")
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N), "ns/decision")
 }
 
 // BenchmarkDecision times one routing decision of every kind (ns/op is per
@@ -184,31 +182,17 @@ func BenchmarkFeedback(b *testing.B) {
 	}
 }
 
-// TestDecisionsDoNotAllocate times one decision of every kind, well into a
-// run, and fails if a decision allocates (house rule: the hot loop
-// allocates nothing), or if q-network's decision at hidden [32] on a 4×4
-// grid takes over 2 µs (best of three timings of 5,000 decisions, so that a
-// busy machine does not fail it; not checked under -race).
+// TestDecisionsDoNotAllocate fails if a routing decision of any kind, well
+// into a run, allocates (house rule: the hot loop allocates nothing). Speed
+// is measured by BenchmarkDecision, not asserted here.
 func TestDecisionsDoNotAllocate(t *testing.T) {
 	for _, p := range benchParams() {
 		var allocs float64
-		best := time.Duration(math.MaxInt64)
 		hookRun(t, agenttest.Grid(4, 4), p, false, 10000, func(call func()) {
 			allocs = testing.AllocsPerRun(500, call)
-			for try := 0; try < 3; try++ {
-				start := time.Now()
-				for i := 0; i < 5000; i++ {
-					call()
-				}
-				best = min(best, time.Since(start)/5000)
-			}
 		})
-		t.Logf("%s: %d ns/decision, %.0f allocs/decision", p.Canonical(), best.Nanoseconds(), allocs)
 		if allocs != 0 {
 			t.Errorf("%s: %.1f allocations per decision, want 0", p.Canonical(), allocs)
-		}
-		if p.Kind == agents.QNetworkKind && !raceEnabled && best > 2*time.Microsecond {
-			t.Errorf("%s: %v per decision, want at most 2µs", p.Canonical(), best)
 		}
 	}
 }
