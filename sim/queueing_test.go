@@ -335,7 +335,9 @@ func TestZeroLoadDeliveryExact(t *testing.T) {
 
 // Normalised load: under hop-count routing the busiest channel carries
 // exactly load × bandwidth (by construction), and its measured utilisation
-// equals the load within the CI.
+// equals the load within the CI, at 1.0 too (with unbounded buffers the
+// saturated queue idles only while it first fills: a deficit of order
+// 1/√(packets served), well inside the interval at these run lengths).
 func TestNormalisedLoad(t *testing.T) {
 	g := &sim.Graph{Name: "grid3"}
 	for i := 0; i < 9; i++ {
@@ -365,7 +367,7 @@ func TestNormalisedLoad(t *testing.T) {
 	if math.Abs(top-1) > 1e-12 {
 		t.Fatalf("busiest channel at load 1.0 offered %.15f of capacity, want exactly 1", top)
 	}
-	for _, load := range []float64{0.5, 0.9} {
+	for _, load := range []float64{0.5, 0.9, 1.0} {
 		rates := make([][]float64, len(m))
 		for s := range m {
 			rates[s] = make([]float64, len(m[s]))
