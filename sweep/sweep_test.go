@@ -294,7 +294,7 @@ func ExampleWriteSummary() {
 	}
 	WriteSummary(os.Stdout, rows)
 	// Output:
-	// topology  agent          load  failure  reps  delivery mean ms  delivery p95 ms  loss %           throughput Mbit/s
-	// ring      shortest-path  0.5   none     5     8.22 ± 0.05       157 ± 59         0.0402 ± 0.0238  19.4 ± 0.1
-	// ring      q-routing      0.5   none     1     -                 -                -                0.00
+	// topology  agent          load  failure  reps  delivery mean ms  delivery p95 ms  loss %          throughput Mbit/s
+	// ring      shortest-path  0.5   none     5     8.22 ± 0.046      157 ± 59         0.0402 ± 0.024  19.4 ± 0.11
+	// ring      q-routing      0.5   none     1     -                 -                -               0.00
 }

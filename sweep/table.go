@@ -30,22 +30,32 @@ func WriteSummary(w io.Writer, rows []results.SummaryRow) error {
 	return tw.Flush()
 }
 
-// pm formats mean ± half-width, both scaled, to three significant digits of
-// the mean.
+// pm formats mean ± half-width, both scaled: the mean to three significant
+// digits, the half-width to two.
 func pm(mean, half *float64, scale float64) string {
 	if mean == nil {
 		return "-"
 	}
-	s, dec := sig3(*mean * scale)
+	s, _ := sig3(*mean * scale)
 	if half != nil {
-		h := *half * scale
-		if dec >= 0 {
-			s += " ± " + strconv.FormatFloat(h, 'f', dec, 64)
-		} else {
-			s += " ± " + strconv.FormatFloat(h, 'e', 1, 64)
-		}
+		s += " ± " + sig2(*half*scale)
 	}
 	return s
+}
+
+// sig2 formats a half-width with two significant digits, so that a small
+// interval beside a large mean does not print as ± 0.
+func sig2(v float64) string {
+	a := math.Abs(v)
+	switch {
+	case a == 0:
+		return "0"
+	case a >= 1e6 || a < 1e-3:
+		return strconv.FormatFloat(v, 'e', 1, 64)
+	case a >= 10:
+		return strconv.FormatFloat(math.Round(v), 'f', 0, 64)
+	}
+	return strconv.FormatFloat(v, 'f', 1-int(math.Floor(math.Log10(a))), 64)
 }
 
 // sig3 formats v with three significant digits, without an exponent for
