@@ -5,14 +5,14 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"slices"
 	"strings"
 	"text/tabwriter"
 
 	"github.com/parquet-go/parquet-go"
 	"github.com/parquet-go/parquet-go/compress/zstd"
+
+	"hoplore/internal/atomicfile"
 )
 
 // CompareMetrics are the runs.parquet columns Compare tests, in order.
@@ -166,30 +166,9 @@ func WriteComparisons(path string, rows []Comparison) error {
 
 // atomicWrite writes a file through fill into a temporary file beside path
 // and renames it into place; on any error nothing is left behind.
-func atomicWrite(path string, fill func(io.Writer) error) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	if err = fill(f); err != nil {
-		return fmt.Errorf("report: %s: %w", path, err)
-	}
-	if err = f.Sync(); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	if err = f.Close(); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	if err = os.Chmod(f.Name(), 0o644); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	if err = os.Rename(f.Name(), path); err != nil {
+
+func atomicWrite(path string, fill func(io.Writer) error) error {
+	if err := atomicfile.Write(path, 0o644, fill); err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
 	return nil

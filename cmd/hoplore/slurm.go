@@ -11,6 +11,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hoplore/experiments"
+	"hoplore/internal/atomicfile"
 	"hoplore/results"
 	"hoplore/sweep"
 )
@@ -133,7 +134,7 @@ func runSlurm(d *deps, arg string, o *slurmOptions) error {
 	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return fmt.Errorf("slurm: %w", err)
 	}
-	if err := writeAtomic(path, []byte(text), 0o755); err != nil {
+	if err := atomicfile.WriteBytes(path, []byte(text), 0o755); err != nil {
 		return fmt.Errorf("slurm: %w", err)
 	}
 
@@ -159,27 +160,3 @@ func runSlurm(d *deps, arg string, o *slurmOptions) error {
 }
 
 // writeAtomic writes data to path through a temporary file and a rename.
-func writeAtomic(path string, data []byte, perm os.FileMode) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(tmp, perm)
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-	}
-	return err
-}
