@@ -26,6 +26,12 @@ var Kinds = []string{ShortestPathKind, CentralAdaptiveKind, CentralQKind, QRouti
 type Consensus struct {
 	Every  sim.Time // interval between rounds, > 0
 	Weight float64  // blend weight in (0, 1]; networks use Metropolis weights scaled by it
+	// SplitHorizon (tabular only): a node tells each neighbour y its best
+	// value over the other neighbours, min_{z≠y} Q(d,z), so that a neighbour
+	// is never offered a route that runs back through itself (the
+	// distance-vector loop; split horizon is common practice in routing
+	// protocols). Off by default, which is V_y(d) = min_z Q_y(d,z).
+	SplitHorizon bool
 }
 
 // Params are an agent's settings as written in an experiment file, with
@@ -272,7 +278,11 @@ func (p *Params) Canonical() string {
 			}
 		case "consensus":
 			if p.Consensus != nil {
-				add(field, dur(p.Consensus.Every)+"/"+f(p.Consensus.Weight))
+				v := dur(p.Consensus.Every) + "/" + f(p.Consensus.Weight)
+				if p.Consensus.SplitHorizon {
+					v += "/split-horizon"
+				}
+				add(field, v)
 			}
 		case "hidden":
 			if !slices.Equal(p.Hidden, d.Hidden) {

@@ -466,13 +466,17 @@ func (r *qrNode) Timer(tag int) {
 	if tag != tagConsensus || r.cons == nil {
 		return
 	}
-	vec := make([]float64, r.s.n) // shared by this round's messages; receivers only read it
-	for d := range vec {
-		vec[d], _ = r.value(d)
-	}
-	for _, c := range r.out {
-		if r.v.Up(c) {
-			r.v.Send(c, sim.Message{Type: msgValues, Vec: vec, Bytes: ValuesMessageBytes(r.s.n)})
+	if r.s.p.Consensus.SplitHorizon {
+		r.sendSplitHorizon()
+	} else {
+		vec := make([]float64, r.s.n) // shared by this round's messages; receivers only read it
+		for d := range vec {
+			vec[d], _ = r.value(d)
+		}
+		for _, c := range r.out {
+			if r.v.Up(c) {
+				r.v.Send(c, sim.Message{Type: msgValues, Vec: vec, Bytes: ValuesMessageBytes(r.s.n)})
+			}
 		}
 	}
 	r.v.After(r.cons.every, tagConsensus)
@@ -499,5 +503,52 @@ func (r *qrNode) blend(k int, vals []float64) {
 		if r.s.variant == variantPredictive {
 			r.b[i] = math.Min(r.b[i], r.q[i])
 		}
+	}
+}
+
+// sendSplitHorizon sends each neighbour y the values min_{z≠y} Q_x(d,z)
+// (the node's processing time added, 0 for d = x, qCap when y is the only
+// usable neighbour): one vector per neighbour, from the best and second-best
+// entries of every row.
+func (r *qrNode) sendSplitHorizon() {
+	n := r.s.n
+	best := make([]float64, n)
+	second := make([]float64, n)
+	arg := make([]int, n)
+	for d := 0; d < n; d++ {
+		best[d], second[d], arg[d] = r.s.qCap, r.s.qCap, -1
+		if d == r.id {
+			best[d], second[d] = 0, 0
+			continue
+		}
+		for k, c := range r.out {
+			if !r.v.Up(c) {
+				continue
+			}
+			q := r.q[d*r.deg+k]
+			if q < best[d] {
+				second[d] = best[d]
+				best[d], arg[d] = q, k
+			} else if q < second[d] {
+				second[d] = q
+			}
+		}
+	}
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		vec := make([]float64, n) // owned by the receiver
+		for d := 0; d < n; d++ {
+			v := best[d]
+			if arg[d] == k {
+				v = second[d]
+			}
+			if d != r.id {
+				v = math.Min(r.proc+v, r.s.qCap)
+			}
+			vec[d] = v
+		}
+		r.v.Send(c, sim.Message{Type: msgValues, Vec: vec, Bytes: ValuesMessageBytes(n)})
 	}
 }

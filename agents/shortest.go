@@ -77,33 +77,44 @@ func (r *spRouter) recompute() {
 	sim.ShortestFrom(net, r.v.ID(), r.w, &r.tree)
 }
 
-// Route implements sim.Router.
+// Route implements sim.Router: the lowest-index first hop the node believes
+// up, or with ECMP the one picked by the flow hash among the equal-cost first
+// hops (the next ones in order, wrapping around, if it is known to be down).
+// Cost: O(degree/64) plus the hops skipped.
 func (r *spRouter) Route(p *sim.Packet) int {
-	mask := r.tree.First[p.Dst]
+	set := r.tree.FirstHops(p.Dst)
 	out := r.v.Out()
-	for mask != 0 {
-		var i int
-		if r.a.p.ECMP {
-			n := bits.OnesCount64(mask)
-			k := int(sim.Mix(uint64(p.Flow), uint64(r.v.ID())) % uint64(n))
-			i = nthBit(mask, k)
-		} else {
-			i = bits.TrailingZeros64(mask)
+	start := 0
+	if r.a.p.ECMP {
+		n := 0
+		for _, w := range set {
+			n += bits.OnesCount64(w)
 		}
-		c := out[i]
-		if r.v.Up(c) {
-			return c
+		if n == 0 {
+			return sim.NoRoute
 		}
-		mask &^= 1 << uint(i)
+		start = int(sim.Mix(uint64(p.Flow), uint64(r.v.ID())) % uint64(n))
+	}
+	// the set bits from the start-th to the last, then from the first
+	for pass := 0; pass < 2; pass++ {
+		idx := 0
+		for k, w := range set {
+			for ; w != 0; w &= w - 1 {
+				take := (pass == 0) == (idx >= start)
+				idx++
+				if !take {
+					continue
+				}
+				if c := out[k*64+bits.TrailingZeros64(w)]; r.v.Up(c) {
+					return c
+				}
+			}
+		}
+		if start == 0 {
+			break
+		}
 	}
 	return sim.NoRoute
-}
-
-func nthBit(m uint64, k int) int {
-	for ; k > 0; k-- {
-		m &= m - 1
-	}
-	return bits.TrailingZeros64(m)
 }
 
 // LinkChanged implements sim.LinkStater: record the news and recompute after SPFDelay.

@@ -57,7 +57,8 @@
 //	agents       required list; each entry is KIND or {kind: KIND, label: TEXT, FIELD: value ...}
 //	             with the fields of that kind only (agents.Fields); the others are errors.
 //	             Unset fields take agents.Defaults(kind). consensus is {every: DURATION
-//	             (required), weight: W (default 0.5)}. Two entries with the same label
+//	             (required), weight: W (default 0.5), split_horizon: true|false (q-routing
+//	             only, default false)}. Two entries with the same label
 //	             (explicit or canonical) are an error
 //	failures     default [none]; each entry is none or a mapping:
 //	  name         required, distinct, not "none"

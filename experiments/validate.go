@@ -554,6 +554,12 @@ func (c *checker) agent(i int, a *agentYAML) (agents.Params, error) {
 		}
 		where["consensus.every"] = cs.Every.Pos
 		p.Consensus = &agents.Consensus{Every: sim.Time(cs.Every.D), Weight: w}
+		if cs.SplitHorizon != nil {
+			if p.Kind != agents.QRoutingKind {
+				return agents.Params{}, c.errf(cs.Pos, "agents[%d].consensus.split_horizon: applies to q-routing only (q-network consensus averages parameters)", i)
+			}
+			p.Consensus.SplitHorizon = *cs.SplitHorizon
+		}
 	}
 	if f.Hidden.Set {
 		p.Hidden = nil

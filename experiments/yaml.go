@@ -379,6 +379,8 @@ type consensusYAML struct {
 	Set    bool           `yaml:"-"`
 	Every  yamlx.Duration `yaml:"every"`
 	Weight yamlx.Float    `yaml:"weight"`
+	// SplitHorizon: see agents.Consensus.
+	SplitHorizon *bool `yaml:"split_horizon"`
 }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.

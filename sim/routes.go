@@ -1,18 +1,26 @@
 package sim
 
-import "math"
+import (
+	"math"
+	"math/bits"
+)
 
 // PathTree is the result of a deterministic Dijkstra from one source node:
 // the cost to every node and, for every destination, the set of first-hop
-// channels (as bits over the source's Out order) that start a cheapest path.
-// Costs within a relative 1e-9 count as equal.
+// channels (as a bitset over the source's Out order, any degree) that start
+// a cheapest path. Costs within a relative 1e-9 count as equal.
 type PathTree struct {
 	Dist  []float64 // +Inf when unreachable
-	First []uint64  // bit i set: Out[src][i] starts a cheapest path (nodes of degree ≤ 64)
+	words int       // bitset words per destination
+	first []uint64  // destination d's bitset is first[d*words : (d+1)*words]
 	order []int
 	done  []bool
 	heap  []distItem
 }
+
+// FirstHops returns the bitset of first hops towards d: bit i of word i/64
+// set means Out[src][i] starts a cheapest path. The slice is shared.
+func (t *PathTree) FirstHops(d int) []uint64 { return t.first[d*t.words : (d+1)*t.words] }
 
 // equalCost reports whether a and b are equal within the tie tolerance.
 func equalCost(a, b float64) bool {
@@ -25,15 +33,17 @@ func equalCost(a, b float64) bool {
 // is sized.
 func ShortestFrom(n *Net, src int, w []float64, t *PathTree) {
 	N := n.NumNodes()
-	if len(t.Dist) != N {
+	W := max(1, (len(n.Out[src])+63)/64)
+	if len(t.Dist) != N || t.words != W {
 		t.Dist = make([]float64, N)
-		t.First = make([]uint64, N)
+		t.words = W
+		t.first = make([]uint64, N*W)
 		t.done = make([]bool, N)
 		t.order = make([]int, 0, N)
 	}
+	clear(t.first)
 	for i := 0; i < N; i++ {
 		t.Dist[i] = math.Inf(1)
-		t.First[i] = 0
 		t.done[i] = false
 	}
 	t.order = t.order[:0]
@@ -59,21 +69,22 @@ func ShortestFrom(n *Net, src int, w []float64, t *PathTree) {
 				continue
 			}
 			nd := best + wc
-			var bits uint64
-			if u == src {
-				if i < 64 {
-					bits = 1 << uint(i)
-				}
-			} else {
-				bits = t.First[u]
-			}
+			fv := t.first[v*W : (v+1)*W]
 			switch {
 			case math.IsInf(t.Dist[v], 1) || (nd < t.Dist[v] && !equalCost(nd, t.Dist[v])):
 				t.Dist[v] = nd
-				t.First[v] = bits
+				clear(fv)
 				t.push(distItem{nd, v})
 			case equalCost(nd, t.Dist[v]):
-				t.First[v] |= bits
+			default:
+				continue
+			}
+			if u == src {
+				fv[i/64] |= 1 << uint(i%64)
+			} else {
+				for k, b := range t.first[u*W : (u+1)*W] {
+					fv[k] |= b
+				}
 			}
 		}
 	}
@@ -137,13 +148,12 @@ func distLess(a, b distItem) bool {
 // NextHop returns the lowest-index first-hop channel from src towards d in
 // tree t, or NoRoute.
 func (t *PathTree) NextHop(n *Net, src, d int) int {
-	b := t.First[d]
-	if b == 0 || src == d {
+	if src == d {
 		return NoRoute
 	}
-	for i := 0; i < len(n.Out[src]) && i < 64; i++ {
-		if b&(1<<uint(i)) != 0 {
-			return n.Out[src][i]
+	for k, b := range t.FirstHops(d) {
+		if b != 0 {
+			return n.Out[src][k*64+bits.TrailingZeros64(b)]
 		}
 	}
 	return NoRoute
