@@ -31,3 +31,13 @@ agents:
 		t.Errorf("q-network with split horizon: error %v", err)
 	}
 }
+
+// A topology file given where an experiment is expected gets a message that
+// says so and how to use it.
+func TestTopologyFileGivenAsExperiment(t *testing.T) {
+	doc := "name: t\nnodes: [a, b]\nlinks:\n  - {a: a, b: b}\n"
+	_, err := Parse("dir/t.yaml", []byte(doc))
+	if err == nil || !strings.HasPrefix(err.Error(), "dir/t.yaml:1:1: this is a topology file") || !strings.Contains(err.Error(), "{file: t.yaml}") {
+		t.Errorf("error %v", err)
+	}
+}

@@ -6,7 +6,10 @@ import (
 	"encoding/hex"
 	"fmt"
 	"os"
+	"path/filepath"
 	"sync"
+
+	"github.com/goccy/go-yaml"
 
 	"hoplore/agents"
 	"hoplore/internal/yamlx"
@@ -161,6 +164,10 @@ func parse(path string, data []byte, files fileSource) (e *Experiment, err error
 	}()
 	var raw fileYAML
 	if err := yamlx.Decode(path, data, &raw); err != nil {
+		if looksLikeTopology(data) {
+			return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "this is a topology file (it has nodes and links), not an experiment: "+
+				"name it in an experiment as topologies: [{file: %s}], or see it with hoplore topologies show %s", filepath.Base(path), path)
+		}
 		return nil, err
 	}
 	c := &checker{file: path, files: files, raw: &raw}
@@ -194,3 +201,17 @@ func (e *ReadError) Unwrap() error { return e.Err }
 
 // InputError marks the error as bad input for the command line.
 func (e *ReadError) InputError() bool { return true }
+
+// looksLikeTopology reports whether data is a YAML mapping with top-level
+// nodes and links and no agents: a topology file given where an experiment
+// was expected.
+func looksLikeTopology(data []byte) bool {
+	var top map[string]any
+	if err := yaml.Unmarshal(data, &top); err != nil {
+		return false
+	}
+	_, nodes := top["nodes"]
+	_, links := top["links"]
+	_, agents := top["agents"]
+	return nodes && links && !agents
+}
