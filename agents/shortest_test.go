@@ -48,10 +48,16 @@ func TestShortestDistancesMatchGonum(t *testing.T) {
 }
 
 // Following next hops from any source reaches the destination in exactly
-// the shortest hop count, with and without ECMP (loop-free, shortest).
+// the shortest hop count, with and without ECMP (loop-free, shortest). The
+// leaf-spine with 80 leaves gives each spine 80 neighbours: nodes of degree
+// above 64 must route through every neighbour too.
 func TestShortestPathNextHopsFollowShortestPaths(t *testing.T) {
-	for _, name := range []string{"grid", "fat-tree", "two-region"} {
-		g, err := topologies.Generate(name, nil)
+	for _, c := range []struct {
+		name   string
+		params map[string]float64
+	}{{"grid", nil}, {"fat-tree", nil}, {"two-region", nil}, {"leaf-spine", map[string]float64{"spines": 2, "leaves": 80, "hosts": 0}}} {
+		name := c.name
+		g, err := topologies.Generate(name, c.params)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -154,33 +160,4 @@ func scaled(m [][]float64, f float64) [][]float64 {
 		}
 	}
 	return m
-}
-
-// Nodes of degree above 64 route through every neighbour: a leaf-spine with
-// 80 leaves gives each spine 80 neighbours, and leaf-to-leaf traffic must
-// pass a spine towards leaves of any index, with and without ECMP.
-func TestShortestPathHighDegree(t *testing.T) {
-	g, err := topologies.Generate("leaf-spine", map[string]float64{"spines": 2, "leaves": 80, "hosts": 0})
-	if err != nil {
-		t.Fatal(err)
-	}
-	net := sim.Compile(g)
-	for _, ecmp := range []bool{false, true} {
-		p := agents.Defaults(agents.ShortestPathKind)
-		p.ECMP = ecmp
-		a, err := agents.New(p, net)
-		if err != nil {
-			t.Fatal(err)
-		}
-		cfg := &sim.Config{Net: net, Agent: a, Seed: 3, Duration: 20 * sim.Second, Warmup: sim.Second, Bin: sim.Second,
-			Traffic: sim.Traffic{Rates: scaled(sim.UniformMatrix(net), 0.01), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 200}}}
-		r, err := sim.Run(cfg)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if r.Delivered == 0 || r.DroppedTotal() != 0 || math.Abs(r.StretchSum/float64(r.Delivered)-1) > 1e-12 {
-			t.Errorf("ecmp=%v: delivered %d, dropped %v, mean stretch %g; want all delivered on shortest paths",
-				ecmp, r.Delivered, r.Dropped, r.StretchSum/float64(r.Delivered))
-		}
-	}
 }
