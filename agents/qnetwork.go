@@ -38,7 +38,8 @@ const (
 // averaged meaningfully (consensus).
 //
 // Decision: argmin over usable channels of Q_x(d,·), ties to the lowest Out
-// index, ε-exploration with Explore. The first layer is evaluated sparsely
+// index, ε-exploration with Explore; route changes are counted on the greedy
+// decisions (see prefs). The first layer is evaluated sparsely
 // (five non-zero inputs), so a decision costs O(degree·Σ layer products) and
 // allocates nothing.
 //
@@ -155,6 +156,7 @@ type qnNode struct {
 	updates int
 
 	cons *consensusState
+	pref prefs
 }
 
 func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
@@ -173,6 +175,7 @@ func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
 		r.deltas = append(r.deltas, make([]float64, s.sizes[l]))
 	}
 	r.common = make([]float64, s.sizes[1])
+	r.pref = newPrefs(s.n)
 	R := s.p.Replay
 	r.rd, r.rk, r.rq, r.rt = make([]int32, R), make([]int16, R), make([]float64, R), make([]float64, R)
 	if s.p.Consensus != nil {
@@ -306,6 +309,7 @@ func (r *qnNode) Route(p *sim.Packet) int {
 				best, bestV, bestQF = k, val, qf
 			}
 		}
+		r.pref.saw(r.v, d, best)
 	}
 	if best < 0 {
 		return sim.NoRoute

@@ -51,7 +51,8 @@ func init() { builders[QRoutingKind] = newQRouting }
 //
 // Decision: argmin over channels the node believes up (NodeView.Up) of
 // Q_x(d,·), lowest Out index on ties; with probability Explore a uniformly
-// random usable channel instead.
+// random usable channel instead. Route changes are counted on the greedy
+// decisions (see prefs).
 //
 // Update: when y receives the packet from x it returns
 // t = V_y(d) = min_z Q_y(d,z) over its usable channels, plus y's processing
@@ -197,6 +198,7 @@ type qrNode struct {
 
 	proc float64 // this node's processing delay, seconds
 	cons *consensusState
+	pref prefs
 }
 
 func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
@@ -204,6 +206,7 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	r := &qrNode{s: s, v: v, id: v.ID(), out: out, deg: len(out), net: v.Net()}
 	r.proc = r.net.Graph.Nodes[r.id].Processing.Seconds()
 	r.q = make([]float64, s.n*r.deg)
+	r.pref = newPrefs(s.n)
 	switch s.variant {
 	case variantPredictive:
 		r.b = make([]float64, len(r.q))
@@ -284,6 +287,7 @@ func (r *qrNode) Route(p *sim.Packet) int {
 				best, bestV = k, val
 			}
 		}
+		r.pref.saw(r.v, d, best)
 	}
 	if best < 0 {
 		return sim.NoRoute

@@ -3,6 +3,7 @@ package agents
 import (
 	"math"
 	"math/bits"
+	"slices"
 
 	"hoplore/sim"
 )
@@ -14,6 +15,8 @@ import (
 // or, with ECMP, are split by a hash of the packet's flow label and the node.
 // A next hop the node knows to be down is never used: the packet takes
 // another equal-cost next hop or is dropped (no_route) until the recompute.
+// Each recompute counts as route changes the destinations whose next hop
+// (with ECMP: set of next hops) changed.
 type ShortestPath struct {
 	p    Params
 	net  *sim.Net
@@ -46,7 +49,7 @@ func (a *ShortestPath) Node(v *sim.NodeView) sim.Router {
 	for i := range r.linkUp {
 		r.linkUp[i] = true
 	}
-	r.recompute()
+	sim.ShortestFrom(a.net, v.ID(), r.weights(), &r.tree)
 	return r
 }
 
@@ -57,6 +60,7 @@ type spRouter struct {
 	w       []float64
 	tree    sim.PathTree
 	pending bool
+	prev    []uint64 // first-hop sets before a recompute, destination-major
 }
 
 var (
@@ -65,7 +69,9 @@ var (
 	_ sim.Timed      = (*spRouter)(nil)
 )
 
-func (r *spRouter) recompute() {
+// weights returns the metric weights with the links the node believes down
+// at +Inf.
+func (r *spRouter) weights() []float64 {
 	net := r.a.net
 	for c := range r.w {
 		if r.linkUp[net.Channels[c].Link] {
@@ -74,7 +80,38 @@ func (r *spRouter) recompute() {
 			r.w[c] = math.Inf(1)
 		}
 	}
-	sim.ShortestFrom(net, r.v.ID(), r.w, &r.tree)
+	return r.w
+}
+
+// recompute runs Dijkstra on the node's current view and reports as route
+// changes the destinations whose next hop changed: without ECMP the primary
+// next hop (lowest-index first hop), with ECMP the set of first hops.
+func (r *spRouter) recompute() {
+	n := r.a.net.NumNodes()
+	words := len(r.tree.FirstHops(0))
+	r.prev = r.prev[:0]
+	for d := 0; d < n; d++ {
+		r.prev = append(r.prev, r.tree.FirstHops(d)...)
+	}
+	sim.ShortestFrom(r.a.net, r.v.ID(), r.weights(), &r.tree)
+	changes := 0
+	for d := 0; d < n; d++ {
+		old, cur := r.prev[d*words:(d+1)*words], r.tree.FirstHops(d)
+		if r.a.p.ECMP && !slices.Equal(old, cur) || !r.a.p.ECMP && lowestBit(old) != lowestBit(cur) {
+			changes++
+		}
+	}
+	r.v.CountRouteChanges(changes)
+}
+
+// lowestBit returns the index of the lowest set bit of a bitset, or −1.
+func lowestBit(set []uint64) int {
+	for k, w := range set {
+		if w != 0 {
+			return k*64 + bits.TrailingZeros64(w)
+		}
+	}
+	return -1
 }
 
 // Route implements sim.Router: the lowest-index first hop the node believes

@@ -78,6 +78,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 			DeliveryMeanS: ratio(b.DelaySum, b.Delivered),
 			DeliveryP95S:  quantile(b.Delivery, 0.95),
 			UtilMax:       b.UtilMax,
+			RouteChanges:  b.RouteChanges,
 		}
 	}
 

@@ -75,7 +75,7 @@ type RunRow struct {
 	ControlPackets int64 `parquet:"control_packets"`
 	ControlBytes   int64 `parquet:"control_bytes"`
 	ControlDropped int64 `parquet:"control_dropped"`
-	RouteChanges   int64 `parquet:"route_changes"` // next-hop changes pushed by a central agent; 0 for others
+	RouteChanges   int64 `parquet:"route_changes"` // route changes after the warm-up; meaning per agent kind in the README
 	FailureEvents  int   `parquet:"failure_events"`
 	Events         int64 `parquet:"events"`
 	// WallS is the run's wall-clock time in seconds: the one column that
@@ -100,6 +100,7 @@ type SeriesRow struct {
 	DeliveryMeanS *float64 `parquet:"delivery_mean_s,optional"`
 	DeliveryP95S  *float64 `parquet:"delivery_p95_s,optional"`
 	UtilMax       float64  `parquet:"util_max"`
+	RouteChanges  int64    `parquet:"route_changes"` // route changes the agent made within the bin
 }
 
 // LinkRow is one row of links.parquet: one directed channel of one run, over

@@ -423,6 +423,18 @@ func (e *engine) generate(s int) {
 	e.forward(s, id)
 }
 
+// countRouteChanges adds n route changes at the current time: to the bin of
+// now, and to the run's total when now is past the warm-up.
+func (e *engine) countRouteChanges(n int) {
+	if n == 0 {
+		return
+	}
+	e.res.Series[e.binOf(e.now)].RouteChanges += int64(n)
+	if e.now >= e.cfg.Warmup {
+		e.res.RouteChanges += int64(n)
+	}
+}
+
 func (e *engine) binOf(t Time) int32 {
 	return int32(min(int(t/e.bin), e.nbins-1))
 }

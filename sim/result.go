@@ -37,7 +37,10 @@ type Result struct {
 	ControlPackets int64 // control packets sent (in-band)
 	ControlBytes   int64
 	ControlDropped int64
-	RouteChanges   int64 // next-hop changes pushed by a central agent
+	// RouteChanges counts the route changes the agent reported at or after
+	// the warm-up (NodeView.CountRouteChanges, ControlView.CountRouteChanges);
+	// what one change means is the agent kind's.
+	RouteChanges int64
 
 	Events int64 // events processed
 
@@ -75,6 +78,9 @@ type Bin struct {
 	DelaySum   float64 // seconds, over Delivered
 	Delivery   *Histogram
 	UtilMax    float64 // busiest channel's utilisation within the bin
+	// RouteChanges counts the route changes the agent reported while the
+	// clock was within the bin (warm-up included).
+	RouteChanges int64
 }
 
 // DeliveryMean returns the bin's mean delivery time in seconds, or NaN.

@@ -78,6 +78,10 @@ func (v *NodeView) Tell(c int, m Message) {
 // After arranges for the router's Timer(tag) to be called after d.
 func (v *NodeView) After(d Time, tag int) { v.e.schedTimer(d, v.node, tag) }
 
+// CountRouteChanges reports n route changes made now at this node (see
+// Result.RouteChanges). Cost: O(1), no allocation.
+func (v *NodeView) CountRouteChanges(n int) { v.e.countRouteChanges(n) }
+
 // ControlView is a central agent's window: the static topology, timers,
 // and telemetry snapshots that arrive ControlDelay after being taken.
 type ControlView struct {
@@ -106,8 +110,9 @@ func (v *ControlView) After(d Time, tag int) { v.e.schedTimer(d, -1, tag) }
 // ControlDelay later.
 func (v *ControlView) Request() { v.e.requestSnapshot() }
 
-// CountRouteChanges adds n to the run's route_changes counter.
-func (v *ControlView) CountRouteChanges(n int) { v.e.res.RouteChanges += int64(n) }
+// CountRouteChanges reports n route changes made now by the controller (see
+// Result.RouteChanges).
+func (v *ControlView) CountRouteChanges(n int) { v.e.countRouteChanges(n) }
 
 // Snapshot is global telemetry at one instant. Cumulative counters run from
 // the start of the run; take differences between snapshots for rates.
