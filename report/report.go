@@ -38,6 +38,10 @@ type Options struct {
 	EmbedFonts bool
 	// DPI of the PNG files (default 144).
 	DPI float64
+	// ExpectedRuns is the number of runs of the whole experiment (from the
+	// folder's manifest, see results.CheckTables); when the tables hold
+	// fewer, the page says how many are missing. 0: unknown.
+	ExpectedRuns int
 }
 
 func (o Options) withDefaults(dir string) Options {
@@ -93,6 +97,10 @@ func Build(d *Data, o Options) (*Report, error) {
 			"Share of the packets generated in the measured window that were dropped (any reason)."},
 	} {
 		r.charts = append(r.charts, loadChart(m.id, m.title, m.caption, LoadCurves(d, m.metric), agents, m.metric))
+	}
+	if o.ExpectedRuns > len(d.Runs) {
+		r.Notes = append(r.Notes, fmt.Sprintf("Incomplete: the tables hold %d of the experiment's %d runs (%d missing: a shard not merged, or a sweep not finished). Means and intervals cover the runs present only.",
+			len(d.Runs), o.ExpectedRuns, o.ExpectedRuns-len(d.Runs)))
 	}
 	// failure events
 	if len(d.Recoveries) > 0 {

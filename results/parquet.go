@@ -19,6 +19,10 @@ type Meta struct {
 	Version        string `json:"version"`         // tool version that wrote the files
 	Experiment     string `json:"experiment"`      // experiment name
 	ExperimentHash string `json:"experiment_hash"` // hash of the experiment's canonical form
+	// Runs is the number of runs of the whole experiment (all shards), so
+	// that a merge or a report can tell when some are missing; 0 when
+	// unknown. It is kept in the folder's marker, not in the tables.
+	Runs int `json:"runs,omitempty"`
 }
 
 // Parquet key-value metadata keys.

@@ -251,7 +251,10 @@ func Finalize(dir string, order []string, meta Meta) error {
 		}
 	}
 	streams = nil
-	return commit(ps)
+	return commitTables(dir, ps, Manifest{
+		Experiment: meta.Experiment, ExperimentHash: meta.ExperimentHash,
+		Runs: len(runs), ExpectedRuns: meta.Runs,
+	})
 }
 
 // partOrder returns the ids of every part in DIR ordered by run_index, then

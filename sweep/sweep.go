@@ -76,7 +76,7 @@ func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Out
 	for i, r := range runs {
 		units[i] = &expUnit{r: r, version: opts.Version}
 	}
-	meta := results.Meta{Version: opts.Version, Experiment: e.Name, ExperimentHash: e.Hash}
+	meta := results.Meta{Version: opts.Version, Experiment: e.Name, ExperimentHash: e.Hash, Runs: len(runs)}
 	return executeTables(ctx, meta, units, opts)
 }
 

@@ -7,6 +7,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hoplore/report"
+	"hoplore/results"
 )
 
 type compareOptions struct {
@@ -52,6 +53,18 @@ func completeDirs(_ *cobra.Command, args []string, _ string) ([]string, cobra.Sh
 // runCompare compares o.a with o.b in o.dir, prints the table and writes
 // the Parquet file.
 func runCompare(d *deps, o *compareOptions) error {
+	lock, err := lockOut(o.dir, "compare", false)
+	if err != nil {
+		return err
+	}
+	defer lock.Unlock()
+	m, err := results.CheckTables(o.dir)
+	if err != nil {
+		return fmt.Errorf("compare: %w", err)
+	}
+	if m.Missing() > 0 {
+		fmt.Fprintf(d.stderr, "hoplore: compare: warning: %s holds %d of the experiment's %d runs (%d missing)\n", o.dir, m.Runs, m.ExpectedRuns, m.Missing())
+	}
 	data, err := report.Load(o.dir)
 	if err != nil {
 		return err

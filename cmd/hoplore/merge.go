@@ -60,7 +60,12 @@ func runMerge(d *deps, out string, dirs []string, quiet bool) error {
 	if len(full) == 0 {
 		return badInput(fmt.Errorf("merge: the folders hold no finished run"))
 	}
-	err := results.Merge(out, full)
+	lock, err := lockOut(out, "merge", true)
+	if err != nil {
+		return err
+	}
+	defer lock.Unlock()
+	err = results.Merge(out, full)
 	if errors.Is(err, results.ErrOtherExperiment) {
 		return badInput(fmt.Errorf("merge: %w", err))
 	}

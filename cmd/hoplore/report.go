@@ -8,6 +8,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hoplore/report"
+	"hoplore/results"
 )
 
 type reportOptions struct {
@@ -53,6 +54,13 @@ func newReportCmd(d *deps) *cobra.Command {
 	return cmd
 }
 
+// Bounds of --dpi: below 10 a chart is unreadable; above 1200 a PNG of a
+// full-width chart passes 100 megapixels.
+const (
+	minDPI = 10
+	maxDPI = 1200
+)
+
 // runReport writes the report of o.dir and prints where it went.
 func runReport(d *deps, o *reportOptions) error {
 	opts := report.Options{Out: o.out, LinkTopology: o.linkTopology, LinkFailure: o.linkFailure,
@@ -70,8 +78,27 @@ func runReport(d *deps, o *reportOptions) error {
 		}
 		*v.dst = &x
 	}
-	if o.dpi <= 0 {
-		return badInput(fmt.Errorf("report: --dpi must be positive, got %g", o.dpi))
+	if !(o.dpi >= minDPI && o.dpi <= maxDPI) { // also refuses NaN
+		return badInput(fmt.Errorf("report: --dpi %g: want %g to %g", o.dpi, float64(minDPI), float64(maxDPI)))
+	}
+	if o.maxEvents < 1 || o.maxEvents > 1000 {
+		return badInput(fmt.Errorf("report: --max-events %d: want 1 to 1000", o.maxEvents))
+	}
+	if o.maxChannels < 1 || o.maxChannels > 10000 {
+		return badInput(fmt.Errorf("report: --max-channels %d: want 1 to 10000", o.maxChannels))
+	}
+	lock, err := lockOut(o.dir, "report", false)
+	if err != nil {
+		return err
+	}
+	defer lock.Unlock()
+	m, err := results.CheckTables(o.dir)
+	if err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	opts.ExpectedRuns = m.ExpectedRuns
+	if m.Missing() > 0 {
+		fmt.Fprintf(d.stderr, "hoplore: report: warning: %s holds %d of the experiment's %d runs (%d missing)\n", o.dir, m.Runs, m.ExpectedRuns, m.Missing())
 	}
 	if err := report.Write(o.dir, opts); err != nil {
 		return err
@@ -80,6 +107,6 @@ func runReport(d *deps, o *reportOptions) error {
 	if out == "" {
 		out = filepath.Join(o.dir, "report")
 	}
-	_, err := fmt.Fprintf(d.stdout, "wrote %s\n", filepath.Join(out, "index.html"))
+	_, err = fmt.Fprintf(d.stdout, "wrote %s\n", filepath.Join(out, "index.html"))
 	return err
 }

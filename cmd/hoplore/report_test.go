@@ -15,6 +15,10 @@ import (
 func writeResults(t *testing.T) string {
 	t.Helper()
 	dir := t.TempDir()
+	meta := results.Meta{Version: "test", Experiment: "square-sweep", ExperimentHash: "h"}
+	if err := results.MarkDir(dir, meta); err != nil {
+		t.Fatal(err)
+	}
 	net := resultstest.Net()
 	cfg := resultstest.Config(net)
 	for _, ag := range []string{"shortest-path", "q-routing"} {
@@ -28,7 +32,7 @@ func writeResults(t *testing.T) string {
 			}
 		}
 	}
-	if err := results.Finalize(dir, nil, results.Meta{Version: "test", Experiment: "square-sweep", ExperimentHash: "h"}); err != nil {
+	if err := results.Finalize(dir, nil, meta); err != nil {
 		t.Fatal(err)
 	}
 	return dir
@@ -54,7 +58,7 @@ func TestReportCommand(t *testing.T) {
 		args []string
 		want string
 	}{
-		{"no folder", []string{"report", filepath.Join(dir, "nothing")}, "runs.parquet"},
+		{"no folder", []string{"report", filepath.Join(dir, "nothing")}, "not a result folder"},
 		{"bad load", []string{"report", dir, "--links-load", "lots"}, "--links-load"},
 		{"unknown cell", []string{"report", dir, "--links-topology", "nowhere", "--out", filepath.Join(dir, "x")}, "nowhere"},
 		{"no argument", []string{"report"}, "accepts 1 arg"},

@@ -52,6 +52,9 @@ hoplore merge. See also hoplore slurm.`,
 			if len(args) == 1 {
 				arg = args[0]
 			}
+			if cmd.Flags().Changed("out") && strings.TrimSpace(o.out) == "" {
+				return badInput(fmt.Errorf("run: --out: empty folder name (leave the flag out for results/<name>)"))
+			}
 			return runRun(d, arg, o)
 		},
 	}
@@ -64,9 +67,12 @@ hoplore merge. See also hoplore slurm.`,
 	return cmd
 }
 
+// maxWorkers bounds --workers: each worker holds one run in memory.
+const maxWorkers = 4096
+
 func runRun(d *deps, arg string, o *runOptions) error {
-	if o.workers < 0 {
-		return badInput(fmt.Errorf("run: --workers %d: want 0 (all cores) or more", o.workers))
+	if o.workers < 0 || o.workers > maxWorkers {
+		return badInput(fmt.Errorf("run: --workers %d: want 0 (all cores) to %d", o.workers, maxWorkers))
 	}
 	e, err := experiments.Resolve(arg)
 	if err != nil {
@@ -86,6 +92,11 @@ func runRun(d *deps, arg string, o *runOptions) error {
 	if out == "" {
 		out = filepath.Join("results", e.Name)
 	}
+	lock, err := lockOut(out, "run", true)
+	if err != nil {
+		return err
+	}
+	defer lock.Unlock()
 	oc, err := sweep.Execute(d.ctx, e, sweep.Options{
 		Out:      out,
 		Workers:  o.workers,
