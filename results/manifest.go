@@ -53,8 +53,8 @@ var ErrTables = errors.New("tables not usable")
 // counts as bad input (exit status 2).
 type TablesError struct{ msg string }
 
-func (e *TablesError) Error() string     { return e.msg }
-func (e *TablesError) Unwrap() error     { return ErrTables }
+func (e *TablesError) Error() string    { return e.msg }
+func (e *TablesError) Unwrap() error    { return ErrTables }
 func (e *TablesError) InputError() bool { return true }
 
 func tablesErrorf(format string, a ...any) error {
