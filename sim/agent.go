@@ -136,4 +136,9 @@ type Packet struct {
 	queuedAt Time
 	epoch    uint32
 	bin      int32
+	at       int32 // node holding the packet: the sender while it is on a channel
+	live     bool  // a data packet in the network
+	// unreachable: at generation or at some topology change while it was in
+	// the network, the destination could not be reached from where it was
+	unreachable bool
 }

@@ -24,6 +24,15 @@
 // *NodeView of its own node; a central agent only through Snapshots that
 // are ControlDelay old. sim imports no other hoplore package.
 //
+// A packet is unreachable when, at its generation or at any topology change
+// while it is in the network, its destination is down or in another
+// partition of the physical topology than the node holding it: no routing
+// could deliver it. Drops of such packets are counted apart
+// (Result.Unreachable, Bin.Unreachable), and every drop after a failure
+// event is attributed to the latest event (Result.Outcomes): reachable
+// routing losses with the time of the last one, unreachable losses, and
+// reachable congestion losses.
+//
 // Every count in a Result covers data packets generated after the warm-up,
 // and Run verifies conservation: generated = delivered + dropped + in
 // flight. Delivery-time percentiles come from a log-bucketed Histogram with

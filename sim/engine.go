@@ -106,6 +106,19 @@ type engine struct {
 	floodDist  []float64
 	floodHeap  []int
 	floodReady bool
+
+	// physical partitions, for classifying unreachable packets
+	comp      []int32 // component label of each node over what is up; −1 when down
+	compStack []int32
+	curFail   int           // index in failures of the event applied last, −1 before any
+	applying  bool          // inside applyFailure: drops wait in pending
+	pending   []pendingDrop // drops caused by the event being applied
+}
+
+type pendingDrop struct {
+	id     int32
+	reason DropReason
+	c      int
 }
 
 func newEngine(cfg *Config) (*engine, error) {
@@ -209,6 +222,13 @@ func newEngine(cfg *Config) (*engine, error) {
 		}
 	}
 	e.res.Failures = e.failures
+	e.res.Outcomes = make([]Outcome, len(e.failures))
+	for k := range e.res.Outcomes {
+		e.res.Outcomes[k].LastReachable = -1
+	}
+	e.curFail = -1
+	e.comp = make([]int32, N)
+	e.components()
 	// agent
 	switch a := cfg.Agent.(type) {
 	case PerNode:
@@ -348,6 +368,7 @@ func (e *engine) release(id int32) {
 	p := &e.pkts[id]
 	p.Route = nil
 	p.Msg.Vec = nil
+	p.live = false
 	e.free = append(e.free, id)
 }
 
@@ -413,7 +434,7 @@ func (e *engine) generate(s int) {
 	p := &e.pkts[id]
 	*p = Packet{id: id, Kind: Data, Src: s, Dst: int(d), Size: size, Born: e.now, Prev: -1,
 		Flow: uint32(Mix(uint64(s)<<32|uint64(d), uint64(flow))), Measured: e.now >= e.cfg.Warmup,
-		bin: e.binOf(e.now)}
+		bin: e.binOf(e.now), at: int32(s), live: true, unreachable: !e.reaches(s, int(d))}
 	b := &e.res.Series[p.bin]
 	b.Generated++
 	if p.Measured {
@@ -478,6 +499,7 @@ func (e *engine) enqueue(c int, id int32) {
 		p.Size = e.drawSize(&e.cfg.Traffic.Size, ch.redraw)
 	}
 	p.queuedAt = e.now
+	p.at = int32(e.net.Channels[c].From)
 	if !ch.busy {
 		e.startTx(c, id)
 		return
@@ -558,6 +580,7 @@ func (e *engine) arrive(c int, id int32, epoch uint32) {
 		return
 	}
 	p.Hops++
+	p.at = int32(to)
 	if p.Kind == Control {
 		if r := e.rcv; r != nil && r[to] != nil {
 			m := p.Msg
@@ -627,12 +650,36 @@ func (e *engine) drop(id int32, reason DropReason, c int) {
 		e.release(id)
 		return
 	}
-	e.res.Series[p.bin].Dropped++
+	if e.applying {
+		// classified once the event's new topology is known
+		e.pending = append(e.pending, pendingDrop{id: id, reason: reason, c: c})
+		return
+	}
+	b := &e.res.Series[p.bin]
+	b.Dropped++
+	if p.unreachable {
+		b.Unreachable++
+	}
 	if e.pairDrop != nil {
 		e.pairDrop[p.Src*len(e.nodes)+p.Dst]++
 	}
+	if e.curFail >= 0 {
+		o := &e.res.Outcomes[e.curFail]
+		switch {
+		case p.unreachable:
+			o.LostUnreachable++
+		case reason == QueueFull:
+			o.LostQueueFull++
+		default:
+			o.LostReachable++
+			o.LastReachable = e.now
+		}
+	}
 	if p.Measured {
 		e.res.Dropped[reason]++
+		if p.unreachable {
+			e.res.Unreachable[reason]++
+		}
 		e.live--
 		if c >= 0 {
 			switch reason {
@@ -767,14 +814,68 @@ func (e *engine) requestSnapshot() {
 
 // ---- failures ----
 
+// applyFailure applies failure event i. What it drops waits until the new
+// physical topology is known, so that every packet in the network is first
+// marked unreachable when its destination is down or cut off from the node
+// holding it. Cost: O(N + L + packets in the network).
 func (e *engine) applyFailure(i int) {
 	f := &e.failures[i]
+	e.curFail = i
+	e.applying = true
 	if f.Node >= 0 {
 		e.setNode(f.Node, f.Up)
 	}
 	for _, l := range f.Links {
 		e.setLink(l, f.Up)
 	}
+	e.applying = false
+	e.components()
+	for k := range e.pkts {
+		p := &e.pkts[k]
+		if p.live && !p.unreachable && !e.reaches(int(p.at), p.Dst) {
+			p.unreachable = true
+		}
+	}
+	for _, d := range e.pending {
+		e.drop(d.id, d.reason, d.c)
+	}
+	e.pending = e.pending[:0]
+}
+
+// components labels the nodes by connected component of the physical
+// topology: nodes up, joined by links up (both channels of a link are up or
+// down together). A node down gets −1. Cost: O(N + L).
+func (e *engine) components() {
+	for v := range e.comp {
+		e.comp[v] = -1
+	}
+	var label int32
+	for s := range e.comp {
+		if e.comp[s] >= 0 || !e.nodes[s].up {
+			continue
+		}
+		e.comp[s] = label
+		st := append(e.compStack[:0], int32(s))
+		for len(st) > 0 {
+			u := st[len(st)-1]
+			st = st[:len(st)-1]
+			for _, c := range e.net.Out[u] {
+				w := e.net.Channels[c].To
+				if e.ch[c].up && e.nodes[w].up && e.comp[w] < 0 {
+					e.comp[w] = label
+					st = append(st, int32(w))
+				}
+			}
+		}
+		e.compStack = st
+		label++
+	}
+}
+
+// reaches reports whether node b can be reached from node a over the
+// physical topology as it is now.
+func (e *engine) reaches(a, b int) bool {
+	return e.comp[a] >= 0 && e.comp[a] == e.comp[b]
 }
 
 func (e *engine) setNode(v int, up bool) {

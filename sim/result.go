@@ -26,6 +26,15 @@ type Result struct {
 	Delivered int64
 	Dropped   [NumDropReasons]int64
 	InFlight  int64
+	// Unreachable counts, by reason, the dropped packets that were
+	// unreachable: at their generation, or at some topology change while
+	// they were in the network, their destination was down or in another
+	// partition of the physical topology (nodes and links up at that moment)
+	// than the node holding them (the sender, for a packet on a channel). No
+	// routing could deliver them. Each is also counted in Dropped, so
+	// Unreachable[r] ≤ Dropped[r]; a packet held by a failing node is always
+	// unreachable.
+	Unreachable [NumDropReasons]int64
 
 	Delivery      *Histogram // delivery times of measured delivered packets, seconds
 	DeliverySum   float64    // seconds
@@ -48,6 +57,38 @@ type Result struct {
 	Series   []Bin
 	// Failures are the events applied, sorted by time.
 	Failures []FailureEvent
+	// Outcomes[k] is what followed Failures[k] (same length).
+	Outcomes []Outcome
+}
+
+// Outcome is what followed one failure event, exactly (per packet, not
+// binned). Every data packet counts here, warm-up included, like the Series.
+// A drop is attributed to the event that took place last at or before it
+// (several events at one instant: the last applied), so the counts of
+// consecutive events add up to the drops from the first event to the end
+// of the run.
+type Outcome struct {
+	// LostReachable counts the dropped reachable packets (see
+	// Result.Unreachable) whose reason is a routing one: link_down,
+	// no_route, hop_limit or node_down.
+	LostReachable int64
+	// LostUnreachable counts the dropped unreachable packets, every reason.
+	LostUnreachable int64
+	// LostQueueFull counts the dropped reachable packets whose reason is
+	// queue_full (congestion, including the baseline).
+	LostQueueFull int64
+	// LastReachable is the time of the last drop counted in LostReachable,
+	// or −1 when there was none.
+	LastReachable Time
+}
+
+// DroppedUnreachable returns the measured unreachable drops over all reasons.
+func (r *Result) DroppedUnreachable() int64 {
+	var s int64
+	for _, d := range r.Unreachable {
+		s += d
+	}
+	return s
 }
 
 // DroppedTotal returns the measured drops over all reasons.
@@ -75,9 +116,12 @@ type Bin struct {
 	Generated  int64
 	Delivered  int64
 	Dropped    int64
-	DelaySum   float64 // seconds, over Delivered
-	Delivery   *Histogram
-	UtilMax    float64 // busiest channel's utilisation within the bin
+	// Unreachable counts the dropped packets that were unreachable (see
+	// Result.Unreachable); they are also in Dropped.
+	Unreachable int64
+	DelaySum    float64 // seconds, over Delivered
+	Delivery    *Histogram
+	UtilMax     float64 // busiest channel's utilisation within the bin
 	// RouteChanges counts the route changes the agent reported while the
 	// clock was within the bin (warm-up included).
 	RouteChanges int64
