@@ -347,17 +347,17 @@ func (e *Experiment) EstimateEvents() float64 {
 }
 
 // EstimateBytes returns a rough upper estimate of the memory one run holds
-// at its peak, in bytes: the time series (a delivery-time histogram and
-// per-channel busy time per bin), packets that can be queued at once (every
+// at its peak, in bytes: the time series (a delivery-time histogram whose
+// values span three decades, and per-channel busy time per bin), packets that can be queued at once (every
 // buffer full), the agent's tables (per-node Q tables; per-node networks,
 // their target copies and replay buffers; the central agents' per-pair
 // telemetry) and the result rows. It ignores what the Go runtime itself
 // needs (a few MB per process).
 func (r *Run) EstimateBytes() float64 {
 	const (
-		histBytes   = 1403 * 4 // log buckets of uint32
-		packetBytes = 200      // a packet and its queue slot
+		packetBytes = 200 // a packet and its queue slot
 	)
+	histBytes := sim.HistogramBytes(1e3)
 	e, t := r.Exp, r.Topology
 	N := float64(t.Net.NumNodes())
 	channels := float64(len(t.Net.Channels))

@@ -35,6 +35,6 @@
 //
 // Every count in a Result covers data packets generated after the warm-up,
 // and Run verifies conservation: generated = delivered + dropped + in
-// flight. Delivery-time percentiles come from a log-bucketed Histogram with
-// relative error below 1%.
+// flight. Delivery-time percentiles come from a mergeable log-bucketed
+// Histogram with relative error at most 0.1%.
 package sim
