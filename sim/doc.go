@@ -22,7 +22,8 @@
 // (PerNode/Router with optional Arrivals, Receiver, Detector, LinkStater,
 // Timed; or Central). A per-node router sees the network only through a
 // *NodeView of its own node; a central agent only through Snapshots that
-// are ControlDelay old. sim imports no other hoplore package.
+// are ControlDelay old. Of hoplore's packages sim imports only the leaf
+// package paths (graph algorithms).
 //
 // A packet is unreachable when, at its generation or at any topology change
 // while it is in the network, its destination is down or in another

@@ -1,6 +1,6 @@
 package sim
 
-import "sort"
+import "hoplore/paths"
 
 // Channel is one direction of a link: the static facts every agent may know.
 type Channel struct {
@@ -28,43 +28,49 @@ type Net struct {
 	In [][]int
 	// Hops[s][d] is the hop count of the shortest path on the intact graph.
 	Hops [][]int32
+
+	digraph *paths.Graph
 }
+
+// Digraph returns the channels as a compact directed graph for package
+// paths: arc c is channel c, and each node's out-arcs come in Out's order,
+// so out-slot i of node v is channel Out[v][i].
+func (n *Net) Digraph() *paths.Graph { return n.digraph }
 
 // Compile builds the Net for g, which must have passed Validate. Cost: O(N·(N+L)).
 func Compile(g *Graph) *Net {
 	n := &Net{Graph: g}
 	N := len(g.Nodes)
 	n.Channels = make([]Channel, 2*len(g.Links))
-	n.Out = make([][]int, N)
-	n.In = make([][]int, N)
+	tails, heads := make([]int, len(n.Channels)), make([]int, len(n.Channels))
 	for i, l := range g.Links {
 		n.Channels[2*i] = Channel{ID: 2 * i, Link: i, From: l.A, To: l.B, Bandwidth: l.Bandwidth, Delay: l.Delay, Buffer: l.Buffer}
 		n.Channels[2*i+1] = Channel{ID: 2*i + 1, Link: i, From: l.B, To: l.A, Bandwidth: l.Bandwidth, Delay: l.Delay, Buffer: l.Buffer}
-		n.Out[l.A] = append(n.Out[l.A], 2*i)
-		n.Out[l.B] = append(n.Out[l.B], 2*i+1)
-		n.In[l.B] = append(n.In[l.B], 2*i)
-		n.In[l.A] = append(n.In[l.A], 2*i+1)
+		tails[2*i], heads[2*i] = l.A, l.B
+		tails[2*i+1], heads[2*i+1] = l.B, l.A
 	}
+	// the digraph orders each node's arcs by the node at the other end,
+	// then by arc (channel) index: the tie-break order of Out and In
+	n.digraph = paths.NewGraph(N, tails, heads)
+	n.Out = make([][]int, N)
+	n.In = make([][]int, N)
 	for v := 0; v < N; v++ {
-		out, in := n.Out[v], n.In[v]
-		sort.Slice(out, func(i, j int) bool {
-			a, b := n.Channels[out[i]], n.Channels[out[j]]
-			if a.To != b.To {
-				return a.To < b.To
-			}
-			return a.ID < b.ID
-		})
-		sort.Slice(in, func(i, j int) bool {
-			a, b := n.Channels[in[i]], n.Channels[in[j]]
-			if a.From != b.From {
-				return a.From < b.From
-			}
-			return a.ID < b.ID
-		})
+		out, _ := n.digraph.Out(v)
+		in, _ := n.digraph.In(v)
+		n.Out[v] = make([]int, len(out))
+		n.In[v] = make([]int, len(in))
+		for i, c := range out {
+			n.Out[v][i] = int(c)
+		}
+		for i, c := range in {
+			n.In[v][i] = int(c)
+		}
 	}
 	n.Hops = make([][]int32, N)
-	for s := 0; s < N; s++ {
-		n.Hops[s] = n.bfs(s)
+	var s paths.Search
+	for v := 0; v < N; v++ {
+		n.Hops[v] = make([]int32, N)
+		s.Hops(n.digraph, v, nil, n.Hops[v])
 	}
 	return n
 }
@@ -74,27 +80,6 @@ func (n *Net) NumNodes() int { return len(n.Out) }
 
 // Name returns node v's name.
 func (n *Net) Name(v int) string { return n.Graph.Nodes[v].Name }
-
-func (n *Net) bfs(s int) []int32 {
-	d := make([]int32, len(n.Out))
-	for i := range d {
-		d[i] = -1
-	}
-	d[s] = 0
-	q := []int{s}
-	for len(q) > 0 {
-		v := q[0]
-		q = q[1:]
-		for _, c := range n.Out[v] {
-			w := n.Channels[c].To
-			if d[w] < 0 {
-				d[w] = d[v] + 1
-				q = append(q, w)
-			}
-		}
-	}
-	return d
-}
 
 // Diameter returns the largest hop count between two nodes of the intact graph.
 func (n *Net) Diameter() int {
