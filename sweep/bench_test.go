@@ -149,7 +149,7 @@ func finishedFolder(b *testing.B, n int) (string, []unit[*results.RunTables], re
 }
 
 // noFinalize is the results store without the final assembly of tables.
-type noFinalize struct{ resultsStore }
+type noFinalize struct{ *resultsStore }
 
 func (noFinalize) Finalize(string, []string) error { return nil }
 
@@ -165,7 +165,7 @@ func BenchmarkResume(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			oc, err := execute(context.Background(), p, noFinalize{resultsStore{meta}}, engineOpts{out: dir, workers: 2})
+			oc, err := execute(context.Background(), p, noFinalize{&resultsStore{meta: meta}}, engineOpts{out: dir, workers: 2})
 			if err != nil || oc.Skipped != n || oc.Ran != 0 {
 				b.Fatalf("%v %+v", err, oc)
 			}

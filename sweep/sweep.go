@@ -54,6 +54,9 @@ type Outcome struct {
 	Complete bool
 	// Summary holds the per-cell rows of summary.parquet when Complete.
 	Summary []results.SummaryRow
+	// Rejected lists the parts found damaged or foreign and moved aside
+	// (results.RejectBadParts); their runs were done again.
+	Rejected []string
 }
 
 // Execute runs experiment e (or one share of it) into opts.Out: the runs
@@ -105,7 +108,11 @@ func executeTables(ctx context.Context, meta results.Meta, units []unit[*results
 			eo.prog = &lineReporter{w: opts.Progress, every: every, label: label}
 		}
 	}
-	oc, err := execute(ctx, p, resultsStore{meta}, eo)
+	st := &resultsStore{meta: meta}
+	oc, err := execute(ctx, p, st, eo)
+	if oc != nil {
+		oc.Rejected = st.rejected
+	}
 	if err != nil || !oc.Complete {
 		return oc, err
 	}
@@ -174,12 +181,29 @@ func (u *expUnit) Execute(ctx context.Context) (*results.RunTables, int64, error
 }
 
 // resultsStore keeps runs in a results folder.
-type resultsStore struct{ meta results.Meta }
+type resultsStore struct {
+	meta     results.Meta
+	verified bool     // parts checked (first List)
+	rejected []string // parts moved aside as damaged or foreign
+}
 
-func (s resultsStore) Check(dir string) error                       { return results.CheckDir(dir, s.meta.ExperimentHash) }
-func (s resultsStore) Mark(dir string) error                        { return results.MarkDir(dir, s.meta) }
-func (s resultsStore) List(dir string) (map[string]bool, error)     { return results.ListParts(dir) }
-func (s resultsStore) Write(dir string, t *results.RunTables) error { return results.WritePart(dir, t) }
-func (s resultsStore) Finalize(dir string, order []string) error {
+func (s *resultsStore) Check(dir string) error { return results.CheckDir(dir, s.meta.ExperimentHash) }
+func (s *resultsStore) Mark(dir string) error  { return results.MarkDir(dir, s.meta) }
+
+// List lists the finished runs; the first call reads every part and moves
+// aside the damaged or foreign ones, so that their runs are done again.
+func (s *resultsStore) List(dir string) (map[string]bool, error) {
+	if !s.verified {
+		s.verified = true
+		rej, err := results.RejectBadParts(dir, s.meta.Experiment)
+		s.rejected = rej
+		if err != nil {
+			return nil, err
+		}
+	}
+	return results.ListParts(dir)
+}
+func (s *resultsStore) Write(dir string, t *results.RunTables) error { return results.WritePart(dir, t) }
+func (s *resultsStore) Finalize(dir string, order []string) error {
 	return results.Finalize(dir, order, s.meta)
 }

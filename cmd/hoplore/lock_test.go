@@ -5,6 +5,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"sync"
 	"testing"
 
@@ -119,5 +120,56 @@ func TestConcurrentWritersOneFolder(t *testing.T) {
 				t.Errorf("pair %d: runs.parquet holds %q, the marker names %q", i, r.Experiment, mark.Experiment)
 			}
 		}
+	}
+}
+
+// A damaged part (cut short, as by a failing disk) and a foreign one (a run
+// of another experiment copied in) are moved aside, named, and their runs
+// done again; the folder ends complete.
+func TestDamagedPartsRedone(t *testing.T) {
+	tmp := t.TempDir()
+	exp := tinyExperiment(t, tmp, 3)
+	out := filepath.Join(tmp, "out")
+	d, _, errb := testDeps()
+	if code := run([]string{"run", exp, "--out", out, "--quiet"}, d); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	ids, err := results.ListParts(out)
+	if err != nil || len(ids) != 2 {
+		t.Fatalf("parts %v, %v", ids, err)
+	}
+	partsDir := filepath.Join(out, results.PartsDir)
+	ents, _ := os.ReadDir(partsDir)
+	damaged := filepath.Join(partsDir, ents[0].Name())
+	b, _ := os.ReadFile(damaged)
+	if err := os.WriteFile(damaged, b[:len(b)/2], 0o644); err != nil {
+		t.Fatal(err)
+	}
+	// a foreign part: a run of another experiment under a new name
+	other := filepath.Join(tmp, "other")
+	d, _, errb = testDeps()
+	if code := run([]string{"run", tinyExperiment(t, tmp, 4), "--out", other, "--quiet"}, d); code != 0 {
+		t.Fatal(errb.String())
+	}
+	oents, _ := os.ReadDir(filepath.Join(other, results.PartsDir))
+	ob, _ := os.ReadFile(filepath.Join(other, results.PartsDir, oents[0].Name()))
+	if err := os.WriteFile(filepath.Join(partsDir, "stray.part"), ob, 0o644); err != nil {
+		t.Fatal(err)
+	}
+
+	d, _, errb = testDeps()
+	if code := run([]string{"run", exp, "--out", out, "--quiet"}, d); code != 0 {
+		t.Fatalf("rerun: exit %d: %s", code, errb.String())
+	}
+	for _, name := range []string{ents[0].Name(), "stray.part"} {
+		if !strings.Contains(errb.String(), name) {
+			t.Errorf("stderr does not name %s: %q", name, errb.String())
+		}
+		if _, err := os.Stat(filepath.Join(out, results.RejectedDir, name)); err != nil {
+			t.Errorf("%s not moved aside: %v", name, err)
+		}
+	}
+	if m, err := results.CheckTables(out); err != nil || m.Runs != 2 {
+		t.Errorf("after the rerun: %+v, %v", m, err)
 	}
 }

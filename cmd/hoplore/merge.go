@@ -72,6 +72,12 @@ func runMerge(d *deps, out string, dirs []string, quiet bool) error {
 	if err != nil {
 		return fmt.Errorf("merge: %w", err)
 	}
+	if m, err := results.CheckTables(out); err != nil {
+		return fmt.Errorf("merge: %w", err)
+	} else if m.Missing() > 0 {
+		fmt.Fprintf(d.stderr, "hoplore: merge: warning: %s holds %d of the experiment's %d runs: %d missing (a shard folder not given, or not finished); the report will say so\n",
+			out, m.Runs, m.ExpectedRuns, m.Missing())
+	}
 	if quiet {
 		return nil
 	}

@@ -112,6 +112,9 @@ func runRun(d *deps, arg string, o *runOptions) error {
 	if err != nil {
 		return err
 	}
+	for _, p := range oc.Rejected {
+		fmt.Fprintf(d.stderr, "hoplore: run: a damaged or foreign part was moved aside and its run done again: %s\n", p)
+	}
 	if !o.quiet {
 		printOutcome(d.stdout, e.Name, oc)
 	}

@@ -85,6 +85,11 @@ func TestRunShardMergeCommands(t *testing.T) {
 		t.Errorf("merged shards against the whole sweep: %v", err)
 	}
 
+	// A merge that lacks a shard says how many runs are missing.
+	if _, errb = hop(t, 0, "merge", filepath.Join(base, "half"), s0); !strings.Contains(errb, "16 of the experiment's 32 runs: 16 missing") {
+		t.Errorf("merge of one shard of two: stderr %q, want the missing runs counted", errb)
+	}
+
 	// A shard with an empty share (more shards than runs) merges as nothing.
 	empty := filepath.Join(base, "empty")
 	hop(t, 0, "run", tiny, "--shard", "39/40", "--out", empty, "--quiet")
