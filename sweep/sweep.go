@@ -203,7 +203,9 @@ func (s *resultsStore) List(dir string) (map[string]bool, error) {
 	}
 	return results.ListParts(dir)
 }
-func (s *resultsStore) Write(dir string, t *results.RunTables) error { return results.WritePart(dir, t) }
+func (s *resultsStore) Write(dir string, t *results.RunTables) error {
+	return results.WritePart(dir, t)
+}
 func (s *resultsStore) Finalize(dir string, order []string) error {
 	return results.Finalize(dir, order, s.meta)
 }
