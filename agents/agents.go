@@ -1,8 +1,6 @@
 package agents
 
 import (
-	"fmt"
-
 	"hoplore/sim"
 )
 
@@ -12,12 +10,6 @@ func New(p Params, net *sim.Net) (sim.Agent, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	b, ok := builders[p.Kind]
-	if !ok {
-		return nil, fmt.Errorf("agents: kind %q is not built yet", p.Kind)
-	}
-	return b(p, net)
+	k, _ := Lookup(p.Kind) // Validate found it
+	return k.New(p, net)
 }
-
-// builders maps a kind to its constructor; each kind's file registers itself.
-var builders = map[string]func(Params, *sim.Net) (sim.Agent, error){}

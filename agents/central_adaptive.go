@@ -6,7 +6,29 @@ import (
 	"hoplore/sim"
 )
 
-func init() { builders[CentralAdaptiveKind] = newCentralAdaptive }
+// CentralAdaptiveKind is the kind of CentralAdaptive in experiment files.
+const CentralAdaptiveKind = "central-adaptive"
+
+func init() {
+	Register(Kind{
+		Name:    CentralAdaptiveKind,
+		Order:   20,
+		Central: true,
+		Fields: []Field{
+			everyField(2 * sim.Second),
+			controlDelayField(50 * sim.Millisecond),
+			// one interval at the default every: measured on the 6×6
+			// bottleneck grid, 10 s turned fast flapping into slow swings
+			// of about 20 s and lost more
+			NewField("hold_down", func(p *Params) *sim.Time { return &p.HoldDown }, 2*sim.Second, nonNegativeTime),
+			NewField("smoothing", func(p *Params) *float64 { return &p.Smoothing }, 0.5, inUnitOpenClosed),
+		},
+		New: newCentralAdaptive,
+		Cost: func(p *Params, r RunSize) Cost {
+			return Cost{Events: centralEvents(p, r), Bytes: centralBytes(p, r)}
+		},
+	})
+}
 
 // Timer tags of the central agents.
 const (

@@ -1,12 +1,40 @@
 package agents
 
 import (
+	"fmt"
 	"math"
 
 	"hoplore/sim"
 )
 
-func init() { builders[CentralQKind] = newCentralQ }
+// CentralQKind is the kind of CentralQ in experiment files.
+const CentralQKind = "central-q"
+
+func init() {
+	Register(Kind{
+		Name:    CentralQKind,
+		Order:   30,
+		Central: true,
+		Fields: []Field{
+			everyField(2 * sim.Second),
+			controlDelayField(50 * sim.Millisecond),
+			NewField("k", func(p *Params) *int { return &p.K }, 3, func(k int) error {
+				if k < 1 || k > 16 {
+					return fmt.Errorf("must be in 1..16, got %d", k)
+				}
+				return nil
+			}),
+			learningRateField(0.3),
+			NewField("discount", func(p *Params) *float64 { return &p.Discount }, 0.5, inUnitClosedOpen),
+			exploreField(0.05),
+			NewField("drop_penalty", func(p *Params) *sim.Time { return &p.DropPenalty }, 1*sim.Second, nonNegativeTime),
+		},
+		New: newCentralQ,
+		Cost: func(p *Params, r RunSize) Cost {
+			return Cost{Events: centralEvents(p, r), Bytes: centralBytes(p, r)}
+		},
+	})
+}
 
 // Utilisation bucket edges of central-q's state; a candidate with a channel
 // down gets the extra bucket cqBuckets. Chosen so that the buckets separate

@@ -8,37 +8,63 @@ import (
 	"hoplore/sim"
 )
 
-// contractParams lists the agent configurations the contract suite checks.
-func contractParams() []agents.Params {
-	var ps []agents.Params
-	add := func(p agents.Params) { ps = append(ps, p) }
-	add(agents.Defaults(agents.ShortestPathKind))
+// contract lists, for every registered kind, the configurations the
+// contract suite checks, each as a change to the kind's defaults (nil: the
+// defaults). A new kind adds one line; TestContract fails for a registered
+// kind without one.
+var contract = map[string][]func(p *agents.Params){
+	agents.ShortestPathKind:    {nil},
+	agents.CentralAdaptiveKind: {nil, func(p *agents.Params) { p.HoldDown = 0 }},
+	agents.CentralQKind:        {nil},
+	agents.QRoutingKind:        qRoutingCases(),
+	agents.QNetworkKind: {nil, func(p *agents.Params) {
+		p.Explore = 0.02
+		p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
+	}},
+}
+
+// qRoutingCases are every variant with either feedback, and consensus.
+func qRoutingCases() []func(p *agents.Params) {
+	var cs []func(p *agents.Params)
 	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
 		for _, f := range []string{"instant", "in-band"} {
-			p := agents.Defaults(agents.QRoutingKind)
-			p.Variant, p.Feedback = v, f
-			add(p)
+			cs = append(cs, func(p *agents.Params) { p.Variant, p.Feedback = v, f })
 		}
 	}
-	p := agents.Defaults(agents.QRoutingKind)
-	p.Explore = 0.05
-	p.Consensus = &agents.Consensus{Every: sim.Second, Weight: 0.5}
-	add(p)
-	ca := agents.Defaults(agents.CentralAdaptiveKind)
-	add(ca)
-	ca.HoldDown = 0
-	add(ca)
-	add(agents.Defaults(agents.CentralQKind))
-	add(agents.Defaults(agents.QNetworkKind))
-	qn := agents.Defaults(agents.QNetworkKind)
-	qn.Explore = 0.02
-	qn.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
-	add(qn)
+	return append(cs, func(p *agents.Params) {
+		p.Explore = 0.05
+		p.Consensus = &agents.Consensus{Every: sim.Second, Weight: 0.5}
+	})
+}
+
+// contractParams lists the agent configurations the contract suite checks,
+// kind by kind in documentation order.
+func contractParams(t *testing.T) []agents.Params {
+	var ps []agents.Params
+	for _, k := range agents.All() {
+		cases, ok := contract[k.Name]
+		if !ok || len(cases) == 0 {
+			t.Errorf("kind %s has no line in the contract table", k.Name)
+			continue
+		}
+		for _, change := range cases {
+			p := agents.Defaults(k.Name)
+			if change != nil {
+				change(&p)
+			}
+			ps = append(ps, p)
+		}
+	}
+	for name := range contract {
+		if _, ok := agents.Lookup(name); !ok {
+			t.Errorf("the contract table names %q, which is not a registered kind", name)
+		}
+	}
 	return ps
 }
 
 func TestContract(t *testing.T) {
-	for _, p := range contractParams() {
+	for _, p := range contractParams(t) {
 		t.Run(p.Canonical(), func(t *testing.T) {
 			t.Parallel()
 			agenttest.Run(t, p)

@@ -1,26 +1,13 @@
 package agents
 
 import (
+	"errors"
 	"fmt"
 	"slices"
-	"strconv"
 	"strings"
-	"time"
 
 	"hoplore/sim"
 )
-
-// Kinds of agent, as written in experiment files.
-const (
-	ShortestPathKind    = "shortest-path"
-	CentralAdaptiveKind = "central-adaptive"
-	CentralQKind        = "central-q"
-	QRoutingKind        = "q-routing"
-	QNetworkKind        = "q-network"
-)
-
-// Kinds lists every agent kind in documentation order.
-var Kinds = []string{ShortestPathKind, CentralAdaptiveKind, CentralQKind, QRoutingKind, QNetworkKind}
 
 // Consensus configures periodic agreement between neighbouring per-node agents.
 type Consensus struct {
@@ -35,8 +22,10 @@ type Consensus struct {
 }
 
 // Params are an agent's settings as written in an experiment file, with
-// defaults filled in by Defaults. Which fields apply depends on Kind; see
-// Fields.
+// defaults filled in by Defaults. Which fields apply depends on Kind: the
+// kind's registered Fields say, and only they are read, checked and
+// labelled. A new parameter that no existing field fits gets its Go field
+// here.
 type Params struct {
 	Kind  string
 	Label string // the agent column's value when set
@@ -79,51 +68,28 @@ func (p *Params) packetBytes() float64 {
 	return AssumedPacketBytes
 }
 
-// fieldsByKind lists the experiment-file fields each kind accepts, besides
-// kind and label.
-var fieldsByKind = map[string][]string{
-	ShortestPathKind:    {"metric", "ecmp", "spf_delay"},
-	QRoutingKind:        {"variant", "feedback", "learning_rate", "explore", "consensus"},
-	QNetworkKind:        {"hidden", "learning_rate", "explore", "replay", "target_sync", "consensus"},
-	CentralAdaptiveKind: {"every", "control_delay", "hold_down", "smoothing"},
-	CentralQKind:        {"every", "control_delay", "k", "learning_rate", "discount", "explore", "drop_penalty"},
-}
-
 // Fields returns the experiment-file fields kind accepts besides kind and
 // label, or nil for an unknown kind.
-func Fields(kind string) []string { return slices.Clone(fieldsByKind[kind]) }
+func Fields(kind string) []string {
+	k, ok := Lookup(kind)
+	if !ok {
+		return nil
+	}
+	names := make([]string, len(k.Fields))
+	for i, f := range k.Fields {
+		names[i] = f.Name
+	}
+	return names
+}
 
-// Defaults returns the parameters of kind with every default filled in.
+// Defaults returns the parameters of kind with every default filled in
+// (only Kind for an unknown kind).
 func Defaults(kind string) Params {
 	p := Params{Kind: kind}
-	switch kind {
-	case ShortestPathKind:
-		p.Metric = "hops"
-		p.SPFDelay = 100 * sim.Millisecond
-	case QRoutingKind:
-		p.Variant = "plain"
-		p.Feedback = "instant"
-		p.LearningRate = 0.5
-	case QNetworkKind:
-		p.Hidden = []int{32}
-		p.LearningRate = 0.01
-		p.Replay = 256
-		p.TargetSync = 200
-	case CentralAdaptiveKind:
-		p.Every = 2 * sim.Second
-		p.ControlDelay = 50 * sim.Millisecond
-		// one interval at the default every: measured on the 6×6 bottleneck grid,
-		// 10 s turned fast flapping into slow swings of about 20 s and lost more
-		p.HoldDown = 2 * sim.Second
-		p.Smoothing = 0.5
-	case CentralQKind:
-		p.Every = 2 * sim.Second
-		p.ControlDelay = 50 * sim.Millisecond
-		p.K = 3
-		p.LearningRate = 0.3
-		p.Discount = 0.5
-		p.Explore = 0.05
-		p.DropPenalty = 1 * sim.Second
+	if k, ok := Lookup(kind); ok {
+		for i := range k.Fields {
+			k.Fields[i].setDefault(&p)
+		}
 	}
 	return p
 }
@@ -140,96 +106,21 @@ func perr(field, format string, args ...any) error {
 	return &ParamError{Field: field, Msg: fmt.Sprintf(format, args...)}
 }
 
-// Validate checks p's values for its kind and returns a *ParamError naming
-// the first bad field.
+// Validate checks p's values for its kind, field by field in the kind's
+// order and then across fields, and returns a *ParamError naming the first
+// bad field.
 func (p *Params) Validate() error {
-	if _, ok := fieldsByKind[p.Kind]; !ok {
-		return perr("kind", "unknown agent kind %q (known: %s)", p.Kind, strings.Join(Kinds, ", "))
+	k, ok := Lookup(p.Kind)
+	if !ok {
+		return perr("kind", "unknown agent kind %q (known: %s)", p.Kind, strings.Join(Kinds(), ", "))
 	}
-	switch p.Kind {
-	case ShortestPathKind:
-		switch p.Metric {
-		case "hops", "delay", "inverse-capacity":
-		default:
-			return perr("metric", "unknown metric %q (known: hops, delay, inverse-capacity)", p.Metric)
+	for i := range k.Fields {
+		if err := k.Fields[i].Check(p); err != nil {
+			return err
 		}
-		if p.SPFDelay < 0 {
-			return perr("spf_delay", "must not be negative")
-		}
-	case QRoutingKind, QNetworkKind:
-		if p.Kind == QRoutingKind {
-			switch p.Variant {
-			case "plain", "predictive", "dual", "confidence":
-			default:
-				return perr("variant", "unknown variant %q (known: plain, predictive, dual, confidence)", p.Variant)
-			}
-			switch p.Feedback {
-			case "instant", "in-band":
-			default:
-				return perr("feedback", "unknown feedback %q (known: instant, in-band)", p.Feedback)
-			}
-		}
-		if !(p.LearningRate > 0 && p.LearningRate <= 1) {
-			return perr("learning_rate", "must be in (0, 1], got %g", p.LearningRate)
-		}
-		if p.Explore < 0 || p.Explore >= 1 {
-			return perr("explore", "must be in [0, 1), got %g", p.Explore)
-		}
-		if p.Consensus != nil {
-			if p.Consensus.Every <= 0 {
-				return perr("consensus.every", "must be positive")
-			}
-			if !(p.Consensus.Weight > 0 && p.Consensus.Weight <= 1) {
-				return perr("consensus.weight", "must be in (0, 1], got %g", p.Consensus.Weight)
-			}
-		}
-		if p.Kind == QNetworkKind {
-			if len(p.Hidden) == 0 {
-				return perr("hidden", "needs at least one layer size")
-			}
-			for _, h := range p.Hidden {
-				if h < 1 || h > 1024 {
-					return perr("hidden", "layer sizes must be in 1..1024, got %d", h)
-				}
-			}
-			if p.Replay < 1 {
-				return perr("replay", "must be at least 1, got %d", p.Replay)
-			}
-			if p.TargetSync < 1 {
-				return perr("target_sync", "must be at least 1, got %d", p.TargetSync)
-			}
-		}
-	case CentralAdaptiveKind, CentralQKind:
-		if p.Every <= 0 {
-			return perr("every", "must be positive")
-		}
-		if p.ControlDelay < 0 {
-			return perr("control_delay", "must not be negative")
-		}
-		if p.Kind == CentralAdaptiveKind {
-			if p.HoldDown < 0 {
-				return perr("hold_down", "must not be negative")
-			}
-			if !(p.Smoothing > 0 && p.Smoothing <= 1) {
-				return perr("smoothing", "must be in (0, 1], got %g", p.Smoothing)
-			}
-		} else {
-			if p.K < 1 || p.K > 16 {
-				return perr("k", "must be in 1..16, got %d", p.K)
-			}
-			if !(p.LearningRate > 0 && p.LearningRate <= 1) {
-				return perr("learning_rate", "must be in (0, 1], got %g", p.LearningRate)
-			}
-			if p.Discount < 0 || p.Discount >= 1 {
-				return perr("discount", "must be in [0, 1), got %g", p.Discount)
-			}
-			if p.Explore < 0 || p.Explore >= 1 {
-				return perr("explore", "must be in [0, 1), got %g", p.Explore)
-			}
-			if p.DropPenalty < 0 {
-				return perr("drop_penalty", "must not be negative")
-			}
-		}
+	}
+	if k.Check != nil {
+		return k.Check(p)
 	}
 	return nil
 }
@@ -241,93 +132,15 @@ func (p *Params) Canonical() string {
 	if p.Label != "" {
 		return p.Label
 	}
-	d := Defaults(p.Kind)
+	k, ok := Lookup(p.Kind)
+	if !ok {
+		return p.Kind
+	}
 	var parts []string
-	add := func(k, v string) { parts = append(parts, k+"="+v) }
-	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-	dur := func(t sim.Time) string { return fmtDuration(t) }
-	for _, field := range fieldsByKind[p.Kind] {
-		switch field {
-		case "metric":
-			if p.Metric != d.Metric {
-				add(field, p.Metric)
-			}
-		case "ecmp":
-			if p.ECMP != d.ECMP {
-				add(field, strconv.FormatBool(p.ECMP))
-			}
-		case "spf_delay":
-			if p.SPFDelay != d.SPFDelay {
-				add(field, dur(p.SPFDelay))
-			}
-		case "variant":
-			if p.Variant != d.Variant {
-				add(field, p.Variant)
-			}
-		case "feedback":
-			if p.Feedback != d.Feedback {
-				add(field, p.Feedback)
-			}
-		case "learning_rate":
-			if p.LearningRate != d.LearningRate {
-				add(field, f(p.LearningRate))
-			}
-		case "explore":
-			if p.Explore != d.Explore {
-				add(field, f(p.Explore))
-			}
-		case "consensus":
-			if p.Consensus != nil {
-				v := dur(p.Consensus.Every) + "/" + f(p.Consensus.Weight)
-				if p.Consensus.SplitHorizon {
-					v += "/split-horizon"
-				}
-				add(field, v)
-			}
-		case "hidden":
-			if !slices.Equal(p.Hidden, d.Hidden) {
-				s := make([]string, len(p.Hidden))
-				for i, h := range p.Hidden {
-					s[i] = strconv.Itoa(h)
-				}
-				add(field, strings.Join(s, "x"))
-			}
-		case "replay":
-			if p.Replay != d.Replay {
-				add(field, strconv.Itoa(p.Replay))
-			}
-		case "target_sync":
-			if p.TargetSync != d.TargetSync {
-				add(field, strconv.Itoa(p.TargetSync))
-			}
-		case "every":
-			if p.Every != d.Every {
-				add(field, dur(p.Every))
-			}
-		case "control_delay":
-			if p.ControlDelay != d.ControlDelay {
-				add(field, dur(p.ControlDelay))
-			}
-		case "hold_down":
-			if p.HoldDown != d.HoldDown {
-				add(field, dur(p.HoldDown))
-			}
-		case "smoothing":
-			if p.Smoothing != d.Smoothing {
-				add(field, f(p.Smoothing))
-			}
-		case "k":
-			if p.K != d.K {
-				add(field, strconv.Itoa(p.K))
-			}
-		case "discount":
-			if p.Discount != d.Discount {
-				add(field, f(p.Discount))
-			}
-		case "drop_penalty":
-			if p.DropPenalty != d.DropPenalty {
-				add(field, dur(p.DropPenalty))
-			}
+	for i := range k.Fields {
+		f := &k.Fields[i]
+		if !f.IsDefault(p) {
+			parts = append(parts, f.Name+"="+f.Text(p))
 		}
 	}
 	if len(parts) == 0 {
@@ -336,4 +149,116 @@ func (p *Params) Canonical() string {
 	return p.Kind + "(" + strings.Join(parts, ",") + ")"
 }
 
-func fmtDuration(t sim.Time) string { return time.Duration(t).String() }
+// Checks shared by the kinds' fields.
+
+func inUnitOpenClosed(v float64) error {
+	if !(v > 0 && v <= 1) {
+		return fmt.Errorf("must be in (0, 1], got %g", v)
+	}
+	return nil
+}
+
+func inUnitClosedOpen(v float64) error {
+	if v < 0 || v >= 1 {
+		return fmt.Errorf("must be in [0, 1), got %g", v)
+	}
+	return nil
+}
+
+func positiveTime(t sim.Time) error {
+	if t <= 0 {
+		return errors.New("must be positive")
+	}
+	return nil
+}
+
+func nonNegativeTime(t sim.Time) error {
+	if t < 0 {
+		return errors.New("must not be negative")
+	}
+	return nil
+}
+
+func atLeastOne(n int) error {
+	if n < 1 {
+		return fmt.Errorf("must be at least 1, got %d", n)
+	}
+	return nil
+}
+
+// oneOf returns a check that accepts only values; what names the field in
+// the message ("unknown metric ...").
+func oneOf(what string, values ...string) func(string) error {
+	return func(s string) error {
+		if !slices.Contains(values, s) {
+			return fmt.Errorf("unknown %s %q (known: %s)", what, s, strings.Join(values, ", "))
+		}
+		return nil
+	}
+}
+
+// Fields shared by several kinds (each kind gives its own default).
+
+func learningRateField(def float64) Field {
+	return NewField("learning_rate", func(p *Params) *float64 { return &p.LearningRate }, def, inUnitOpenClosed)
+}
+
+func exploreField(def float64) Field {
+	return NewField("explore", func(p *Params) *float64 { return &p.Explore }, def, inUnitClosedOpen)
+}
+
+// consensusField is the per-node learners' consensus, none by default;
+// splitHorizon says whether the kind can tell each neighbour a different
+// value.
+func consensusField(splitHorizon bool) Field {
+	return NewField("consensus", func(p *Params) **Consensus { return &p.Consensus }, nil, func(c *Consensus) error {
+		if c == nil {
+			return nil
+		}
+		if c.Every <= 0 {
+			return perr("consensus.every", "must be positive")
+		}
+		if !(c.Weight > 0 && c.Weight <= 1) {
+			return perr("consensus.weight", "must be in (0, 1], got %g", c.Weight)
+		}
+		if c.SplitHorizon && !splitHorizon {
+			return perr("consensus.split_horizon", "applies to q-routing only (q-network consensus averages parameters)")
+		}
+		return nil
+	})
+}
+
+// The central kinds' timing fields.
+
+func everyField(def sim.Time) Field {
+	return NewField("every", func(p *Params) *sim.Time { return &p.Every }, def, positiveTime)
+}
+
+func controlDelayField(def sim.Time) Field {
+	return NewField("control_delay", func(p *Params) *sim.Time { return &p.ControlDelay }, def, nonNegativeTime)
+}
+
+// consensusEvents estimates the events of consensus rounds: one message per
+// channel per round, each a hop.
+func consensusEvents(p *Params, r RunSize) float64 {
+	if p.Consensus == nil || p.Consensus.Every <= 0 {
+		return 0
+	}
+	return r.Seconds / p.Consensus.Every.Seconds() * float64(r.Channels) * eventsPerHop
+}
+
+// centralEvents estimates a controller's rounds: each touches every node
+// and channel.
+func centralEvents(p *Params, r RunSize) float64 {
+	if p.Every <= 0 {
+		return 0
+	}
+	return r.Seconds / p.Every.Seconds() * float64(r.Nodes+r.Channels)
+}
+
+// centralBytes estimates a controller's per-pair state: pair counters, two
+// snapshots in flight and k candidate paths per pair.
+func centralBytes(p *Params, r RunSize) float64 {
+	N := float64(r.Nodes)
+	return N*N*24*3 + N*N*float64(max(p.K, 1))*8*8
+}

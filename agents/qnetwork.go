@@ -1,12 +1,58 @@
 package agents
 
 import (
+	"errors"
+	"fmt"
 	"math"
 
 	"hoplore/sim"
 )
 
-func init() { builders[QNetworkKind] = newQNetwork }
+// QNetworkKind is the kind of QNetwork in experiment files.
+const QNetworkKind = "q-network"
+
+func init() {
+	Register(Kind{
+		Name:  QNetworkKind,
+		Order: 50,
+		Fields: []Field{
+			NewField("hidden", func(p *Params) *[]int { return &p.Hidden }, []int{32}, func(hs []int) error {
+				if len(hs) == 0 {
+					return errors.New("needs at least one layer size")
+				}
+				for _, h := range hs {
+					if h < 1 || h > 1024 {
+						return fmt.Errorf("layer sizes must be in 1..1024, got %d", h)
+					}
+				}
+				return nil
+			}),
+			learningRateField(0.01),
+			exploreField(0),
+			NewField("replay", func(p *Params) *int { return &p.Replay }, 256, atLeastOne),
+			NewField("target_sync", func(p *Params) *int { return &p.TargetSync }, 200, atLeastOne),
+			consensusField(false),
+		},
+		New: newQNetwork,
+		Cost: func(p *Params, r RunSize) Cost {
+			N := float64(r.Nodes)
+			in := 3*N + 2
+			params := 0.0
+			prev := in
+			for _, h := range p.Hidden {
+				params += (prev + 1) * float64(h)
+				prev = float64(h)
+			}
+			params += prev + 1
+			// weights, target copy, gradient and consensus scratch per node,
+			// replay samples of the inputs
+			return Cost{
+				Events: consensusEvents(p, r),
+				Bytes:  N * (params*8*4 + float64(p.Replay)*(in+4)*8),
+			}
+		},
+	})
+}
 
 // Settings of q-network's training (common practice for small online
 // regressions; DQN-style replay and target copies as Mnih et al., Nature

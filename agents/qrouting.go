@@ -33,7 +33,33 @@ const (
 	confidenceDecay = 0.95
 )
 
-func init() { builders[QRoutingKind] = newQRouting }
+// QRoutingKind is the kind of QRouting in experiment files.
+const QRoutingKind = "q-routing"
+
+func init() {
+	Register(Kind{
+		Name:  QRoutingKind,
+		Order: 40,
+		Fields: []Field{
+			NewField("variant", func(p *Params) *string { return &p.Variant }, "plain", oneOf("variant", "plain", "predictive", "dual", "confidence")),
+			NewField("feedback", func(p *Params) *string { return &p.Feedback }, "instant", oneOf("feedback", "instant", "in-band")),
+			learningRateField(0.5),
+			exploreField(0),
+			consensusField(true),
+		},
+		New: newQRouting,
+		Cost: func(p *Params, r RunSize) Cost {
+			c := Cost{Events: consensusEvents(p, r)}
+			if p.Feedback == "in-band" {
+				// one feedback message back over every hop of every packet
+				c.Events += r.Packets * r.Seconds * r.MeanHops * eventsPerHop
+			}
+			// Q plus the variants' extra tables, per channel and destination
+			c.Bytes = 2 * float64(r.Channels) * float64(r.Nodes) * 8 * 5
+			return c
+		},
+	})
+}
 
 // QRouting is per-node tabular Q-routing (Boyan & Littman, "Packet routing in
 // dynamically changing networks: a reinforcement learning approach", NIPS 6,

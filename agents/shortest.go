@@ -25,7 +25,27 @@ type ShortestPath struct {
 
 var _ sim.PerNode = (*ShortestPath)(nil)
 
-func init() { builders[ShortestPathKind] = newShortestPath }
+// ShortestPathKind is the kind of ShortestPath in experiment files.
+const ShortestPathKind = "shortest-path"
+
+func init() {
+	Register(Kind{
+		Name:  ShortestPathKind,
+		Order: 10,
+		Fields: []Field{
+			NewField("metric", func(p *Params) *string { return &p.Metric }, "hops", oneOf("metric", "hops", "delay", "inverse-capacity")),
+			NewField("ecmp", func(p *Params) *bool { return &p.ECMP }, false, nil),
+			NewField("spf_delay", func(p *Params) *sim.Time { return &p.SPFDelay }, 100*sim.Millisecond, nonNegativeTime),
+		},
+		New: newShortestPath,
+		Cost: func(p *Params, r RunSize) Cost {
+			// next-hop sets and distances per node and destination, and
+			// every node's view of the links
+			N := float64(r.Nodes)
+			return Cost{Bytes: N * (N*24 + float64(r.Channels)*8 + float64(r.Links))}
+		},
+	})
+}
 
 func newShortestPath(p Params, net *sim.Net) (sim.Agent, error) {
 	a := &ShortestPath{p: p, net: net}

@@ -58,6 +58,11 @@ func TestBadFiles(t *testing.T) {
 		{"bad-fraction", "6:36", "traffic.hotspot.fraction: must be in [0, 1], got 1.5"},
 		{"empty", "1:1", "name: required"},
 		{"duplicate-topology", "5:5", `topologies[1]: topology "small-ring" is listed twice; give one a label:`},
+		{"agent-unknown-field", "6:23", `unknown field "learning_rat"`},
+		{"consensus-without-every", "6:34", "agents[0].consensus.every: required"},
+		{"split-horizon-for-q-network", "6:34", "agents[0].consensus.split_horizon: applies to q-routing only"},
+		{"split-horizon-not-bool", "6:61", `"maybe" is not true or false`},
+		{"negative-control-delay", "7:20", "agents[0].control_delay: must not be negative"},
 		{"bad-topology-file", "testdata/topofiles/broken-topology.yaml:4:15", `unknown node "c"`},
 	}
 	files, err := filepath.Glob("testdata/bad/*.yaml")

@@ -213,14 +213,10 @@ func (r *Run) Config() (*sim.Config, error) {
 		Seed:      r.Dims.Seed,
 		AgentSeed: r.AgentSeed,
 	}
-	if isCentral(r.Agent.Kind) {
+	if k, _ := agents.Lookup(r.Agent.Kind); k.Central {
 		cfg.ControlDelay = r.Agent.ControlDelay
 	}
 	return cfg, nil
-}
-
-func isCentral(kind string) bool {
-	return kind == agents.CentralAdaptiveKind || kind == agents.CentralQKind
 }
 
 // Failures returns the run's failure schedule: the scheduled events resolved
@@ -300,15 +296,12 @@ const (
 	eventsPerPacket = 1
 )
 
-// EstimateEvents returns a rough number of engine events the run will
-// process: generated packets × (1 + 2 × mean shortest-path hops), plus the
-// in-band control traffic of consensus or in-band feedback, plus the central
-// controller's rounds. Cost: O(N²).
-func (r *Run) EstimateEvents() float64 {
-	e, t := r.Exp, r.Topology
-	rates := r.Rates()
+// size returns what the agent's cost estimate needs to know of the run.
+// Cost: O(N²).
+func (r *Run) size() agents.RunSize {
+	t := r.Topology
 	var total, hops float64
-	for s, row := range rates {
+	for s, row := range r.Rates() {
 		for d, v := range row {
 			total += v
 			hops += v * float64(t.Net.Hops[s][d])
@@ -318,21 +311,26 @@ func (r *Run) EstimateEvents() float64 {
 	if total > 0 {
 		meanHops = hops / total
 	}
-	dur := e.Duration.Seconds()
-	events := total * dur * (eventsPerPacket + eventsPerHop*meanHops)
-	channels := float64(len(t.Net.Channels))
-	p := r.Agent
-	if p.Consensus != nil && p.Consensus.Every > 0 {
-		events += dur / p.Consensus.Every.Seconds() * channels * eventsPerHop
+	return agents.RunSize{
+		Nodes:    t.Net.NumNodes(),
+		Links:    len(t.Net.Graph.Links),
+		Channels: len(t.Net.Channels),
+		Seconds:  r.Exp.Duration.Seconds(),
+		Packets:  total,
+		MeanHops: meanHops,
 	}
-	if p.Feedback == "in-band" {
-		events += total * dur * meanHops * eventsPerHop
-	}
-	if isCentral(p.Kind) && p.Every > 0 {
-		events += dur / p.Every.Seconds() * (float64(t.Net.NumNodes()) + channels)
-	}
+}
+
+// EstimateEvents returns a rough number of engine events the run will
+// process: generated packets × (1 + 2 × mean shortest-path hops), plus what
+// the agent's kind estimates for itself (control messages, controller
+// rounds: agents.Kind.Cost), plus random failures. Cost: O(N²).
+func (r *Run) EstimateEvents() float64 {
+	s := r.size()
+	events := s.Packets * s.Seconds * (eventsPerPacket + eventsPerHop*s.MeanHops)
+	events += r.Agent.Estimate(s).Events
 	if f := r.Failure; f.Random != nil {
-		events += 2 * dur / (f.Random.MTBF + f.Random.MTTR).Seconds() * channels
+		events += 2 * s.Seconds / (f.Random.MTBF + f.Random.MTTR).Seconds() * float64(s.Channels)
 	}
 	return events
 }
@@ -348,18 +346,16 @@ func (e *Experiment) EstimateEvents() float64 {
 
 // EstimateBytes returns a rough upper estimate of the memory one run holds
 // at its peak, in bytes: the time series (a delivery-time histogram whose
-// values span three decades, and per-channel busy time per bin), packets that can be queued at once (every
-// buffer full), the agent's tables (per-node Q tables; per-node networks,
-// their target copies and replay buffers; the central agents' per-pair
-// telemetry) and the result rows. It ignores what the Go runtime itself
-// needs (a few MB per process).
+// values span three decades, and per-channel busy time per bin), packets
+// that can be queued at once (every buffer full), the agent's tables (as its
+// kind estimates them: agents.Kind.Cost) and the result rows. It ignores
+// what the Go runtime itself needs (a few MB per process).
 func (r *Run) EstimateBytes() float64 {
 	const (
 		packetBytes = 200 // a packet and its queue slot
 	)
 	histBytes := sim.HistogramBytes(1e3)
 	e, t := r.Exp, r.Topology
-	N := float64(t.Net.NumNodes())
 	channels := float64(len(t.Net.Channels))
 	bins := math.Ceil(float64(e.Duration) / float64(e.Bin))
 	b := bins * (histBytes + 8*channels + 200) // series, busy time, series rows
@@ -369,28 +365,7 @@ func (r *Run) EstimateBytes() float64 {
 	}
 	b += queued * packetBytes
 	b += channels * 300 // channel state and links rows
-	p := r.Agent
-	switch p.Kind {
-	case agents.ShortestPathKind:
-		b += N * (N*24 + channels*8 + float64(len(t.Net.Graph.Links)))
-	case agents.QRoutingKind:
-		b += 2 * channels * N * 8 * 5 // Q plus the variants' extra tables, per neighbour and destination
-	case agents.QNetworkKind:
-		in := 3*N + 2
-		params := 0.0
-		prev := in
-		for _, h := range p.Hidden {
-			params += (prev + 1) * float64(h)
-			prev = float64(h)
-		}
-		params += prev + 1
-		// weights, target copy, gradient and consensus scratch per node,
-		// replay samples of the inputs
-		b += N * (params*8*4 + float64(p.Replay)*(in+4)*8)
-	case agents.CentralAdaptiveKind, agents.CentralQKind:
-		b += N * N * 24 * 3 // pair counters and two snapshots in flight
-		b += N * N * float64(max(p.K, 1)) * 8 * 8
-	}
+	b += r.Agent.Estimate(r.size()).Bytes
 	return b
 }
 

@@ -471,128 +471,42 @@ func (c *checker) agents(e *Experiment) error {
 }
 
 func (c *checker) agent(i int, a *agentYAML) (agents.Params, error) {
+	known := strings.Join(agents.Kinds(), ", ")
 	if !a.Kind.Set || a.Kind.S == "" {
-		return agents.Params{}, c.errf(a.Pos, "agents[%d].kind: required (known: %s)", i, strings.Join(agents.Kinds, ", "))
+		return agents.Params{}, c.errf(a.Pos, "agents[%d].kind: required (known: %s)", i, known)
 	}
-	kind := a.Kind.S
-	valid := agents.Fields(kind)
-	if valid == nil {
-		return agents.Params{}, c.errf(a.Kind.Pos, "agents[%d].kind: unknown agent kind %q (known: %s)", i, kind, strings.Join(agents.Kinds, ", "))
-	}
-	f := &a.agentFields
-	set := []struct {
-		name string
-		set  bool
-		pos  yamlx.Pos
-	}{
-		{"metric", f.Metric.Set, f.Metric.Pos},
-		{"ecmp", f.ECMP.Set, f.ECMP.Pos},
-		{"spf_delay", f.SPFDelay.Set, f.SPFDelay.Pos},
-		{"variant", f.Variant.Set, f.Variant.Pos},
-		{"feedback", f.Feedback.Set, f.Feedback.Pos},
-		{"learning_rate", f.LearningRate.Set, f.LearningRate.Pos},
-		{"explore", f.Explore.Set, f.Explore.Pos},
-		{"consensus", f.Consensus.Set, f.Consensus.Pos},
-		{"hidden", f.Hidden.Set, f.Hidden.Pos},
-		{"replay", f.Replay.Set, f.Replay.Pos},
-		{"target_sync", f.TargetSync.Set, f.TargetSync.Pos},
-		{"every", f.Every.Set, f.Every.Pos},
-		{"control_delay", f.ControlDelay.Set, f.ControlDelay.Pos},
-		{"hold_down", f.HoldDown.Set, f.HoldDown.Pos},
-		{"smoothing", f.Smoothing.Set, f.Smoothing.Pos},
-		{"k", f.K.Set, f.K.Pos},
-		{"discount", f.Discount.Set, f.Discount.Pos},
-		{"drop_penalty", f.DropPenalty.Set, f.DropPenalty.Pos},
+	kind, ok := agents.Lookup(a.Kind.S)
+	if !ok {
+		return agents.Params{}, c.errf(a.Kind.Pos, "agents[%d].kind: unknown agent kind %q (known: %s)", i, a.Kind.S, known)
 	}
 	where := map[string]yamlx.Pos{"kind": a.Kind.Pos, "label": a.Label.Pos}
-	for _, s := range set {
-		if !s.set {
-			continue
+	for _, v := range a.Fields {
+		if _, ok := kind.Field(v.Name); !ok {
+			return agents.Params{}, c.errf(v.Value.at(), "agents[%d].%s: not a field of kind %s (fields: %s)", i, v.Name, kind.Name,
+				strings.Join(append([]string{"kind", "label"}, agents.Fields(kind.Name)...), ", "))
 		}
-		if !slices.Contains(valid, s.name) {
-			return agents.Params{}, c.errf(s.pos, "agents[%d].%s: not a field of kind %s (fields: %s)", i, s.name, kind, strings.Join(append([]string{"kind", "label"}, valid...), ", "))
+		where[v.Name] = v.Value.at()
+	}
+	p := agents.Defaults(kind.Name)
+	if a.Label.Set {
+		if strings.TrimSpace(a.Label.S) == "" {
+			return agents.Params{}, c.errf(a.Label.Pos, "agents[%d].label: must not be empty", i)
 		}
-		where[s.name] = s.pos
+		p.Label = a.Label.S
 	}
-	p := agents.Defaults(kind)
-	if f.Label.Set {
-		if strings.TrimSpace(f.Label.S) == "" {
-			return agents.Params{}, c.errf(f.Label.Pos, "agents[%d].label: must not be empty", i)
-		}
-		p.Label = f.Label.S
-	}
-	if f.Metric.Set {
-		p.Metric = f.Metric.S
-	}
-	if f.ECMP.Set {
-		p.ECMP = f.ECMP.V
-	}
-	if f.SPFDelay.Set {
-		p.SPFDelay = sim.Time(f.SPFDelay.D)
-	}
-	if f.Variant.Set {
-		p.Variant = f.Variant.S
-	}
-	if f.Feedback.Set {
-		p.Feedback = f.Feedback.S
-	}
-	if f.LearningRate.Set {
-		p.LearningRate = f.LearningRate.V
-	}
-	if f.Explore.Set {
-		p.Explore = f.Explore.V
-	}
-	if f.Consensus.Set {
-		cs := f.Consensus
-		if !cs.Every.Set {
-			return agents.Params{}, c.errf(cs.Pos, "agents[%d].consensus.every: required (interval between rounds, e.g. 1s)", i)
-		}
-		w := 0.5
-		if cs.Weight.Set {
-			w = cs.Weight.V
-			where["consensus.weight"] = cs.Weight.Pos
-		}
-		where["consensus.every"] = cs.Every.Pos
-		p.Consensus = &agents.Consensus{Every: sim.Time(cs.Every.D), Weight: w}
-		if cs.SplitHorizon != nil {
-			if p.Kind != agents.QRoutingKind {
-				return agents.Params{}, c.errf(cs.Pos, "agents[%d].consensus.split_horizon: applies to q-routing only (q-network consensus averages parameters)", i)
+	for _, v := range a.Fields {
+		if cs, ok := v.Value.(*consensusYAML); ok {
+			if !cs.Every.Set {
+				return agents.Params{}, c.errf(cs.Pos, "agents[%d].consensus.every: required (interval between rounds, e.g. 1s)", i)
 			}
-			p.Consensus.SplitHorizon = *cs.SplitHorizon
+			if cs.Weight.Set {
+				where["consensus.weight"] = cs.Weight.Pos
+			}
+			where["consensus.every"] = cs.Every.Pos
+			where["consensus.split_horizon"] = cs.Pos
 		}
-	}
-	if f.Hidden.Set {
-		p.Hidden = nil
-		for _, h := range f.Hidden.Items {
-			p.Hidden = append(p.Hidden, h.V)
-		}
-	}
-	if f.Replay.Set {
-		p.Replay = f.Replay.V
-	}
-	if f.TargetSync.Set {
-		p.TargetSync = f.TargetSync.V
-	}
-	if f.Every.Set {
-		p.Every = sim.Time(f.Every.D)
-	}
-	if f.ControlDelay.Set {
-		p.ControlDelay = sim.Time(f.ControlDelay.D)
-	}
-	if f.HoldDown.Set {
-		p.HoldDown = sim.Time(f.HoldDown.D)
-	}
-	if f.Smoothing.Set {
-		p.Smoothing = f.Smoothing.V
-	}
-	if f.K.Set {
-		p.K = f.K.V
-	}
-	if f.Discount.Set {
-		p.Discount = f.Discount.V
-	}
-	if f.DropPenalty.Set {
-		p.DropPenalty = sim.Time(f.DropPenalty.D)
+		f, _ := kind.Field(v.Name)
+		v.Value.store(f.Ptr(&p))
 	}
 	if err := p.Validate(); err != nil {
 		var pe *agents.ParamError

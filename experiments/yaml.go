@@ -1,12 +1,15 @@
 package experiments
 
 import (
+	"fmt"
 	"strconv"
 	"strings"
 
 	"github.com/goccy/go-yaml/ast"
 
+	"hoplore/agents"
 	"hoplore/internal/yamlx"
+	"hoplore/sim"
 	"hoplore/topologies"
 )
 
@@ -328,38 +331,28 @@ func (s *sizeYAML) UnmarshalYAML(n ast.Node) error {
 }
 
 // agentYAML is one entry of agents: a kind's name or a mapping with kind,
-// label and the kind's fields.
+// label and fields of the registered kinds (agents.Kind.Fields), decoded by
+// their type; which fields a kind accepts is checked later.
 type agentYAML struct {
-	Pos yamlx.Pos `yaml:"-"`
-	agentFields
+	Pos    yamlx.Pos
+	Kind   yamlx.String
+	Label  yamlx.String
+	Fields []agentValue // in file order
 }
 
-// agentFields is the union of every kind's fields; which may be set depends
-// on the kind (agents.Fields).
-type agentFields struct {
-	Kind  yamlx.String `yaml:"kind"`
-	Label yamlx.String `yaml:"label"`
+// agentValue is one field of an agent entry.
+type agentValue struct {
+	Name   string
+	KeyPos yamlx.Pos
+	Value  agentFieldValue
+}
 
-	Metric   yamlx.String   `yaml:"metric"`
-	ECMP     boolYAML       `yaml:"ecmp"`
-	SPFDelay yamlx.Duration `yaml:"spf_delay"`
-
-	Variant      yamlx.String   `yaml:"variant"`
-	Feedback     yamlx.String   `yaml:"feedback"`
-	LearningRate yamlx.Float    `yaml:"learning_rate"`
-	Explore      yamlx.Float    `yaml:"explore"`
-	Consensus    consensusYAML  `yaml:"consensus"`
-	Hidden       seq[yamlx.Int] `yaml:"hidden"`
-	Replay       yamlx.Int      `yaml:"replay"`
-	TargetSync   yamlx.Int      `yaml:"target_sync"`
-
-	Every        yamlx.Duration `yaml:"every"`
-	ControlDelay yamlx.Duration `yaml:"control_delay"`
-	HoldDown     yamlx.Duration `yaml:"hold_down"`
-	Smoothing    yamlx.Float    `yaml:"smoothing"`
-	K            yamlx.Int      `yaml:"k"`
-	Discount     yamlx.Float    `yaml:"discount"`
-	DropPenalty  yamlx.Duration `yaml:"drop_penalty"`
+// agentFieldValue is the decoded value of one agent field.
+type agentFieldValue interface {
+	// at returns where the value was written.
+	at() yamlx.Pos
+	// store sets the field's value in p; ptr is agents.Field.Ptr(p).
+	store(ptr any)
 }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.
@@ -368,19 +361,101 @@ func (a *agentYAML) UnmarshalYAML(n ast.Node) error {
 	if isScalar(n) {
 		return a.Kind.UnmarshalYAML(n)
 	}
-	if _, ok := mappingPairs(n); !ok {
+	kv, ok := mappingPairs(n)
+	if !ok {
 		return yamlx.At(a.Pos, "an agent is a kind's name or a mapping {kind: KIND, ...}")
 	}
-	return yamlx.DecodeNode(n, &a.agentFields)
+	for _, p := range kv {
+		var err error
+		switch name := keyName(p.Key); name {
+		case "kind":
+			err = a.Kind.UnmarshalYAML(p.Value)
+		case "label":
+			err = a.Label.UnmarshalYAML(p.Value)
+		default:
+			f, ok := agents.FieldNamed(name)
+			if !ok {
+				return yamlx.At(yamlx.PosOf(p.Key), "unknown field %q", name)
+			}
+			var v agentFieldValue
+			v, err = decodeAgentValue(f, p.Value)
+			a.Fields = append(a.Fields, agentValue{Name: name, KeyPos: yamlx.PosOf(p.Key), Value: v})
+		}
+		if err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
+// decodeAgentValue decodes n as a value of field f's type.
+func decodeAgentValue(f *agents.Field, n ast.Node) (agentFieldValue, error) {
+	v := newAgentValue(f)
+	return v, v.UnmarshalYAML(n)
+}
+
+// newAgentValue returns an empty value of field f's type. It panics for a
+// type experiment files cannot spell (a programming mistake in a kind's
+// registration, which the package's tests catch for every registered field).
+func newAgentValue(f *agents.Field) interface {
+	agentFieldValue
+	UnmarshalYAML(ast.Node) error
+} {
+	var scratch agents.Params
+	switch f.Ptr(&scratch).(type) {
+	case *string:
+		return new(stringValue)
+	case *bool:
+		return new(boolYAML)
+	case *int:
+		return new(intValue)
+	case *float64:
+		return new(floatValue)
+	case *sim.Time:
+		return new(durationValue)
+	case *[]int:
+		return new(intsValue)
+	case **agents.Consensus:
+		return new(consensusYAML)
+	}
+	panic(fmt.Sprintf("experiments: agent field %s has type %T, which experiment files cannot spell", f.Name, f.Ptr(&scratch)))
+}
+
+type (
+	stringValue   struct{ yamlx.String }
+	intValue      struct{ yamlx.Int }
+	floatValue    struct{ yamlx.Float }
+	durationValue struct{ yamlx.Duration }
+	intsValue     struct{ seq[yamlx.Int] }
+)
+
+func (v *stringValue) at() yamlx.Pos   { return v.Pos }
+func (v *boolYAML) at() yamlx.Pos      { return v.Pos }
+func (v *intValue) at() yamlx.Pos      { return v.Pos }
+func (v *floatValue) at() yamlx.Pos    { return v.Pos }
+func (v *durationValue) at() yamlx.Pos { return v.Pos }
+func (v *intsValue) at() yamlx.Pos     { return v.Pos }
+
+func (v *stringValue) store(ptr any)   { *ptr.(*string) = v.S }
+func (v *boolYAML) store(ptr any)      { *ptr.(*bool) = v.V }
+func (v *intValue) store(ptr any)      { *ptr.(*int) = v.V }
+func (v *floatValue) store(ptr any)    { *ptr.(*float64) = v.V }
+func (v *durationValue) store(ptr any) { *ptr.(*sim.Time) = sim.Time(v.D) }
+func (v *intsValue) store(ptr any) {
+	hs := make([]int, len(v.Items))
+	for i, h := range v.Items {
+		hs[i] = h.V
+	}
+	*ptr.(*[]int) = hs
+}
+
+// consensusYAML is the consensus field of the per-node learners.
 type consensusYAML struct {
-	Pos    yamlx.Pos      `yaml:"-"`
-	Set    bool           `yaml:"-"`
-	Every  yamlx.Duration `yaml:"every"`
-	Weight yamlx.Float    `yaml:"weight"`
-	// SplitHorizon: see agents.Consensus.
-	SplitHorizon *bool `yaml:"split_horizon"`
+	Pos          yamlx.Pos      `yaml:"-"`
+	Set          bool           `yaml:"-"`
+	Every        yamlx.Duration `yaml:"every"`
+	Weight       yamlx.Float    `yaml:"weight"`
+	SplitHorizon boolYAML       `yaml:"split_horizon"` // see agents.Consensus
 }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.
@@ -393,6 +468,17 @@ func (c *consensusYAML) UnmarshalYAML(n ast.Node) error {
 	*c = consensusYAML(p)
 	c.Pos, c.Set = nodePos(n), true
 	return nil
+}
+
+func (c *consensusYAML) at() yamlx.Pos { return c.Pos }
+
+// store sets the consensus; the checker has made sure every is given.
+func (c *consensusYAML) store(ptr any) {
+	w := 0.5
+	if c.Weight.Set {
+		w = c.Weight.V
+	}
+	*ptr.(**agents.Consensus) = &agents.Consensus{Every: sim.Time(c.Every.D), Weight: w, SplitHorizon: c.SplitHorizon.V}
 }
 
 // failureYAML is one failure schedule: `none` or a mapping.

@@ -7,6 +7,7 @@ package agenttest
 
 import (
 	"reflect"
+	"strings"
 	"testing"
 
 	"hoplore/agents"
@@ -19,6 +20,7 @@ func Run(t *testing.T, p agents.Params) {
 	if err := p.Validate(); err != nil {
 		t.Fatalf("params: %v", err)
 	}
+	t.Run("kind", func(t *testing.T) { checkKind(t, p) })
 	low := []struct {
 		name string
 		g    *sim.Graph
@@ -76,6 +78,41 @@ func Run(t *testing.T, p agents.Params) {
 		}
 		checkConservation(t, a)
 	})
+}
+
+// checkKind checks what the kind's registration promises: its defaults
+// pass its checks and label as the bare kind, a central kind builds a
+// sim.Central (which takes control_delay) and a per-node kind a
+// sim.PerNode, and p's canonical label names every field that differs from
+// the defaults.
+func checkKind(t *testing.T, p agents.Params) {
+	k, ok := agents.Lookup(p.Kind)
+	if !ok {
+		t.Fatalf("kind %q is not registered", p.Kind)
+	}
+	d := agents.Defaults(p.Kind)
+	if err := d.Validate(); err != nil {
+		t.Errorf("defaults of %s fail their own checks: %v", p.Kind, err)
+	}
+	if got := d.Canonical(); got != p.Kind {
+		t.Errorf("defaults label as %q, want %q", got, p.Kind)
+	}
+	a, err := agents.New(p, sim.Compile(Ring(4)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, central := a.(sim.Central)
+	_, perNode := a.(sim.PerNode)
+	if central != k.Central || perNode == k.Central {
+		t.Errorf("registered central=%v, but the agent is a sim.Central: %v, a sim.PerNode: %v", k.Central, central, perNode)
+	}
+	label := p.Canonical()
+	for i := range k.Fields {
+		f := &k.Fields[i]
+		if in := strings.Contains(label, f.Name+"="+f.Text(&p)); in == f.IsDefault(&p) && p.Label == "" {
+			t.Errorf("label %q: field %s=%s is default: %v", label, f.Name, f.Text(&p), f.IsDefault(&p))
+		}
+	}
 }
 
 func checkConservation(t *testing.T, r *sim.Result) {
