@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"sort"
 	"strings"
 
 	"github.com/goccy/go-yaml/ast"
@@ -206,6 +207,29 @@ func decodeYAML(path string, data []byte, v any) (err error) {
 // link, else defaults, else DefaultBandwidth and DefaultBuffer. Nodes must
 // all use the same kind of coordinates (x_km/y_km or lat/lon) or none.
 func BuildFile(path string, f *File) (*sim.Graph, error) {
+	g, _, err := buildFile(path, f, buildOptions{})
+	return g, err
+}
+
+// buildOptions relax BuildFile for files written by other tools.
+type buildOptions struct {
+	mergeParallel bool // links joining the same pair become one, bandwidths summed
+	keepLargest   bool // keep the largest component, drop the others
+}
+
+// buildStats counts where each link's values came from, and what was merged
+// or dropped, for a reader's Provenance.
+type buildStats struct {
+	bwOwn, bwDefaults, bwDefault        int
+	delayOwn, delayDefaults, delayCoord int
+	delayDefault                        int
+	bufOwn, bufDefaults, bufDefault     int
+	coordKind                           sim.Coord
+	notes                               []string
+}
+
+func buildFile(path string, f *File, o buildOptions) (*sim.Graph, *buildStats, error) {
+	st := &buildStats{}
 	errAt := func(pos yamlx.Pos, format string, args ...any) error {
 		return yamlx.Errorf(path, pos, format, args...)
 	}
@@ -217,16 +241,16 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 	bandwidth, buffer := float64(DefaultBandwidth), DefaultBuffer
 	if d.Bandwidth.Set {
 		if err := checkBandwidth(d.Bandwidth.BPS); err != "" {
-			return nil, errAt(d.Bandwidth.Pos, "defaults.bandwidth: %s", err)
+			return nil, nil, errAt(d.Bandwidth.Pos, "defaults.bandwidth: %s", err)
 		}
 		bandwidth = d.Bandwidth.BPS
 	}
 	if d.Delay.Set && d.Delay.D < 0 {
-		return nil, errAt(d.Delay.Pos, "defaults.delay: must not be negative, got %v", d.Delay.D)
+		return nil, nil, errAt(d.Delay.Pos, "defaults.delay: must not be negative, got %v", d.Delay.D)
 	}
 	if d.Buffer.Set {
 		if d.Buffer.V < 0 {
-			return nil, errAt(d.Buffer.Pos, "defaults.buffer: must not be negative, got %d", d.Buffer.V)
+			return nil, nil, errAt(d.Buffer.Pos, "defaults.buffer: must not be negative, got %d", d.Buffer.V)
 		}
 		buffer = d.Buffer.V
 	}
@@ -236,7 +260,7 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 		if pos == (yamlx.Pos{}) {
 			pos = f.Pos
 		}
-		return nil, errAt(pos, "nodes: a topology needs at least one node")
+		return nil, nil, errAt(pos, "nodes: a topology needs at least one node")
 	}
 	index := make(map[string]int, len(f.Nodes))
 	coordOf := -1 // first node with coordinates
@@ -247,10 +271,10 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 			if pos == (yamlx.Pos{}) {
 				pos = f.NodesPos
 			}
-			return nil, errAt(pos, "nodes: node %d has an empty name", i+1)
+			return nil, nil, errAt(pos, "nodes: node %d has an empty name", i+1)
 		}
 		if j, dup := index[name]; dup {
-			return nil, errAt(s.Name.Pos, "nodes: node %q is listed twice (first at line %d)", name, f.Nodes[j].Name.Pos.Line)
+			return nil, nil, errAt(s.Name.Pos, "nodes: node %q is listed twice (first at line %d)", name, f.Nodes[j].Name.Pos.Line)
 		}
 		index[name] = i
 		n := sim.Node{Name: name}
@@ -261,14 +285,14 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 			if !s.Lat.Set {
 				p = s.Lon.Pos
 			}
-			return nil, errAt(p, "node %q: give either x_km/y_km or lat/lon, not both", name)
+			return nil, nil, errAt(p, "node %q: give either x_km/y_km or lat/lon, not both", name)
 		case plane:
 			if !s.X.Set || !s.Y.Set {
 				p := s.X.Pos
 				if !s.X.Set {
 					p = s.Y.Pos
 				}
-				return nil, errAt(p, "node %q: x_km and y_km go together", name)
+				return nil, nil, errAt(p, "node %q: x_km and y_km go together", name)
 			}
 			n.Coord, n.X, n.Y = sim.Plane, s.X.V, s.Y.V
 		case geo:
@@ -277,37 +301,40 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 				if !s.Lat.Set {
 					p = s.Lon.Pos
 				}
-				return nil, errAt(p, "node %q: lat and lon go together", name)
+				return nil, nil, errAt(p, "node %q: lat and lon go together", name)
 			}
 			if s.Lat.V < -90 || s.Lat.V > 90 {
-				return nil, errAt(s.Lat.Pos, "node %q: lat must be between -90 and 90, got %g", name, s.Lat.V)
+				return nil, nil, errAt(s.Lat.Pos, "node %q: lat must be between -90 and 90, got %g", name, s.Lat.V)
 			}
 			if s.Lon.V < -180 || s.Lon.V > 180 {
-				return nil, errAt(s.Lon.Pos, "node %q: lon must be between -180 and 180, got %g", name, s.Lon.V)
+				return nil, nil, errAt(s.Lon.Pos, "node %q: lon must be between -180 and 180, got %g", name, s.Lon.V)
 			}
 			n.Coord, n.Lat, n.Lon = sim.Geo, s.Lat.V, s.Lon.V
 		}
 		if n.Coord != sim.NoCoord {
 			if coordOf < 0 {
 				coordOf = i
+				st.coordKind = n.Coord
 			} else if first := g.Nodes[coordOf]; first.Coord != n.Coord {
 				p := s.X.Pos
 				if n.Coord == sim.Geo {
 					p = s.Lat.Pos
 				}
-				return nil, errAt(p, "node %q: uses %s but node %q (line %d) uses %s; use one kind of coordinates", name, coordName(n.Coord), first.Name, f.Nodes[coordOf].Pos.Line, coordName(first.Coord))
+				return nil, nil, errAt(p, "node %q: uses %s but node %q (line %d) uses %s; use one kind of coordinates", name, coordName(n.Coord), first.Name, f.Nodes[coordOf].Pos.Line, coordName(first.Coord))
 			}
 		}
 		if s.Processing.Set {
 			if s.Processing.D < 0 {
-				return nil, errAt(s.Processing.Pos, "node %q: processing must not be negative, got %v", name, s.Processing.D)
+				return nil, nil, errAt(s.Processing.Pos, "node %q: processing must not be negative, got %v", name, s.Processing.D)
 			}
 			n.Processing = sim.Time(s.Processing.D)
 		}
 		g.Nodes = append(g.Nodes, n)
 	}
 
-	pairs := make(map[[2]int]int, len(f.Links))
+	pairs := make(map[[2]int]int, len(f.Links))  // pair -> index in f.Links
+	linkOf := make(map[[2]int]int, len(f.Links)) // pair -> index in g.Links
+	merged := map[int]int{}                      // index in g.Links -> edges merged into it
 	for i, s := range f.Links {
 		if s.Pos == (yamlx.Pos{}) {
 			s.Pos = f.LinksPos
@@ -324,58 +351,142 @@ func BuildFile(path string, f *File) (*sim.Graph, error) {
 		}
 		a, err := end(s.A, "a")
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		b, err := end(s.B, "b")
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		if a == b {
-			return nil, errAt(s.B.Pos, "link %d: joins node %q to itself", i+1, s.A.S)
+			return nil, nil, errAt(s.B.Pos, "link %d: joins node %q to itself", i+1, s.A.S)
 		}
 		key := [2]int{min(a, b), max(a, b)}
-		if j, dup := pairs[key]; dup {
-			return nil, errAt(s.Pos, "link %d: %s-%s is listed twice (first at line %d)", i+1, s.A.S, s.B.S, f.Links[j].Pos.Line)
+		j, dup := pairs[key]
+		if dup && !o.mergeParallel {
+			return nil, nil, errAt(s.Pos, "link %d: %s-%s is listed twice (first at line %d)", i+1, s.A.S, s.B.S, f.Links[j].Pos.Line)
 		}
-		pairs[key] = i
 		l := sim.Link{A: a, B: b, Bandwidth: bandwidth, Buffer: buffer}
 		if s.Bandwidth.Set {
 			if err := checkBandwidth(s.Bandwidth.BPS); err != "" {
-				return nil, errAt(s.Bandwidth.Pos, "link %s-%s: bandwidth: %s", s.A.S, s.B.S, err)
+				return nil, nil, errAt(s.Bandwidth.Pos, "link %s-%s: bandwidth: %s", s.A.S, s.B.S, err)
 			}
 			l.Bandwidth = s.Bandwidth.BPS
+			st.bwOwn++
+		} else if d.Bandwidth.Set {
+			st.bwDefaults++
+		} else {
+			st.bwDefault++
 		}
 		if s.Buffer.Set {
 			if s.Buffer.V < 0 {
-				return nil, errAt(s.Buffer.Pos, "link %s-%s: buffer: must not be negative, got %d", s.A.S, s.B.S, s.Buffer.V)
+				return nil, nil, errAt(s.Buffer.Pos, "link %s-%s: buffer: must not be negative, got %d", s.A.S, s.B.S, s.Buffer.V)
 			}
 			l.Buffer = s.Buffer.V
+			st.bufOwn++
+		} else if d.Buffer.Set {
+			st.bufDefaults++
+		} else {
+			st.bufDefault++
 		}
 		switch {
 		case s.Delay.Set:
 			if s.Delay.D < 0 {
-				return nil, errAt(s.Delay.Pos, "link %s-%s: delay: must not be negative, got %v", s.A.S, s.B.S, s.Delay.D)
+				return nil, nil, errAt(s.Delay.Pos, "link %s-%s: delay: must not be negative, got %v", s.A.S, s.B.S, s.Delay.D)
 			}
 			l.Delay = sim.Time(s.Delay.D)
+			st.delayOwn++
 		case d.Delay.Set:
 			l.Delay = sim.Time(d.Delay.D)
+			st.delayDefaults++
 		default:
-			l.Delay = coordDelay(g.Nodes[a], g.Nodes[b])
+			var ok bool
+			if l.Delay, ok = sim.PropagationDelay(g.Nodes[a], g.Nodes[b]); ok {
+				st.delayCoord++
+			} else {
+				l.Delay = DefaultDelay
+				st.delayDefault++
+			}
 		}
+		if dup {
+			// A parallel edge: one link carries the sum of the bandwidths and
+			// keeps the first edge's delay and buffer.
+			k := linkOf[key]
+			g.Links[k].Bandwidth += l.Bandwidth
+			merged[k]++
+			continue
+		}
+		pairs[key] = i
+		linkOf[key] = len(g.Links)
 		g.Links = append(g.Links, l)
+	}
+	if len(merged) > 0 {
+		ks := make([]int, 0, len(merged))
+		for k := range merged {
+			ks = append(ks, k)
+		}
+		sort.Ints(ks)
+		parts := make([]string, 0, len(ks))
+		for _, k := range ks {
+			l := g.Links[k]
+			parts = append(parts, fmt.Sprintf("%s-%s (%d edges, %s)", g.Nodes[l.A].Name, g.Nodes[l.B].Name, merged[k]+1, yamlBandwidth(l.Bandwidth)))
+		}
+		st.notes = append(st.notes, fmt.Sprintf("parallel edges merged into one link each, bandwidths summed, delay and buffer of the first edge: %s", strings.Join(parts, ", ")))
 	}
 
 	if comps := g.Components(); len(comps) > 1 {
-		pos, field := f.LinksPos, "links: "
-		if pos == (yamlx.Pos{}) {
-			pos, field = f.Pos, ""
+		if o.keepLargest {
+			g, st.notes = keepLargest(g, comps, st.notes)
+		} else {
+			pos, field := f.LinksPos, "links: "
+			if pos == (yamlx.Pos{}) {
+				pos, field = f.Pos, ""
+			}
+			return nil, nil, errAt(pos, "%stopology %q is not connected: %s", field, g.Name, describeComponents(g, comps))
 		}
-		return nil, errAt(pos, "%stopology %q is not connected: %s", field, g.Name, describeComponents(g, comps))
 	}
 	if err := g.Validate(); err != nil {
-		return nil, errAt(f.Pos, "%v", err)
+		return nil, nil, errAt(f.Pos, "%v", err)
 	}
-	return g, nil
+	return g, st, nil
+}
+
+// keepLargest returns the subgraph of g on its largest component (the
+// first, by lowest node index, among equally large ones) and a note naming
+// what was dropped.
+func keepLargest(g *sim.Graph, comps [][]int, notes []string) (*sim.Graph, []string) {
+	best := 0
+	for i, c := range comps {
+		if len(c) > len(comps[best]) {
+			best = i
+		}
+	}
+	keep := make([]int, len(g.Nodes))
+	for i := range keep {
+		keep[i] = -1
+	}
+	out := &sim.Graph{Name: g.Name}
+	for _, n := range comps[best] {
+		keep[n] = len(out.Nodes)
+		out.Nodes = append(out.Nodes, g.Nodes[n])
+	}
+	dropped := 0
+	for _, l := range g.Links {
+		if keep[l.A] < 0 {
+			dropped++
+			continue
+		}
+		l.A, l.B = keep[l.A], keep[l.B]
+		out.Links = append(out.Links, l)
+	}
+	rest := make([][]int, 0, len(comps)-1)
+	for i, c := range comps {
+		if i != best {
+			rest = append(rest, c)
+		}
+	}
+	notes = append(notes, fmt.Sprintf("kept the largest component (%d of %d nodes); dropped %d nodes and %d links in %s",
+		len(out.Nodes), len(g.Nodes), len(g.Nodes)-len(out.Nodes), dropped, describeComponents(g, rest)))
+	return out, notes
 }
 
 // coordDelay is the propagation delay implied by the coordinates of a and b,

@@ -70,6 +70,10 @@ var malformed = []struct {
 	{"graphml-two-graphs", "t.graphml", "<graphml>\n  <graph edgedefault=\"undirected\"><node id=\"a\"/></graph>\n  <graph edgedefault=\"undirected\"><node id=\"b\"/></graph>\n</graphml>\n", "t.graphml:3:3: "},
 	{"graphml-mixed-coords", "t.graphml", "<graphml>\n  <key id=\"x\" for=\"node\" attr.name=\"x_km\"/><key id=\"y\" for=\"node\" attr.name=\"y_km\"/><key id=\"la\" for=\"node\" attr.name=\"lat\"/>\n  <graph edgedefault=\"undirected\">\n    <node id=\"a\"><data key=\"x\">1</data><data key=\"y\">2</data><data key=\"la\">3</data></node>\n  </graph>\n</graphml>\n", "t.graphml:4:62: "},
 	{"graphml-empty", "t.graphml", "", "t.graphml:1:1: "},
+	{"graphml-unknown-speed-unit", "t.graphml", "<graphml>\n  <key id=\"s\" for=\"edge\" attr.name=\"LinkSpeed\"/><key id=\"u\" for=\"edge\" attr.name=\"LinkSpeedUnits\"/>\n  <graph edgedefault=\"undirected\">\n    <node id=\"a\"/><node id=\"b\"/>\n    <edge source=\"a\" target=\"b\"><data key=\"s\">10</data><data key=\"u\">Q</data></edge>\n  </graph>\n</graphml>\n", "t.graphml:5:56: "},
+	{"graphml-speed-without-unit", "t.graphml", "<graphml>\n  <key id=\"s\" for=\"edge\" attr.name=\"LinkSpeed\"/>\n  <graph edgedefault=\"undirected\">\n    <node id=\"a\"/><node id=\"b\"/>\n    <edge source=\"a\" target=\"b\"><data key=\"s\">10</data></edge>\n  </graph>\n</graphml>\n", "t.graphml:5:33: "},
+	{"graphml-negative-speed", "t.graphml", "<graphml>\n  <key id=\"r\" for=\"edge\" attr.name=\"linkspeedraw\"/>\n  <graph edgedefault=\"undirected\">\n    <node id=\"a\"/><node id=\"b\"/>\n    <edge source=\"a\" target=\"b\"><data key=\"r\">-1e9</data></edge>\n  </graph>\n</graphml>\n", "t.graphml:5:33: "},
+	{"graphml-negative-bandwidth", "t.graphml", "<graphml>\n  <key id=\"w\" for=\"edge\" attr.name=\"bandwidth\"/>\n  <graph edgedefault=\"undirected\">\n    <node id=\"a\"/><node id=\"b\"/>\n    <edge source=\"a\" target=\"b\"><data key=\"w\">-5Mbps</data></edge>\n  </graph>\n</graphml>\n", "t.graphml:5:33: "},
 }
 
 // TestMalformed checks that every malformed file gives a *yamlx.Error at
@@ -268,7 +272,7 @@ func TestParseGraphML(t *testing.T) {
 	}
 	north := sim.Node{Name: "north", Coord: sim.Geo, Lat: 10, Lon: 20}
 	south := sim.Node{Name: "south", Coord: sim.Geo, Lat: 9, Lon: 20}
-	two := sim.Node{Name: "2", Coord: sim.Geo, Lat: 9, Lon: 21}
+	two := sim.Node{Name: "just a label", Coord: sim.Geo, Lat: 9, Lon: 21}
 	d20, _ := sim.PropagationDelay(two, north)
 	want := &sim.Graph{Name: "trio", Nodes: []sim.Node{north, south, two}, Links: []sim.Link{
 		{A: 0, B: 1, Bandwidth: 5e6, Delay: 2 * sim.Millisecond, Buffer: 20},
