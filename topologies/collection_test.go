@@ -77,10 +77,10 @@ func TestReadGraphMLCollectionLayout(t *testing.T) {
 		"bandwidth: 2 edges from LinkSpeedRaw (bit/s) × 0.001, 4 edges from LinkSpeed × LinkSpeedUnits × 0.001, 1 edge default 10Mbps",
 		"delay: 7 edges from great-circle distance (haversine) at 2·10^8 m/s",
 		"buffer: 7 edges default 64 packets",
-		"ignored: Network (graph, 1 values), Internal (node, 1 values), Country (node, 2 values), LinkLabel (edge labels, 2 values: not used by the model)",
+		"ignored: Network (graph, 1 value), Internal (node, 1 value), Country (node, 2 values), LinkLabel (edge labels, 2 values: not used by the model)",
 		"note: labels shared by several nodes, named label#id: Gilden#3, Gilden#4",
 		"note: parallel edges merged into one link each, bandwidths summed, delay and buffer of the first edge: Arvenport-Bellcaster (2 edges, 11Mbps)",
-		"note: kept the largest component (5 of 8 nodes); dropped 3 nodes and 1 links in 2 components {Farrowby Hollin}, {7}",
+		"note: kept the largest component (5 of 8 nodes); dropped 3 nodes and 1 link in 2 components {Farrowby Hollin}, {7}",
 	}
 	if got := pv.Lines(); !reflect.DeepEqual(got, wantLines) {
 		t.Errorf("provenance:\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(wantLines, "\n"))
@@ -97,7 +97,7 @@ func abs(x float64) float64 {
 func TestReadGraphMLOptions(t *testing.T) {
 	t.Run("disconnected without keep", func(t *testing.T) {
 		_, _, err := readFixture(t, ReadOptions{})
-		want := `collection-layout.graphml:16:3: links: topology "collection-layout" is not connected: 3 components {Arvenport Bellcaster Corlund Gilden#3 Gilden#4}, {Farrowby Hollin}, {7}`
+		want := `collection-layout.graphml:16:3: links: topology "collection-layout" is not connected: 3 components {Arvenport Bellcaster Corlund Gilden#3 Gilden#4}, {Farrowby Hollin}, {7} (keep: largest-component keeps only the largest)`
 		if err == nil || !strings.HasSuffix(err.Error(), want) {
 			t.Errorf("got %v, want …%s", err, want)
 		}
@@ -161,7 +161,7 @@ func TestReadGraphMLAttributes(t *testing.T) {
 		t.Errorf("got  %+v\nwant %+v", g, want)
 	}
 	if got := strings.Join(pv.Lines(), "\n"); !strings.Contains(got, "bandwidth: 1 edge from capacity (bit/s or SI) × 0.001") ||
-		!strings.Contains(got, "ignored: label (node, 1 values)") || !strings.Contains(got, "delay: 1 edge from latency") {
+		!strings.Contains(got, "ignored: label (node, 1 value)") || !strings.Contains(got, "delay: 1 edge from latency") {
 		t.Errorf("provenance:\n%s", got)
 	}
 }

@@ -127,15 +127,66 @@
 //
 // # GraphML
 //
-// ParseGraphML (and Load, for names ending in .graphml or .xml) reads one
-// undirected graph. Attributes are declared with <key> elements and known
-// by their attr.name: on edges bandwidth (bit/s, or an SI string such as
-// 10Mbps), delay (seconds, or a Go duration such as 4ms) and buffer
-// (packets); on nodes x_km/y_km or lat/lon, processing (seconds or a
-// duration) and name (else the node's id names it); on the graph name.
-// Key defaults apply, other attributes and foreign elements are ignored,
-// and the same defaults and checks as for YAML files apply. Malformed XML,
-// directed graphs, hyperedges and nested graphs are errors at their line
-// and column. WriteGraphML and WriteYAML export any graph so that the
-// readers give it back identically.
+// ReadGraphML (and Load, for names ending in .graphml or .xml whose root
+// element is <graphml>) reads one undirected graph. Attributes are declared
+// with <key> elements and recognised by their attr.name, case-insensitively:
+//
+//	field        node/edge  attribute names                      value
+//	name         node       name, then label                     text (else the node's id)
+//	coordinates  node       x_km/y_km; lat or latitude,          km; degrees
+//	                        lon or longitude (long, lng)
+//	processing   node       processing                           seconds or a duration
+//	bandwidth    edge       bandwidth                            bit/s or an SI rate, not scaled
+//	                        LinkSpeedRaw                         bit/s, scaled
+//	                        LinkSpeed with LinkSpeedUnits        number × K, M, G or T bit/s, scaled
+//	delay        edge       delay                                seconds or a duration
+//	buffer       edge       buffer                               packets
+//	             edge       LinkLabel                            read and listed, not used
+//	name         graph      name
+//
+// The first group are hoplore's own names (WriteGraphML writes them); the
+// others are those of the public topology collections' GraphML layout. An
+// edge's bandwidth is its bandwidth, else LinkSpeedRaw, else LinkSpeed ×
+// LinkSpeedUnits. Measured speeds are multiplied by a bandwidth scale,
+// DefaultSpeedScale = 10^-3 unless ReadOptions.BandwidthScale says
+// otherwise, so that a 10 Gbit/s link becomes 10 Mbit/s: the bundled
+// generators scale real speeds down the same way so that minutes of
+// simulated time cost seconds of CPU. hoplore's own bandwidth key holds
+// model bit rates and is scaled only by an explicit BandwidthScale. For
+// other files, ReadOptions.Attributes maps a field (label, lat, lon, x_km,
+// y_km, processing, bandwidth, delay, buffer) to the attribute that holds
+// it; a mapped bandwidth is a measured speed.
+//
+// A label names its node when no other node has the same label; nodes that
+// share one are named label#id. Edges joining the same pair of nodes are
+// merged into one link whose bandwidth is the sum of theirs (delay and
+// buffer of the first). A disconnected file is an error naming its
+// components, unless ReadOptions.Keep is largest-component: then the
+// largest component (the first among equals) is kept and the rest dropped.
+// A link without a delay takes the propagation delay between its nodes'
+// coordinates at 2·10^8 m/s: great-circle distance by the haversine formula
+// (Sinnott 1984) for lat/lon, straight-line distance for x_km/y_km. Key
+// defaults apply; other attributes and foreign elements are ignored. The
+// Provenance returned beside the graph says, field by field, what was read
+// from which attribute, what took a default, which attributes no field
+// reads, and what was merged, renamed or dropped (hoplore topologies show
+// FILE prints it). Malformed XML, directed graphs, hyperedges, nested
+// graphs, unknown speed units, speeds that are not positive and speeds
+// without a unit are errors at their line and column. WriteGraphML and
+// WriteYAML export any graph so that the readers give it back identically.
+//
+// # Network-design XML
+//
+// ReadNetworkXML (and Load, for .xml files whose root element is
+// <network>) reads the network-design library XML layout: nodes named by
+// their id with <coordinates> <x>, <y> (longitude and latitude when <nodes
+// coordinatesType="geographical">, else plane coordinates read as km),
+// links with <source>, <target> and the sum of their <preInstalledModule>
+// capacities (additional modules are options of a design, not installed),
+// in ReadOptions.CapacityUnit (default Mbps, since the layout carries no
+// unit) times the bandwidth scale; a link with no pre-installed module
+// takes DefaultBandwidth. Parallel links are merged as in GraphML. The
+// file's <demands> (source, target, demandValue) are returned as written,
+// for use as a traffic matrix; a demand naming an unknown node is an error
+// at its position. Files declared in ISO-8859-1 are read too.
 package topologies

@@ -1,11 +1,14 @@
 package topologies
 
 import (
+	"bytes"
+	"encoding/xml"
 	"fmt"
 	"math"
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/goccy/go-yaml/ast"
@@ -161,18 +164,110 @@ func kind(n ast.Node) string {
 	return "a " + strings.ToLower(n.Type().String())
 }
 
-// Load reads the topology file at path: GraphML when its name ends in
-// .graphml or .xml, YAML otherwise.
+// Load reads the topology file at path with the zero ReadOptions; see
+// LoadWith.
 func Load(path string) (*sim.Graph, error) {
+	g, _, err := LoadWith(path, ReadOptions{})
+	return g, err
+}
+
+// LoadWith reads the topology file at path: GraphML (ReadGraphML) or the
+// network-design XML layout (ReadNetworkXML, its demands set aside) when its
+// name ends in .graphml or .xml, whichever its root element says, YAML
+// otherwise. It returns where each field came from. For a YAML file,
+// o.Keep and o.BandwidthScale apply (the scale multiplies every bandwidth;
+// by default YAML bandwidths are model bit rates, scaled by 1); attribute
+// mappings and capacity units are for the other layouts.
+func LoadWith(path string, o ReadOptions) (*sim.Graph, *Provenance, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return nil, fmt.Errorf("topologies: %w", err)
+		return nil, nil, fmt.Errorf("topologies: %w", err)
 	}
 	switch strings.ToLower(filepath.Ext(path)) {
 	case ".graphml", ".xml":
-		return ParseGraphML(path, data)
+		if rootElement(data) == "network" {
+			x, err := ReadNetworkXML(path, data, o)
+			if err != nil {
+				return nil, nil, err
+			}
+			return x.Graph, x.Provenance, nil
+		}
+		return ReadGraphML(path, data, o)
 	}
-	return ParseFile(path, data)
+	if err := o.check(); err != nil {
+		return nil, nil, err
+	}
+	if len(o.Attributes) > 0 {
+		return nil, nil, &OptionError{"attributes", "apply to GraphML files only; a YAML topology file names its fields"}
+	}
+	if o.CapacityUnit != "" {
+		return nil, nil, &OptionError{"capacity_unit", "applies to network-design XML files only"}
+	}
+	var f File
+	if err := decodeYAML(path, data, &f); err != nil {
+		return nil, nil, err
+	}
+	g, st, err := buildFile(path, &f, buildOptions{keepLargest: o.Keep == KeepLargestComponent})
+	if err != nil {
+		return nil, nil, err
+	}
+	if o.BandwidthScale > 0 {
+		for i := range g.Links {
+			g.Links[i].Bandwidth *= o.BandwidthScale
+		}
+	}
+	return g, yamlProvenance(st, o), nil
+}
+
+// rootElement is the local name of data's first element, "" when none.
+func rootElement(data []byte) string {
+	d := xml.NewDecoder(bytes.NewReader(data))
+	d.CharsetReader = charsetReader
+	for {
+		tok, err := d.Token()
+		if err != nil {
+			return ""
+		}
+		if e, ok := tok.(xml.StartElement); ok {
+			return e.Name.Local
+		}
+	}
+}
+
+// yamlProvenance says where a YAML topology file's link values came from.
+func yamlProvenance(st *buildStats, o ReadOptions) *Provenance {
+	pv := &Provenance{}
+	line := func(field string, own, defs, other int, otherWhat string) {
+		var parts []string
+		if own > 0 {
+			parts = append(parts, fmt.Sprintf("%s from the link's %s", plural(own, "link"), field))
+		}
+		if defs > 0 {
+			parts = append(parts, fmt.Sprintf("%s from defaults.%s", plural(defs, "link"), field))
+		}
+		if other > 0 {
+			parts = append(parts, fmt.Sprintf("%s %s", plural(other, "link"), otherWhat))
+		}
+		if len(parts) > 0 {
+			pv.Fields = append(pv.Fields, field+": "+strings.Join(parts, ", "))
+		}
+	}
+	bw := "default " + yamlBandwidth(DefaultBandwidth)
+	line("bandwidth", st.bwOwn, st.bwDefaults, st.bwDefault, bw)
+	if o.BandwidthScale > 0 {
+		pv.Fields[len(pv.Fields)-1] += fmt.Sprintf(", all × %s", strconv.FormatFloat(o.BandwidthScale, 'g', -1, 64))
+	}
+	how := "from great-circle distance (haversine) at 2·10^8 m/s"
+	if st.coordKind == sim.Plane {
+		how = "from plane distance at 2·10^8 m/s"
+	}
+	line("delay", st.delayOwn, st.delayDefaults, st.delayCoord, how)
+	if st.delayDefault > 0 {
+		pv.Fields = append(pv.Fields, fmt.Sprintf("delay (no coordinates): %s default %s", plural(st.delayDefault, "link"), yamlDuration(DefaultDelay)))
+	}
+	line("buffer", st.bufOwn, st.bufDefaults, st.bufDefault, fmt.Sprintf("default %d packets", DefaultBuffer))
+	pv.Notes = st.notes
+	return pv
 }
 
 // ParseFile decodes the YAML topology file data (read from path, which only
@@ -441,7 +536,7 @@ func buildFile(path string, f *File, o buildOptions) (*sim.Graph, *buildStats, e
 			if pos == (yamlx.Pos{}) {
 				pos, field = f.Pos, ""
 			}
-			return nil, nil, errAt(pos, "%stopology %q is not connected: %s", field, g.Name, describeComponents(g, comps))
+			return nil, nil, errAt(pos, "%stopology %q is not connected: %s (keep: largest-component keeps only the largest)", field, g.Name, describeComponents(g, comps))
 		}
 	}
 	if err := g.Validate(); err != nil {
@@ -484,8 +579,8 @@ func keepLargest(g *sim.Graph, comps [][]int, notes []string) (*sim.Graph, []str
 			rest = append(rest, c)
 		}
 	}
-	notes = append(notes, fmt.Sprintf("kept the largest component (%d of %d nodes); dropped %d nodes and %d links in %s",
-		len(out.Nodes), len(g.Nodes), len(g.Nodes)-len(out.Nodes), dropped, describeComponents(g, rest)))
+	notes = append(notes, fmt.Sprintf("kept the largest component (%d of %d nodes); dropped %s and %s in %s",
+		len(out.Nodes), len(g.Nodes), plural(len(g.Nodes)-len(out.Nodes), "node"), plural(dropped, "link"), describeComponents(g, rest)))
 	return out, notes
 }
 

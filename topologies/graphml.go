@@ -100,6 +100,9 @@ type ReadOptions struct {
 	BandwidthScale float64
 	// Keep is "" (a disconnected file is an error) or KeepLargestComponent.
 	Keep string
+	// CapacityUnit is the unit of the network-design XML's capacities, an
+	// SI bit-rate unit such as Mbps or Gbps; "" means DefaultCapacityUnit.
+	CapacityUnit string
 	// Attributes maps a field (one of MappableFields) to the attribute name
 	// (or key id) that holds it in the file, replacing the recognised names.
 	Attributes map[string]string
@@ -257,6 +260,7 @@ func ReadGraphML(path string, data []byte, o ReadOptions) (*sim.Graph, *Provenan
 	p := &gmlParser{path: path, opts: o, d: xml.NewDecoder(bytes.NewReader(data)), keys: map[string]*gmlKey{}, ids: map[string]int{},
 		nameFrom: map[string]int{}, coordFrom: map[string]int{}, bwFrom: map[string]int{}}
 	p.d.Strict = true
+	p.d.CharsetReader = charsetReader
 	if err := p.document(); err != nil {
 		return nil, nil, err
 	}
@@ -843,9 +847,9 @@ func (p *gmlParser) provenance(st *buildStats) *Provenance {
 	pv.Fields = append(pv.Fields, "name: "+strings.Join(parts, ", "))
 	switch {
 	case p.coordFrom[fLat] > 0 || p.coordFrom[fLon] > 0:
-		pv.Fields = append(pv.Fields, fmt.Sprintf("coordinates: lat from %s, lon from %s (degrees) for %s, none for %d", p.keyName(fLat), p.keyName(fLon), plural(p.coordFrom[fLat], "node"), nodes-p.coordFrom[fLat]))
+		pv.Fields = append(pv.Fields, fmt.Sprintf("coordinates: lat from %s, lon from %s (degrees) for %s%s", p.keyName(fLat), p.keyName(fLon), plural(p.coordFrom[fLat], "node"), noneFor(nodes-p.coordFrom[fLat])))
 	case p.coordFrom[fX] > 0 || p.coordFrom[fY] > 0:
-		pv.Fields = append(pv.Fields, fmt.Sprintf("coordinates: x from %s, y from %s (km) for %s, none for %d", p.keyName(fX), p.keyName(fY), plural(p.coordFrom[fX], "node"), nodes-p.coordFrom[fX]))
+		pv.Fields = append(pv.Fields, fmt.Sprintf("coordinates: x from %s, y from %s (km) for %s%s", p.keyName(fX), p.keyName(fY), plural(p.coordFrom[fX], "node"), noneFor(nodes-p.coordFrom[fX])))
 	default:
 		pv.Fields = append(pv.Fields, "coordinates: none")
 	}
@@ -899,10 +903,10 @@ func (p *gmlParser) provenance(st *buildStats) *Provenance {
 	for _, k := range p.ord {
 		switch {
 		case k.field == fLinkLabel:
-			pv.Ignored = append(pv.Ignored, fmt.Sprintf("%s (edge labels, %d values: not used by the model)", k.name, k.values))
+			pv.Ignored = append(pv.Ignored, fmt.Sprintf("%s (edge labels, %s: not used by the model)", k.name, plural(k.values, "value")))
 		case k.field == "" || k.field == fSpeedUnits && p.bwFrom[fSpeed] == 0:
 			if k.values > 0 || k.def != nil {
-				pv.Ignored = append(pv.Ignored, fmt.Sprintf("%s (%s, %d values)", k.name, k.domain, k.values))
+				pv.Ignored = append(pv.Ignored, fmt.Sprintf("%s (%s, %s)", k.name, k.domain, plural(k.values, "value")))
 			}
 		}
 	}
@@ -911,6 +915,14 @@ func (p *gmlParser) provenance(st *buildStats) *Provenance {
 	}
 	pv.Notes = append(pv.Notes, st.notes...)
 	return pv
+}
+
+// noneFor says how many nodes have no coordinates, when some have none.
+func noneFor(n int) string {
+	if n == 0 {
+		return ""
+	}
+	return fmt.Sprintf(", none for %d", n)
 }
 
 func plural(n int, what string) string {

@@ -74,3 +74,45 @@ func TestTopologiesShow(t *testing.T) {
 		}
 	}
 }
+
+// TestTopologiesShowFile checks that a file from another tool is shown with
+// where its fields came from, and that the reading options are checked.
+func TestTopologiesShowFile(t *testing.T) {
+	fixture := "../../topologies/testdata/collection-layout.graphml"
+	d, out, errb := testDeps()
+	if code := run([]string{"topologies", "show", fixture, "--keep", "largest-component"}, d); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	for _, want := range []string{
+		"# bandwidth: 2 edges from LinkSpeedRaw (bit/s) × 0.001, 4 edges from LinkSpeed × LinkSpeedUnits × 0.001, 1 edge default 10Mbps\n",
+		"# note: kept the largest component (5 of 8 nodes); dropped 3 nodes and 1 link in 2 components {Farrowby Hollin}, {7}\n",
+		"  - {a: Arvenport, b: Bellcaster, bandwidth: 11Mbps, delay: 555.975µs, buffer: 64}\n",
+	} {
+		if !strings.Contains(out.String(), want) {
+			t.Errorf("output lacks %q:\n%s", want, out.String())
+		}
+	}
+	if _, err := topologies.ParseFile("shown.yaml", out.Bytes()); err != nil {
+		t.Errorf("output does not read back: %v", err)
+	}
+	d, out, _ = testDeps()
+	if code := run([]string{"topologies", "show", fixture, "--keep", "largest-component", "--format", "graphml"}, d); code != 0 {
+		t.Fatalf("graphml: exit %d", code)
+	}
+	if g, err := topologies.ParseGraphML("shown.graphml", out.Bytes()); err != nil || len(g.Nodes) != 5 {
+		t.Errorf("graphml output does not read back: %v", err)
+	}
+	for _, args := range [][]string{
+		{"topologies", "show", fixture},
+		{"topologies", "show", fixture, "--keep", "everything"},
+		{"topologies", "show", fixture, "--keep", "largest-component", "--attr", "lat"},
+		{"topologies", "show", fixture, "--keep", "largest-component", "--attr", "bandwidth=Capacity"},
+		{"topologies", "show", fixture, "--keep", "largest-component", "--bandwidth-scale", "-1"},
+		{"topologies", "show", "ring", "--keep", "largest-component"},
+	} {
+		d, out, _ := testDeps()
+		if code := run(args, d); code != 2 || out.Len() != 0 {
+			t.Errorf("%v: exit %d with %d bytes out, want 2 and nothing", args, code, out.Len())
+		}
+	}
+}
