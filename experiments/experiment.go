@@ -4,8 +4,8 @@ import (
 	"crypto/sha256"
 	"encoding/binary"
 	"encoding/hex"
+	"errors"
 	"fmt"
-	"os"
 	"path/filepath"
 	"sync"
 
@@ -141,8 +141,12 @@ type Random struct {
 
 // Load reads and parses the experiment file at path.
 func Load(path string) (*Experiment, error) {
-	data, err := os.ReadFile(path)
+	data, err := yamlx.ReadFile(path)
 	if err != nil {
+		var fe *yamlx.FileError
+		if errors.As(err, &fe) {
+			err = fe.Err
+		}
 		return nil, &ReadError{Path: path, Err: err}
 	}
 	return Parse(path, data)
@@ -164,7 +168,7 @@ func parse(path string, data []byte, files fileSource) (e *Experiment, err error
 	}()
 	var raw fileYAML
 	if err := yamlx.Decode(path, data, &raw); err != nil {
-		if looksLikeTopology(data) {
+		if yamlx.CheckShape(path, data) == nil && looksLikeTopology(data) {
 			return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "this is a topology file (it has nodes and links), not an experiment: "+
 				"name it in an experiment as topologies: [{file: %s}], or see it with hoplore topologies show %s", filepath.Base(path), path)
 		}

@@ -11,6 +11,7 @@ import (
 	"sort"
 	"strings"
 
+	"hoplore/internal/yamlx"
 	"hoplore/sim"
 	"hoplore/topologies"
 )
@@ -34,7 +35,16 @@ func (osFiles) resolve(exp, name string) string {
 	return filepath.Join(filepath.Dir(exp), filepath.FromSlash(name))
 }
 
-func (osFiles) read(p string) ([]byte, error) { return os.ReadFile(p) }
+// read reads a regular file of bounded size (yamlx.ReadFile); the error is
+// the reason alone, as callers name the file.
+func (osFiles) read(p string) ([]byte, error) {
+	b, err := yamlx.ReadFile(p)
+	var fe *yamlx.FileError
+	if errors.As(err, &fe) {
+		return nil, fe.Err
+	}
+	return b, err
+}
 
 func (osFiles) load(p string, data []byte) (*sim.Graph, error) { return parseTopology(p, data) }
 

@@ -5,7 +5,6 @@ import (
 	"encoding/xml"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -179,7 +178,7 @@ func Load(path string) (*sim.Graph, error) {
 // by default YAML bandwidths are model bit rates, scaled by 1); attribute
 // mappings and capacity units are for the other layouts.
 func LoadWith(path string, o ReadOptions) (*sim.Graph, *Provenance, error) {
-	data, err := os.ReadFile(path)
+	data, err := yamlx.ReadFile(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("topologies: %w", err)
 	}

@@ -6,6 +6,7 @@
 package yamlx
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"math"
@@ -78,7 +79,8 @@ func At(pos Pos, format string, args ...any) error {
 }
 
 // Decode parses data (the contents of file) into v, rejecting unknown
-// fields, and returns any problem as an *Error.
+// fields, and returns any problem as an *Error. A leading UTF-8 byte order
+// mark is ignored; nesting and aliases are bounded first (CheckShape).
 func Decode(file string, data []byte, v any) (err error) {
 	defer func() {
 		// the YAML library can panic on hostile input: report, don't crash
@@ -86,6 +88,10 @@ func Decode(file string, data []byte, v any) (err error) {
 			err = &Error{File: file, Msg: fmt.Sprintf("cannot read this YAML (%v)", r)}
 		}
 	}()
+	data = bytes.TrimPrefix(data, bom)
+	if err := CheckShape(file, data); err != nil {
+		return err
+	}
 	return Convert(file, yaml.UnmarshalWithOptions(data, v, yaml.Strict()))
 }
 
