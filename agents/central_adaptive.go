@@ -1,6 +1,7 @@
 package agents
 
 import (
+	"fmt"
 	"math"
 
 	"hoplore/sim"
@@ -22,6 +23,21 @@ func init() {
 			// of about 20 s and lost more
 			NewField("hold_down", func(p *Params) *sim.Time { return &p.HoldDown }, 2*sim.Second, nonNegativeTime),
 			NewField("smoothing", func(p *Params) *float64 { return &p.Smoothing }, 0.5, inUnitOpenClosed),
+			// a 56 kbit/s line's cost ranged from 30 to 90 units (Khanna &
+			// Zinky 1989)
+			NewField("cost_ceiling", func(p *Params) *float64 { return &p.CostCeiling }, 3, func(v float64) error {
+				if v != 0 && !(v >= 1 && v <= 100) {
+					return fmt.Errorf("must be 0 (off) or in [1, 100], got %g", v)
+				}
+				return nil
+			}),
+			// about half a hop per update (Khanna & Zinky 1989, from memory)
+			NewField("cost_step", func(p *Params) *float64 { return &p.CostStep }, 0.5, func(v float64) error {
+				if !(v >= 0 && v <= 100) {
+					return fmt.Errorf("must be 0 (off) or in (0, 100] hop-equivalents, got %g", v)
+				}
+				return nil
+			}),
 		},
 		New: newCentralAdaptive,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -41,31 +57,58 @@ const (
 const maxModelUtil = 0.99
 
 // CentralAdaptive is a controller that recomputes every route from measured
-// utilisation, in the manner of the ARPANET's delay-based SPF (McQuillan,
-// Richer & Rosen 1980) with smoothing and hold-down against the oscillation
-// Khanna & Zinky (SIGCOMM 1989) describe.
+// utilisation, in the manner of the ARPANET's SPF (McQuillan, Richer &
+// Rosen 1980), with the bounded link metric that replaced its delay metric
+// (Khanna & Zinky, "The revised ARPANET routing metric", SIGCOMM 1989) and
+// a per-pair hold-down.
 //
 // Every Every it requests a telemetry snapshot. When the snapshot arrives
 // (ControlDelay old), it updates each channel's utilisation as an EWMA,
 // u ← (1−a)u + a·u_new with a = Smoothing, where u_new is the channel's
-// transmitting time between the last two snapshots over their interval. A
-// channel's cost is its M/M/1 sojourn estimate plus propagation (and the
-// sending node's processing):
+// transmitting time between the last two snapshots over their interval.
+// Each channel's cost then moves towards a target:
 //
-//	cost = (L/C) / (1 − min(u, 0.99)) + delay
+//   - the revised metric (CostCeiling > 0): hop-normalised, target =
+//     h·(1 + (R−1)·clamp((u − 0.5)/0.5, 0, 1)), where h is the channel's
+//     idle cost in hop-equivalents (its zero-load traversal time over the
+//     network's least one, so the fastest channels cost one hop) and R =
+//     CostCeiling: flat at the idle cost up to 50% utilisation, rising
+//     linearly to R times it at saturation. A busy channel thus costs at
+//     most R times an idle one of its type, and traffic leaves it only for
+//     routes at most (R−1)·h longer;
+//   - the delay metric (CostCeiling = 0): target = the M/M/1 sojourn
+//     estimate plus propagation (and the sending node's processing),
+//     (L/C)/(1 − min(u, 0.99)) + delay (Kleinrock, Queueing Systems Vol. 1,
+//     1975), L the mean packet size measured from the snapshots
+//     (transmitting time × bandwidth / packets sent), AssumedPacketBytes
+//     until traffic has been seen. A saturated channel costs up to 100
+//     times an idle one.
 //
-// (Kleinrock, Queueing Systems Vol. 1, 1975), where L is the mean packet size
-// measured from the snapshots (transmitting time × bandwidth / packets sent),
-// AssumedPacketBytes until traffic has been seen. Channels down in the
-// snapshot are excluded. It then computes next hops to every destination by
+// With CostStep > 0 a channel's cost moves at most CostStep hop-equivalents
+// (under the delay metric: CostStep times the network's least zero-load
+// channel time) per update, up or down. Channels down in the snapshot are
+// excluded. It then computes next hops to every destination by
 // deterministic Dijkstra (lowest neighbour index among equal costs) and
 // installs them ControlDelay (its parameter) later.
+//
+// The paper's values and where this deviates: utilisation averaged as
+// u ← 0.5u + 0.5u_new (Smoothing 0.5, as the paper); a 56 kbit/s line's cost
+// ranges from 30 to 90 units, so a busy line costs at most 3 times an idle
+// one (CostCeiling 3); the cost is flat below 50% utilisation; a line's
+// reported cost moves at most about half a hop per update (CostStep 0.5,
+// from memory). The paper derives utilisation from measured delay through
+// M/M/1 and updates about every 10 s; here utilisation is measured directly
+// and Every defaults to 2 s. The paper also suppresses changes too small to
+// be worth flooding; here every update is used. The rise from 50% to
+// saturation is linear here (the paper's per-line-type tables are not
+// reproduced).
 //
 // Hold-down: at install, the next hop of a (node, destination) pair changes
 // only if its last change is at least HoldDown old; otherwise the old next
 // hop stays, unless its channel is down in the snapshot, which always
 // forces the change, or keeping it would close a forwarding loop with the
-// other pairs' next hops, in which case the loop's nodes take the new ones. Each next-hop change installed is counted with
+// other pairs' next hops, in which case the loop's nodes take the new ones.
+// Each next-hop change installed is counted with
 // ControlView.CountRouteChanges. Before the first table computed from
 // telemetry, routes are zero-load shortest paths (u = 0).
 type CentralAdaptive struct {
@@ -80,6 +123,10 @@ type CentralAdaptive struct {
 	prevSent  []int64
 	prevTaken sim.Time
 	meanBytes float64
+
+	idle    []float64 // revised metric: idle cost per channel, hop-equivalents
+	hopTime float64   // the network's least zero-load channel time, seconds
+	costSet bool      // cost holds a cost computed from telemetry
 
 	table      []int32 // installed next hops [u*n+d]
 	lastChange []sim.Time
@@ -112,6 +159,18 @@ func newCentralAdaptive(p Params, net *sim.Net) (sim.Agent, error) {
 	for i := range a.usable {
 		a.usable[i] = true
 	}
+	zl := zeroLoadCosts(net, p.packetBytes())
+	a.hopTime = math.Inf(1)
+	for _, t := range zl {
+		a.hopTime = math.Min(a.hopTime, t)
+	}
+	if p.CostCeiling > 0 {
+		a.idle = make([]float64, nc)
+		for c, t := range zl {
+			a.idle[c] = t / a.hopTime
+		}
+	}
+	a.updateCosts()
 	a.computeInto(a.table)
 	for i := range a.lastChange {
 		a.lastChange[i] = math.MinInt64 / 2
@@ -170,20 +229,45 @@ func (a *CentralAdaptive) Telemetry(s *sim.Snapshot) {
 	if pkts > 0 {
 		a.meanBytes = bits / 8 / pkts
 	}
+	a.updateCosts()
 	next := make([]int32, a.n*a.n)
 	a.computeInto(next)
 	a.pending = append(a.pending, caPending{next: next, up: append([]bool(nil), a.usable...)})
 	a.v.After(a.p.ControlDelay, tagInstall)
 }
 
-// computeInto fills next with next hops for the current utilisation and
-// usable channels.
-func (a *CentralAdaptive) computeInto(next []int32) {
-	for c := range a.cost {
-		ch := &a.net.Channels[c]
-		tx := a.meanBytes * 8 / ch.Bandwidth
-		a.cost[c] = a.net.Graph.Nodes[ch.From].Processing.Seconds() + tx/(1-math.Min(a.util[c], maxModelUtil)) + ch.Delay.Seconds()
+// revisedKnee is the utilisation below which the revised metric stays at
+// the idle cost (Khanna & Zinky 1989).
+const revisedKnee = 0.5
+
+// updateCosts moves every channel's cost towards its target for the current
+// utilisation, by at most the step limit once costs have been set.
+func (a *CentralAdaptive) updateCosts() {
+	step := a.p.CostStep
+	if a.p.CostCeiling == 0 {
+		step *= a.hopTime
 	}
+	for c := range a.cost {
+		var target float64
+		if a.p.CostCeiling > 0 {
+			x := math.Min(math.Max((a.util[c]-revisedKnee)/(1-revisedKnee), 0), 1)
+			target = a.idle[c] * (1 + (a.p.CostCeiling-1)*x)
+		} else {
+			ch := &a.net.Channels[c]
+			tx := a.meanBytes * 8 / ch.Bandwidth
+			target = a.net.Graph.Nodes[ch.From].Processing.Seconds() + tx/(1-math.Min(a.util[c], maxModelUtil)) + ch.Delay.Seconds()
+		}
+		if step > 0 && a.costSet {
+			target = math.Min(math.Max(target, a.cost[c]-step), a.cost[c]+step)
+		}
+		a.cost[c] = target
+	}
+	a.costSet = true
+}
+
+// computeInto fills next with next hops for the current costs and usable
+// channels.
+func (a *CentralAdaptive) computeInto(next []int32) {
 	for d := 0; d < a.n; d++ {
 		a.pf.distTo(d, a.cost, a.usable, a.dist)
 		nextHopsTo(a.net, d, a.cost, a.usable, a.dist, a.col)

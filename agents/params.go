@@ -50,6 +50,8 @@ type Params struct {
 	ControlDelay sim.Time // telemetry age and install delay
 	HoldDown     sim.Time // central-adaptive: minimum time between route changes of one pair
 	Smoothing    float64  // central-adaptive: EWMA weight of the newest utilisation sample
+	CostCeiling  float64  // central-adaptive: busiest/idle cost ratio of the revised metric; 0 = M/M/1 delay cost
+	CostStep     float64  // central-adaptive: largest change of a channel's cost per update, hop-equivalents; 0 = unbounded
 	K            int      // central-q: candidate paths per pair (Yen)
 	Discount     float64  // central-q
 	DropPenalty  sim.Time // central-q: cost charged per dropped packet

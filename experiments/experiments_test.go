@@ -43,6 +43,7 @@ func TestBadFiles(t *testing.T) {
 		{"failure-missing-link", "10:24", `failures[1].events[0].link: topology "ring" has no link n0-n4`},
 		{"failure-missing-node", "9:24", `failures[0].events[0].node: topology "ring" has no node "n42"`},
 		{"bad-learning-rate", "6:38", "agents[0].learning_rate: must be in (0, 1], got 1.5"},
+		{"bad-cost-step", "6:41", "agents[0].cost_step: must be 0 (off) or in (0, 100] hop-equivalents, got -1"},
 		{"bad-consensus-weight", "9:15", "agents[0].consensus.weight: must be in (0, 1], got 2"},
 		{"unknown-matrix", "4:19", `traffic.matrix: unknown matrix "gravitational"`},
 		{"unknown-topology", "5:5", `topologies[1]: unknown topology "tworegion"`},

@@ -171,3 +171,34 @@ func (s Scenario) Config(net *sim.Net, a sim.Agent) *sim.Config {
 		AgentSeed:    s.Seed + 1,
 	}
 }
+
+// TwoClusters returns two 3×3 grids joined by a direct bridge and by a
+// three-hop bypass of the same capacity: the bottleneck case of a network
+// with one cheap crossing and a longer alternative. Nodes 0–8 are the left
+// grid and 9–17 the right one (node base+3r+c at row r, column c), 18 and 19
+// the bypass relays. The bridge joins the middles of the facing sides,
+// n5–n12; the bypass runs from the left grid's top-right corner to the right
+// grid's top-left corner, n2–n18–n19–n9. Hop-count shortest paths send every
+// crossing pair over the bridge except the few for which the bypass is
+// shorter, so under normalised load the bridge is the busiest channel.
+func TwoClusters() *sim.Graph {
+	g := newGraph("two-clusters", 20)
+	for base := 0; base <= 9; base += 9 {
+		for r := 0; r < 3; r++ {
+			for c := 0; c < 3; c++ {
+				v := base + 3*r + c
+				if c+1 < 3 {
+					addLink(g, v, v+1)
+				}
+				if r+1 < 3 {
+					addLink(g, v, v+3)
+				}
+			}
+		}
+	}
+	addLink(g, 5, 12)
+	addLink(g, 2, 18)
+	addLink(g, 18, 19)
+	addLink(g, 19, 9)
+	return g
+}
