@@ -9,7 +9,7 @@
 // parameters, every agent built once on every topology — reporting each
 // problem as a *yamlx.Error, FILE:LINE:COL: field: message. Experiment.Runs
 // lists the runs in a fixed order; Run.Config builds the engine configuration
-// of one run and Run.Execute runs it and returns its result tables.
+// of one run. The package describes runs; package sweep executes them.
 //
 // # File reference
 //

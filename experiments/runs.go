@@ -1,7 +1,6 @@
 package experiments
 
 import (
-	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
@@ -9,21 +8,20 @@ import (
 	"math"
 	"slices"
 	"strconv"
-	"time"
 
 	"hoplore/agents"
-	"hoplore/results"
 	"hoplore/sim"
 )
 
-// Run is one run of the grid: a cell and a replicate.
+// Run is one run of the grid: a cell and a replicate. Package sweep
+// executes runs.
 type Run struct {
 	// Index is the run's position in Experiment.Runs.
 	Index int
 	// Dims are the run's dimension columns. Dims.Load is the requested
 	// normalised load, or for absolute rates the normalised load they amount
 	// to on the run's topology.
-	Dims results.Dims
+	Dims Dims
 	// AgentSeed seeds the agent's own randomness: a mix of Dims.Seed and the
 	// agent's label.
 	AgentSeed uint64
@@ -35,6 +33,23 @@ type Run struct {
 
 	load    float64 // requested normalised load; NaN for absolute rates
 	failure int     // index in Exp.Failures
+}
+
+// Dims are the values that identify a run in the result tables: its cell
+// (experiment, topology, agent, load, failure schedule), replicate, seed, id
+// and position in the grid.
+type Dims struct {
+	Experiment string
+	Topology   string
+	Agent      string // the agent's canonical label (agents.Params.Canonical)
+	Load       float64
+	Failure    string
+	Replicate  int
+	Seed       uint64
+	// RunID names the run: unique within the experiment (see RunID).
+	RunID string
+	// Index is the run's position in the experiment's full grid order.
+	Index int
 }
 
 // Cells returns the number of cells: topologies × loads × failure
@@ -74,7 +89,7 @@ func (e *Experiment) Runs() []*Run {
 							seed := RunSeed(e.Seed, cell, rep)
 							e.runs = append(e.runs, &Run{
 								Index: len(e.runs),
-								Dims: results.Dims{
+								Dims: Dims{
 									Experiment: e.Name,
 									Topology:   t.Label,
 									Agent:      label,
@@ -265,28 +280,6 @@ func randomFailures(g *sim.Graph, rf *Random, duration sim.Time, seed uint64) []
 		}
 	}
 	return out
-}
-
-// Execute builds the run's configuration, runs it and returns its result
-// tables, with the wall-clock time it took and version in them.
-func (r *Run) Execute(version string) (*results.RunTables, error) {
-	return r.ExecuteContext(context.Background(), version)
-}
-
-// ExecuteContext is Execute that stops soon after ctx is done, returning
-// ctx's error (wrapped).
-func (r *Run) ExecuteContext(ctx context.Context, version string) (*results.RunTables, error) {
-	cfg, err := r.Config()
-	if err != nil {
-		return nil, err
-	}
-	start := time.Now()
-	res, err := sim.RunContext(ctx, cfg)
-	if err != nil {
-		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
-	}
-	wall := time.Since(start).Seconds()
-	return results.FromRun(r.Dims, cfg.Net, cfg, res, wall, version), nil
 }
 
 // Events per hop of a data packet (transmission end, arrival) and per

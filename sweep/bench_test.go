@@ -114,7 +114,7 @@ func (u stubUnit) Execute(context.Context) (*results.RunTables, int64, error) {
 func finishedFolder(b *testing.B, n int) (string, []unit[*results.RunTables], results.Meta) {
 	e := tiny(b)
 	r := e.Runs()[0]
-	t, err := r.Execute(testVersion)
+	t, err := ExecuteRun(context.Background(), r, testVersion)
 	if err != nil {
 		b.Fatal(err)
 	}

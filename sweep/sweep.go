@@ -67,10 +67,10 @@ type Outcome struct {
 // Errors: an Out holding another experiment is reported as results.CheckDir
 // reports it (wrapping results.ErrOtherExperiment); a cancelled ctx returns
 // *Interrupted at once, with the finished runs kept and counted: runs in
-// progress are abandoned, and one that finishes after the sweep stopped is
-// never written (a run that has an ExecuteContext method is also told to
-// stop); a failed or panicking run stops the dispatch of new runs, keeps
-// the runs in progress, and is returned naming the run.
+// progress are told to stop and abandoned, and one that finishes after the
+// sweep stopped is never written; a failed or panicking run stops the
+// dispatch of new runs, keeps the runs in progress, and is returned naming
+// the run.
 //
 // Memory: each worker holds one run's simulation and tables at a time.
 func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Outcome, error) {
@@ -161,19 +161,8 @@ type expUnit struct {
 func (u *expUnit) ID() string    { return u.r.Dims.RunID }
 func (u *expUnit) Cost() float64 { return u.r.EstimateEvents() }
 
-// contextExecuter is a run that can stop early when its context is done.
-type contextExecuter interface {
-	ExecuteContext(ctx context.Context, version string) (*results.RunTables, error)
-}
-
 func (u *expUnit) Execute(ctx context.Context) (*results.RunTables, int64, error) {
-	var t *results.RunTables
-	var err error
-	if ce, ok := any(u.r).(contextExecuter); ok {
-		t, err = ce.ExecuteContext(ctx, u.version)
-	} else {
-		t, err = u.r.Execute(u.version)
-	}
+	t, err := ExecuteRun(ctx, u.r, u.version)
 	if err != nil {
 		return nil, 0, err
 	}

@@ -1,6 +1,7 @@
-package experiments_test
+package sweep
 
 import (
+	"context"
 	"math"
 	"testing"
 
@@ -25,7 +26,7 @@ func TestSingleQueueExampleMatchesMM1(t *testing.T) {
 	}
 	var means []float64
 	for _, r := range e.Runs() {
-		tab, err := r.Execute("test")
+		tab, err := ExecuteRun(context.Background(), r, "test")
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -40,7 +41,8 @@ func TestSingleQueueExampleMatchesMM1(t *testing.T) {
 		t.Errorf("mean sojourn %.4f ± %.4f s, want %.4f s", m, half, want)
 	}
 	// planned: per replicate (144k packets at ρ = 0.8) the sd of the mean
-	// is √(2025/144000)/μ ≈ 1.2 ms (notes/queueing.md §10, Daley 1968), so
+	// is √(2025/144000)/μ ≈ 1.2 ms (the asymptotic variance of the M/M/1
+	// sojourn-time mean, Daley 1968), so
 	// the 99.9% half-width over 4 replicates is about 12.9·1.2/2 ≈ 7.7 ms:
 	// 15% of the mean; twice that is the bound
 	if half > 0.3*want {
@@ -81,7 +83,7 @@ failures:
 		t.Fatal(err)
 	}
 	for _, r := range e.Runs() {
-		tab, err := r.Execute("test")
+		tab, err := ExecuteRun(context.Background(), r, "test")
 		if err != nil {
 			t.Fatal(err)
 		}

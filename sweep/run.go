@@ -1,0 +1,28 @@
+package sweep
+
+import (
+	"context"
+	"fmt"
+	"time"
+
+	"hoplore/experiments"
+	"hoplore/results"
+	"hoplore/sim"
+)
+
+// ExecuteRun builds run r's configuration, runs it and returns its result
+// tables, with the wall-clock time it took and version in them. It stops
+// soon after ctx is done, returning ctx's error (wrapped).
+func ExecuteRun(ctx context.Context, r *experiments.Run, version string) (*results.RunTables, error) {
+	cfg, err := r.Config()
+	if err != nil {
+		return nil, err
+	}
+	start := time.Now()
+	res, err := sim.RunContext(ctx, cfg)
+	if err != nil {
+		return nil, fmt.Errorf("sweep: run %s: %w", r.Dims.RunID, err)
+	}
+	wall := time.Since(start).Seconds()
+	return results.FromRun(results.Dims(r.Dims), cfg.Net, cfg, res, wall, version), nil
+}
