@@ -2,6 +2,7 @@ package topologies
 
 import (
 	"errors"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -64,7 +65,7 @@ func TestReadGraphMLCollectionLayout(t *testing.T) {
 	for i := range want.Links {
 		// Bandwidths compared to a relative 1e-12: 155520000·0.001 is not
 		// exactly 155520 in binary floating point.
-		if got, w := g.Links[i].Bandwidth, want.Links[i].Bandwidth; abs(got-w) <= 1e-12*w {
+		if got, w := g.Links[i].Bandwidth, want.Links[i].Bandwidth; math.Abs(got-w) <= 1e-12*w {
 			g.Links[i].Bandwidth = w
 		}
 	}
@@ -85,13 +86,6 @@ func TestReadGraphMLCollectionLayout(t *testing.T) {
 	if got := pv.Lines(); !reflect.DeepEqual(got, wantLines) {
 		t.Errorf("provenance:\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(wantLines, "\n"))
 	}
-}
-
-func abs(x float64) float64 {
-	if x < 0 {
-		return -x
-	}
-	return x
 }
 
 func TestReadGraphMLOptions(t *testing.T) {

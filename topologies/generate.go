@@ -56,6 +56,9 @@ type generator struct {
 	// size returns the number of nodes the parameters ask for, and the
 	// parameter to blame when there are too many.
 	size func(p values) (float64, string)
+	// check, when set, checks parameters against each other; given holds
+	// the parameters as given, v with defaults filled in.
+	check func(given map[string]float64, v values) error
 }
 
 // MaxNodes bounds the size of a generated topology.
@@ -119,17 +122,19 @@ var generators = []generator{
 		size:  func(v values) (float64, string) { return 2 * v["rows"] * v["cols"], "rows" },
 	},
 	{
-		name: "waxman", doc: "random geometric graph on a square plane (Waxman 1988), redrawn until connected",
+		name: "waxman", doc: "random geometric graph on a square plane (Waxman 1988), redrawn until connected, or with a target mean degree",
 		params: []paramSpec{
-			intParam("nodes", 20, 2, 1e4, "number of nodes"),
+			intParam("nodes", 20, 2, 1e5, "number of nodes (at most 10000 without degree)"),
 			floatParam("alpha", 0.3, 1e-9, 1e9, "length scale: larger alpha gives relatively more long links"),
 			floatParam("beta", 0.6, 1e-9, 1, "maximum link probability: larger beta gives more links"),
+			floatParam("degree", 0, 0, 1e5, "target mean degree; when set, alpha is solved for and one draw is made connected by the shortest added links (0: off)"),
 			pSeed,
 			floatParam("side_km", 1000, 1e-6, 1e6, "side of the square the nodes are placed on, in km"),
 			pBandwidth, pBuffer,
 		},
 		build: buildWaxman,
 		size:  func(v values) (float64, string) { return v["nodes"], "nodes" },
+		check: checkWaxman,
 	},
 	{
 		name: "barabasi-albert", doc: "preferential-attachment graph (Barabási & Albert 1999) grown from a star",
@@ -263,6 +268,11 @@ func Generate(name string, params map[string]float64) (*sim.Graph, error) {
 	v, err := g.resolve(params)
 	if err != nil {
 		return nil, err
+	}
+	if g.check != nil {
+		if err := g.check(params, v); err != nil {
+			return nil, err
+		}
 	}
 	if n, p := g.size(v); n > MaxNodes {
 		return nil, &ParamError{Param: p, Msg: fmt.Sprintf("the topology would have %s nodes; at most %d are allowed", fmtNum(n), MaxNodes)}

@@ -84,7 +84,23 @@ func connected(n int, edges [][2]int) bool {
 	return comps == 1
 }
 
+// checkWaxman refuses alpha beside degree (degree sets alpha) and more than
+// 10000 nodes without degree (every pair is looked at, in every redraw).
+func checkWaxman(given map[string]float64, v values) error {
+	_, alpha := given["alpha"]
+	switch {
+	case v.float("degree") > 0 && alpha:
+		return &ParamError{Param: "alpha", Msg: "give alpha or degree, not both (degree solves for alpha)"}
+	case v.float("degree") == 0 && v.int("nodes") > 10000:
+		return &ParamError{Param: "nodes", Msg: fmt.Sprintf("at most 10000 without degree (got %d); give a target mean degree for larger sparse graphs", v.int("nodes"))}
+	}
+	return nil
+}
+
 func buildWaxman(v values) (*sim.Graph, error) {
+	if v.float("degree") > 0 {
+		return buildWaxmanSparse(v)
+	}
 	n := v.int("nodes")
 	alpha, beta, side := v.float("alpha"), v.float("beta"), v.float("side_km")
 	r := rand.New(rand.NewPCG(uint64(v.int("seed")), streamWaxman))
