@@ -378,3 +378,10 @@ func (e *Experiment) EstimatePeakBytes(workers int) float64 {
 	}
 	return total
 }
+
+func fmtLoad(l float64) string {
+	if math.IsNaN(l) {
+		return "absolute"
+	}
+	return strconv.FormatFloat(l, 'g', -1, 64)
+}

@@ -1,0 +1,124 @@
+package experiments
+
+import (
+	"regexp"
+	"strings"
+
+	"hoplore/agents"
+	"hoplore/internal/yamlx"
+	"hoplore/sim"
+)
+
+// checker turns the raw file into an Experiment, checking as it goes.
+type checker struct {
+	file  string
+	files fileSource
+	raw   *fileYAML
+	extra [][]byte // bytes of referenced topology files, for the hash
+	names []string // their paths as written
+}
+
+func (c *checker) errf(pos yamlx.Pos, format string, args ...any) error {
+	return yamlx.Errorf(c.file, pos, format, args...)
+}
+
+var top = yamlx.Pos{Line: 1, Col: 1}
+
+var nameRE = regexp.MustCompile(`^[A-Za-z0-9][A-Za-z0-9._-]*$`)
+
+func (c *checker) experiment() (*Experiment, error) {
+	r := c.raw
+	e := &Experiment{}
+	if !r.Name.Set || r.Name.S == "" {
+		return nil, c.errf(pos(r.Name.Pos), "name: required (letters, digits, '.', '_', '-')")
+	}
+	if !nameRE.MatchString(r.Name.S) {
+		return nil, c.errf(r.Name.Pos, "name: %q may hold only letters, digits, '.', '_' and '-' and must start with a letter or digit", r.Name.S)
+	}
+	e.Name = r.Name.S
+	e.Description = r.Description.S
+
+	if !r.Duration.Set {
+		return nil, c.errf(top, "duration: required (simulated time per run, e.g. 600s)")
+	}
+	if r.Duration.D <= 0 {
+		return nil, c.errf(r.Duration.Pos, "duration: must be positive, got %v", r.Duration.D)
+	}
+	e.Duration = sim.Time(r.Duration.D)
+	if r.Warmup.Set {
+		if r.Warmup.D < 0 {
+			return nil, c.errf(r.Warmup.Pos, "warmup: must not be negative, got %v", r.Warmup.D)
+		}
+		if r.Warmup.D >= r.Duration.D {
+			return nil, c.errf(r.Warmup.Pos, "warmup: %v must be shorter than duration %v", r.Warmup.D, r.Duration.D)
+		}
+		e.Warmup = sim.Time(r.Warmup.D)
+	}
+	e.Bin = e.Duration / DefaultBins
+	if r.Bin.Set {
+		if r.Bin.D <= 0 {
+			return nil, c.errf(r.Bin.Pos, "bin: must be positive, got %v", r.Bin.D)
+		}
+		if r.Bin.D > r.Duration.D {
+			return nil, c.errf(r.Bin.Pos, "bin: %v must not exceed duration %v", r.Bin.D, r.Duration.D)
+		}
+		e.Bin = sim.Time(r.Bin.D)
+	}
+	if e.Bin <= 0 {
+		e.Bin = e.Duration
+	}
+	e.Replicates = DefaultReplicates
+	if r.Replicates.Set {
+		if r.Replicates.V < 1 {
+			return nil, c.errf(r.Replicates.Pos, "replicates: must be at least 1, got %d", r.Replicates.V)
+		}
+		e.Replicates = r.Replicates.V
+	}
+	e.Seed = DefaultSeed
+	if r.Seed.Set {
+		e.Seed = r.Seed.V
+	}
+	e.HopLimit = sim.DefaultHopLimit
+	if r.HopLimit.Set {
+		if r.HopLimit.V < 1 || r.HopLimit.V > 65535 {
+			return nil, c.errf(r.HopLimit.Pos, "hop_limit: must be in 1..65535, got %d", r.HopLimit.V)
+		}
+		e.HopLimit = r.HopLimit.V
+	}
+
+	if err := c.topologies(e); err != nil {
+		return nil, err
+	}
+	if err := c.traffic(e); err != nil {
+		return nil, err
+	}
+	if err := c.agents(e); err != nil {
+		return nil, err
+	}
+	if err := c.failures(e); err != nil {
+		return nil, err
+	}
+	for _, t := range e.Topologies {
+		if err := c.resolve(e, t); err != nil {
+			return nil, err
+		}
+		// Build every agent once on every topology, so that a problem only
+		// the agent can see (one that depends on the network) is reported
+		// now rather than when its runs start.
+		for i, p := range e.Agents {
+			if _, err := agents.New(p, t.Net); err != nil {
+				return nil, c.errf(c.raw.Agents.Items[i].Pos, "agents[%d]: on topology %q: %s", i, t.Label, strings.TrimPrefix(err.Error(), "agents: "))
+			}
+		}
+	}
+	e.TopologyFiles = c.names
+	return e, nil
+}
+
+// pos returns p, or the top of the file when p is unknown.
+func pos(p yamlx.Pos) yamlx.Pos {
+	if p.Line == 0 {
+		return top
+	}
+	return p
+}

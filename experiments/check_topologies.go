@@ -1,0 +1,118 @@
+package experiments
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+
+	"hoplore/internal/yamlx"
+	"hoplore/sim"
+	"hoplore/topologies"
+)
+
+func (c *checker) topologies(e *Experiment) error {
+	r := c.raw
+	if !r.Topologies.Set || len(r.Topologies.Items) == 0 {
+		return c.errf(pos(r.Topologies.Pos), "topologies: at least one topology is required")
+	}
+	seen := map[string]bool{}
+	for i := range r.Topologies.Items {
+		t := &r.Topologies.Items[i]
+		g, label, err := c.topology(i, t)
+		if err != nil {
+			return err
+		}
+		if t.Label.Set {
+			if strings.TrimSpace(t.Label.S) == "" {
+				return c.errf(t.Label.Pos, "topologies[%d].label: must not be empty", i)
+			}
+			label = t.Label.S
+			g.Name = label
+		}
+		if err := g.Validate(); err != nil {
+			var ye *yamlx.Error
+			if errors.As(err, &ye) {
+				return ye
+			}
+			return c.errf(t.Pos, "topologies[%d]: %s", i, strings.TrimPrefix(err.Error(), "sim: "))
+		}
+		if seen[label] {
+			return c.errf(t.Pos, "topologies[%d]: topology %q is listed twice; give one a label:", i, label)
+		}
+		seen[label] = true
+		e.Topologies = append(e.Topologies, &Topology{Label: label, Graph: g, Net: sim.Compile(g)})
+	}
+	return nil
+}
+
+func (c *checker) topology(i int, t *topoYAML) (*sim.Graph, string, error) {
+	switch {
+	case t.HasName:
+		known := false
+		var names []string
+		for _, info := range topologies.List() {
+			names = append(names, info.Name)
+			known = known || info.Name == t.Name.S
+		}
+		if !known {
+			return nil, "", c.errf(t.Name.Pos, "topologies[%d]: unknown topology %q (bundled: %s)", i, t.Name.S, strings.Join(names, ", "))
+		}
+		params := make(map[string]float64, len(t.Params))
+		for _, p := range t.Params {
+			params[p.Name] = p.Value.V
+		}
+		g, err := topologies.Generate(t.Name.S, params)
+		if err != nil {
+			var pe *topologies.ParamError
+			if errors.As(err, &pe) {
+				at := t.Name.Pos
+				for _, p := range t.Params {
+					if p.Name == pe.Param {
+						at = p.Value.Pos
+					}
+				}
+				return nil, "", c.errf(at, "topologies[%d]: %s: %s", i, pe.Param, pe.Msg)
+			}
+			return nil, "", c.errf(t.Name.Pos, "topologies[%d]: %s", i, strings.TrimPrefix(err.Error(), "topologies: "))
+		}
+		return g, topologies.Label(t.Name.S, params), nil
+	case t.File.Set:
+		if t.File.S == "" {
+			return nil, "", c.errf(t.File.Pos, "topologies[%d]: file: empty path", i)
+		}
+		p := c.files.resolve(c.file, t.File.S)
+		data, err := c.files.read(p)
+		if err != nil {
+			return nil, "", c.errf(t.File.Pos, "topologies[%d]: file: cannot read %q: %v", i, t.File.S, unwrapPathErr(err))
+		}
+		c.extra = append(c.extra, data)
+		c.names = append(c.names, t.File.S)
+		g, err := c.files.load(p, data)
+		if err != nil {
+			var ye *yamlx.Error
+			if errors.As(err, &ye) {
+				return nil, "", ye
+			}
+			return nil, "", c.errf(t.File.Pos, "topologies[%d]: file %q: %v", i, t.File.S, err)
+		}
+		label := g.Name
+		if label == "" {
+			label = baseName(t.File.S)
+			g.Name = label
+		}
+		return g, label, nil
+	default:
+		g, err := topologies.BuildFile(c.file, t.Inline)
+		if err != nil {
+			var ye *yamlx.Error
+			if errors.As(err, &ye) {
+				return nil, "", ye
+			}
+			return nil, "", c.errf(t.InlPos, "topologies[%d]: inline: %v", i, err)
+		}
+		if !t.Inline.Name.Set || t.Inline.Name.S == "" {
+			g.Name = fmt.Sprintf("inline-%d", i)
+		}
+		return g, g.Name, nil
+	}
+}
