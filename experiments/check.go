@@ -9,13 +9,32 @@ import (
 	"hoplore/sim"
 )
 
-// checker turns the raw file into an Experiment, checking as it goes.
+// checker turns the raw file into an Experiment, checking as it goes: one
+// method per section of the file (this file: the top level), then the
+// names the sections use resolved on every topology (resolve.go).
 type checker struct {
 	file  string
 	files fileSource
 	raw   *fileYAML
 	extra [][]byte // bytes of referenced topology files, for the hash
 	names []string // their paths as written
+	at    where
+}
+
+// where holds the positions of what the per-topology resolution may find
+// wrong, recorded while the sections are checked, so that resolving never
+// reads the raw file.
+type where struct {
+	traffic  yamlx.Pos      // the matrix: value, else the traffic section
+	pairs    [][2]yamlx.Pos // from and to of each traffic pair
+	hot      []yamlx.Pos    // each hotspot node
+	agents   []yamlx.Pos    // each agent entry
+	failures []failureWhere // one per Experiment.Failures entry
+}
+
+type failureWhere struct {
+	groupLinks [][]yamlx.Pos // each link of each group, in Failure.Groups order
+	elements   []yamlx.Pos   // each event's node or link value
 }
 
 func (c *checker) errf(pos yamlx.Pos, format string, args ...any) error {
@@ -107,7 +126,7 @@ func (c *checker) experiment() (*Experiment, error) {
 		// now rather than when its runs start.
 		for i, p := range e.Agents {
 			if _, err := agents.New(p, t.Net); err != nil {
-				return nil, c.errf(c.raw.Agents.Items[i].Pos, "agents[%d]: on topology %q: %s", i, t.Label, strings.TrimPrefix(err.Error(), "agents: "))
+				return nil, c.errf(c.at.agents[i], "agents[%d]: on topology %q: %s", i, t.Label, strings.TrimPrefix(err.Error(), "agents: "))
 			}
 		}
 	}

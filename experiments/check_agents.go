@@ -26,6 +26,7 @@ func (c *checker) agents(e *Experiment) error {
 		}
 		seen[label] = i
 		e.Agents = append(e.Agents, p)
+		c.at.agents = append(c.at.agents, a.Pos)
 	}
 	return nil
 }

@@ -14,6 +14,7 @@ func (c *checker) failures(e *Experiment) error {
 	r := c.raw
 	if !r.Failures.Set {
 		e.Failures = []*Failure{{Name: "none"}}
+		c.at.failures = []failureWhere{{}}
 		return nil
 	}
 	if len(r.Failures.Items) == 0 {
@@ -22,7 +23,7 @@ func (c *checker) failures(e *Experiment) error {
 	seen := map[string]bool{}
 	for i := range r.Failures.Items {
 		f := &r.Failures.Items[i]
-		fl, err := c.failure(e, i, f)
+		fl, at, err := c.failure(e, i, f)
 		if err != nil {
 			return err
 		}
@@ -31,91 +32,103 @@ func (c *checker) failures(e *Experiment) error {
 		}
 		seen[fl.Name] = true
 		e.Failures = append(e.Failures, fl)
+		c.at.failures = append(c.at.failures, at)
 	}
 	return nil
 }
 
-func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, error) {
+// failure checks schedule i and returns it with the positions resolving
+// its names may report.
+func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, failureWhere, error) {
+	var at failureWhere
 	if f.None {
-		return &Failure{Name: "none"}, nil
+		return &Failure{Name: "none"}, at, nil
 	}
 	fl := &Failure{Detection: DefaultDetection}
 	if !f.Name.Set || f.Name.S == "" {
-		return nil, c.errf(f.Pos, "failures[%d].name: required", i)
+		return nil, at, c.errf(f.Pos, "failures[%d].name: required", i)
 	}
 	if f.Name.S == "none" {
-		return nil, c.errf(f.Name.Pos, "failures[%d].name: \"none\" is reserved for the schedule without failures", i)
+		return nil, at, c.errf(f.Name.Pos, "failures[%d].name: \"none\" is reserved for the schedule without failures", i)
 	}
 	fl.Name = f.Name.S
 	if f.Detection.Set {
 		if f.Detection.D < 0 {
-			return nil, c.errf(f.Detection.Pos, "failures[%d].detection: must not be negative, got %v", i, f.Detection.D)
+			return nil, at, c.errf(f.Detection.Pos, "failures[%d].detection: must not be negative, got %v", i, f.Detection.D)
 		}
 		fl.Detection = sim.Time(f.Detection.D)
 	}
 	if !f.Events.Set && !f.Random.Set {
-		return nil, c.errf(f.Pos, "failures[%d]: give events, random or both (or use `none`)", i)
+		return nil, at, c.errf(f.Pos, "failures[%d]: give events, random or both (or use `none`)", i)
 	}
 	for _, g := range f.Groups.Groups {
 		if slices.ContainsFunc(fl.Groups, func(h Group) bool { return h.Name == g.Name }) {
-			return nil, c.errf(g.Pos, "failures[%d].groups: group %q is defined twice", i, g.Name)
+			return nil, at, c.errf(g.Pos, "failures[%d].groups: group %q is defined twice", i, g.Name)
 		}
 		gr := Group{Name: g.Name}
+		var links []yamlx.Pos
 		if len(g.Links) == 0 {
-			return nil, c.errf(g.Pos, "failures[%d].groups.%s: list at least one link [a, b]", i, g.Name)
+			return nil, at, c.errf(g.Pos, "failures[%d].groups.%s: list at least one link [a, b]", i, g.Name)
 		}
 		for _, l := range g.Links {
 			if len(l.Items) != 2 {
-				return nil, c.errf(l.Pos, "failures[%d].groups.%s: a link is a pair of node names [a, b]", i, g.Name)
+				return nil, at, c.errf(l.Pos, "failures[%d].groups.%s: a link is a pair of node names [a, b]", i, g.Name)
 			}
 			gr.Links = append(gr.Links, [2]string{l.Items[0].S, l.Items[1].S})
+			links = append(links, l.Pos)
 		}
 		fl.Groups = append(fl.Groups, gr)
+		at.groupLinks = append(at.groupLinks, links)
 	}
 	if f.Events.Set && len(f.Events.Items) == 0 {
-		return nil, c.errf(f.Events.Pos, "failures[%d].events: list at least one event, or leave events out", i)
+		return nil, at, c.errf(f.Events.Pos, "failures[%d].events: list at least one event, or leave events out", i)
 	}
 	for j, ev := range f.Events.Items {
 		where := fmt.Sprintf("failures[%d].events[%d]", i, j)
 		if !ev.At.Set {
-			return nil, c.errf(ev.Pos, "%s.at: required", where)
+			return nil, at, c.errf(ev.Pos, "%s.at: required", where)
 		}
 		if ev.At.D < 0 || sim.Time(ev.At.D) >= e.Duration {
-			return nil, c.errf(ev.At.Pos, "%s.at: %v is outside the run [0s, %v)", where, ev.At.D, time.Duration(e.Duration))
+			return nil, at, c.errf(ev.At.Pos, "%s.at: %v is outside the run [0s, %v)", where, ev.At.D, time.Duration(e.Duration))
 		}
 		out := Event{At: sim.Time(ev.At.D)}
+		var elem yamlx.Pos
 		n := 0
 		if ev.Link.Set {
 			n++
 			if len(ev.Link.Items) != 2 {
-				return nil, c.errf(ev.Link.Pos, "%s.link: a link is a pair of node names [a, b]", where)
+				return nil, at, c.errf(ev.Link.Pos, "%s.link: a link is a pair of node names [a, b]", where)
 			}
 			out.Link = [2]string{ev.Link.Items[0].S, ev.Link.Items[1].S}
+			elem = ev.Link.Pos
 		}
 		if ev.Node.Set {
 			n++
 			out.Node = ev.Node.S
+			elem = ev.Node.Pos
 		}
 		if ev.Group.Set {
 			n++
 			if !slices.ContainsFunc(fl.Groups, func(g Group) bool { return g.Name == ev.Group.S }) {
-				return nil, c.errf(ev.Group.Pos, "%s.group: no group %q under this schedule's groups", where, ev.Group.S)
+				return nil, at, c.errf(ev.Group.Pos, "%s.group: no group %q under this schedule's groups", where, ev.Group.S)
 			}
 			out.Group = ev.Group.S
+			elem = ev.Group.Pos
 		}
 		if n != 1 {
-			return nil, c.errf(ev.Pos, "%s: give exactly one of link, node or group", where)
+			return nil, at, c.errf(ev.Pos, "%s: give exactly one of link, node or group", where)
 		}
 		switch ev.Action.S {
 		case "down":
 		case "up":
 			out.Up = true
 		case "":
-			return nil, c.errf(ev.Pos, "%s.action: required (down or up)", where)
+			return nil, at, c.errf(ev.Pos, "%s.action: required (down or up)", where)
 		default:
-			return nil, c.errf(ev.Action.Pos, "%s.action: %q is not down or up", where, ev.Action.S)
+			return nil, at, c.errf(ev.Action.Pos, "%s.action: %q is not down or up", where, ev.Action.S)
 		}
 		fl.Events = append(fl.Events, out)
+		at.elements = append(at.elements, elem)
 	}
 	// Each element must alternate down, up, down... in time order.
 	order := make([]int, len(fl.Events))
@@ -132,7 +145,7 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, error
 			if down[k] {
 				state = "down"
 			}
-			return nil, c.errf(f.Events.Items[j].Action.Pos, "failures[%d].events[%d]: %s is already %s at %v", i, j, ev.element(), state, time.Duration(ev.At))
+			return nil, at, c.errf(f.Events.Items[j].Action.Pos, "failures[%d].events[%d]: %s is already %s at %v", i, j, ev.element(), state, time.Duration(ev.At))
 		}
 		down[k] = !ev.Up
 	}
@@ -141,7 +154,7 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, error
 		rf := &Random{Scope: "links"}
 		if rd.Scope.Set {
 			if rd.Scope.S != "links" && rd.Scope.S != "nodes" {
-				return nil, c.errf(rd.Scope.Pos, "failures[%d].random.scope: %q is not links or nodes", i, rd.Scope.S)
+				return nil, at, c.errf(rd.Scope.Pos, "failures[%d].random.scope: %q is not links or nodes", i, rd.Scope.S)
 			}
 			rf.Scope = rd.Scope.S
 		}
@@ -151,16 +164,16 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, error
 			out  *sim.Time
 		}{{"mtbf", rd.MTBF, &rf.MTBF}, {"mttr", rd.MTTR, &rf.MTTR}} {
 			if !d.v.Set {
-				return nil, c.errf(rd.Pos, "failures[%d].random.%s: required", i, d.name)
+				return nil, at, c.errf(rd.Pos, "failures[%d].random.%s: required", i, d.name)
 			}
 			if d.v.D <= 0 {
-				return nil, c.errf(d.v.Pos, "failures[%d].random.%s: must be positive, got %v", i, d.name, d.v.D)
+				return nil, at, c.errf(d.v.Pos, "failures[%d].random.%s: must be positive, got %v", i, d.name, d.v.D)
 			}
 			*d.out = sim.Time(d.v.D)
 		}
 		fl.Random = rf
 	}
-	return fl, nil
+	return fl, at, nil
 }
 
 func (ev Event) key() string {

@@ -3,6 +3,7 @@ package experiments
 import (
 	"errors"
 	"fmt"
+	"slices"
 	"strings"
 
 	"hoplore/internal/yamlx"
@@ -48,17 +49,27 @@ func (c *checker) topologies(e *Experiment) error {
 func (c *checker) topology(i int, t *topoYAML) (*sim.Graph, string, error) {
 	switch {
 	case t.HasName:
-		known := false
+		var info topologies.Info
 		var names []string
-		for _, info := range topologies.List() {
-			names = append(names, info.Name)
-			known = known || info.Name == t.Name.S
+		for _, gen := range topologies.List() {
+			names = append(names, gen.Name)
+			if gen.Name == t.Name.S {
+				info = gen
+			}
 		}
-		if !known {
+		if info.Name == "" {
 			return nil, "", c.errf(t.Name.Pos, "topologies[%d]: unknown topology %q (bundled: %s)", i, t.Name.S, strings.Join(names, ", "))
 		}
 		params := make(map[string]float64, len(t.Params))
 		for _, p := range t.Params {
+			if !slices.ContainsFunc(info.Params, func(q topologies.Param) bool { return q.Name == p.Name }) {
+				// the first unknown one in file order
+				known := make([]string, len(info.Params))
+				for j, q := range info.Params {
+					known[j] = q.Name
+				}
+				return nil, "", c.errf(p.Value.Pos, "topologies[%d]: %s: unknown parameter of %s (known: %s)", i, p.Name, info.Name, strings.Join(known, ", "))
+			}
 			params[p.Name] = p.Value.V
 		}
 		g, err := topologies.Generate(t.Name.S, params)

@@ -12,6 +12,7 @@ func (c *checker) traffic(e *Experiment) error {
 	t := &c.raw.Traffic
 	tr := &e.Traffic
 	tr.Matrix = "uniform"
+	c.at.traffic = pos(orPos(t.Matrix.Pos, t.Pos))
 	if t.Pairs.Set && !t.Matrix.Set {
 		tr.Matrix = "pairs"
 	}
@@ -49,6 +50,7 @@ func (c *checker) traffic(e *Experiment) error {
 				return c.errf(p.Rate.Pos, "traffic.pairs[%d].rate: must be positive, got %g/s", i, p.Rate.PerSecond)
 			}
 			tr.Pairs = append(tr.Pairs, Pair{From: p.From.S, To: p.To.S, Rate: p.Rate.PerSecond})
+			c.at.pairs = append(c.at.pairs, [2]yamlx.Pos{p.From.Pos, p.To.Pos})
 		}
 		tr.Absolute = withRate && !t.Loads.Set
 	}
@@ -72,6 +74,7 @@ func (c *checker) traffic(e *Experiment) error {
 			return c.errf(n.Pos, "traffic.hotspot.nodes: %q is listed twice", n.S)
 		}
 		tr.Hotspot.Nodes = append(tr.Hotspot.Nodes, n.S)
+		c.at.hot = append(c.at.hot, n.Pos)
 	}
 	// packet size
 	if err := c.size(e); err != nil {

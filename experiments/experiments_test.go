@@ -64,6 +64,9 @@ func TestBadFiles(t *testing.T) {
 		{"split-horizon-for-q-network", "6:34", "agents[0].consensus.split_horizon: applies to q-routing only"},
 		{"split-horizon-not-bool", "6:61", `"maybe" is not true or false`},
 		{"negative-control-delay", "7:20", "agents[0].control_delay: must not be negative"},
+		{"unknown-generator-params", "3:33", `topologies[0]: zeta: unknown parameter of ring`},
+		{"no-connected-waxman", "3:21", "topologies[0]: no connected waxman graph"},
+		{"unknown-hotspot-node", "4:50", `traffic.hotspot.nodes[1]: topology "ring" has no node "n77"`},
 		{"bad-topology-file", "testdata/topofiles/broken-topology.yaml:4:15", `unknown node "c"`},
 	}
 	files, err := filepath.Glob("testdata/bad/*.yaml")

@@ -8,7 +8,8 @@ import (
 )
 
 // resolve checks the names the traffic and failure schedules use against
-// topology t and stores their indices.
+// topology t and stores their indices. It works on the checked experiment
+// alone, with the positions the section checks recorded (checker.at).
 func (c *checker) resolve(e *Experiment, t *Topology) error {
 	g := t.Graph
 	node := func(name string, at yamlx.Pos, field string) (int, error) {
@@ -18,7 +19,6 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 		}
 		return v, nil
 	}
-	tr := c.raw.Traffic
 	if e.Traffic.Matrix == "pairs" {
 		N := len(g.Nodes)
 		t.pairs = make([][]float64, N)
@@ -26,12 +26,11 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 			t.pairs[i] = make([]float64, N)
 		}
 		for i, p := range e.Traffic.Pairs {
-			rp := tr.Pairs.Items[i]
-			s, err := node(p.From, rp.From.Pos, fmt.Sprintf("traffic.pairs[%d].from", i))
+			s, err := node(p.From, c.at.pairs[i][0], fmt.Sprintf("traffic.pairs[%d].from", i))
 			if err != nil {
 				return err
 			}
-			d, err := node(p.To, rp.To.Pos, fmt.Sprintf("traffic.pairs[%d].to", i))
+			d, err := node(p.To, c.at.pairs[i][1], fmt.Sprintf("traffic.pairs[%d].to", i))
 			if err != nil {
 				return err
 			}
@@ -47,7 +46,7 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 			t.hot = []int{bestConnected(g)}
 		}
 		for i, name := range e.Traffic.Hotspot.Nodes {
-			v, err := node(name, tr.Hotspot.Nodes.Items[i].Pos, "traffic.hotspot.nodes")
+			v, err := node(name, c.at.hot[i], fmt.Sprintf("traffic.hotspot.nodes[%d]", i))
 			if err != nil {
 				return err
 			}
@@ -55,22 +54,15 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 		}
 	}
 	if err := t.prepare(e); err != nil {
-		return c.errf(pos(orPos(tr.Matrix.Pos, tr.Pos)), "traffic: topology %q: %v", t.Label, err)
+		return c.errf(c.at.traffic, "traffic: topology %q: %v", t.Label, err)
 	}
 	t.scheduled = make([][]sim.FailureEvent, len(e.Failures))
-	fi := 0
-	for i := range c.raw.Failures.Items {
-		f := &c.raw.Failures.Items[i]
-		fl := e.Failures[fi]
-		fi++
-		if f.None {
-			continue
-		}
+	for i, fl := range e.Failures {
+		at := c.at.failures[i]
 		groups := map[string][]int{}
 		for gi, gr := range fl.Groups {
 			for li, l := range gr.Links {
-				at := f.Groups.Groups[gi].Links[li].Pos
-				idx, err := c.link(t, l, at, fmt.Sprintf("failures[%d].groups.%s", i, gr.Name))
+				idx, err := c.link(t, l, at.groupLinks[gi][li], fmt.Sprintf("failures[%d].groups.%s", i, gr.Name))
 				if err != nil {
 					return err
 				}
@@ -79,7 +71,6 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 		}
 		var evs []sim.FailureEvent
 		for j, ev := range fl.Events {
-			raw := f.Events.Items[j]
 			where := fmt.Sprintf("failures[%d].events[%d]", i, j)
 			out := sim.FailureEvent{At: ev.At, Node: -1, Up: ev.Up}
 			switch {
@@ -87,14 +78,14 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 				out.Links = groups[ev.Group]
 				out.Element = ev.Group
 			case ev.Node != "":
-				v, err := node(ev.Node, raw.Node.Pos, where+".node")
+				v, err := node(ev.Node, at.elements[j], where+".node")
 				if err != nil {
 					return err
 				}
 				out.Node = v
 				out.Element = ev.Node
 			default:
-				idx, err := c.link(t, ev.Link, raw.Link.Pos, where+".link")
+				idx, err := c.link(t, ev.Link, at.elements[j], where+".link")
 				if err != nil {
 					return err
 				}
@@ -103,7 +94,7 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 			}
 			evs = append(evs, out)
 		}
-		t.scheduled[fi-1] = evs
+		t.scheduled[i] = evs
 	}
 	return nil
 }

@@ -403,7 +403,7 @@ func TestGenerateErrors(t *testing.T) {
 		{"waxman", map[string]float64{"beta": 1.5}, "beta", "topologies: beta: must be at most 1, got 1.5"},
 		{"waxman", map[string]float64{"seed": 1 << 54}, "seed", "topologies: seed: must be at most 9007199254740992, got 18014398509481984"},
 		{"waxman", map[string]float64{"seed": -1}, "seed", "topologies: seed: must be at least 0, got -1"},
-		{"waxman", map[string]float64{"nodes": 40, "alpha": 0.01, "beta": 0.01}, "alpha", "topologies: alpha: no connected waxman graph with nodes=40 alpha=0.01 beta=0.01 in 10000 draws; raise alpha or beta"},
+		{"waxman", map[string]float64{"nodes": 40, "alpha": 0.01, "beta": 0.01}, "", "topologies: no connected waxman graph with nodes=40 alpha=0.01 beta=0.01 in 10000 draws; raise alpha or beta"},
 		{"barabasi-albert", map[string]float64{"nodes": 5, "m": 5}, "m", "topologies: m: must be less than nodes (5), got 5"},
 		{"fat-tree", map[string]float64{"k": 5}, "k", "topologies: k: must be even, got 5"},
 		{"fat-tree", map[string]float64{"k": 200}, "k", "topologies: k: the topology would have 2050000 nodes; at most 1000000 are allowed"},

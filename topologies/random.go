@@ -118,7 +118,8 @@ func buildWaxman(v values) (*sim.Graph, error) {
 		}
 		return &b.g, nil
 	}
-	return nil, &ParamError{Param: "alpha", Msg: fmt.Sprintf("no connected waxman graph with nodes=%d alpha=%g beta=%g in %d draws; raise alpha or beta", n, alpha, beta, waxmanAttempts)}
+	// not one parameter's fault: alpha, beta and nodes together
+	return nil, fmt.Errorf("topologies: no connected waxman graph with nodes=%d alpha=%g beta=%g in %d draws; raise alpha or beta", n, alpha, beta, waxmanAttempts)
 }
 
 // drawBarabasiAlbert grows a preferential-attachment graph (Barabási &
