@@ -34,6 +34,8 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.DroppedHopLimit = r.Dropped[sim.HopLimit]
 	run.DroppedNodeDown = r.Dropped[sim.NodeDown]
 	run.LossRate = ratio(float64(run.Dropped), r.Generated)
+	run.DroppedUnreachable = r.DroppedUnreachable()
+	run.LossRateReachable = ratio(float64(run.Dropped-run.DroppedUnreachable), r.Generated-run.DroppedUnreachable)
 	run.DeliveryMeanS = ratio(r.DeliverySum, r.Delivered)
 	if r.Delivered > 0 {
 		run.DeliveryMaxS = f64(r.DeliveryMax)
@@ -124,6 +126,25 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 		if rec.PreOK {
 			row.PreDeliveryMeanS = f64(rec.PreDeliveryMean)
 			row.PreLossRate = f64(rec.PreLossRate)
+		}
+		if k < len(r.Outcomes) {
+			o := &r.Outcomes[k]
+			row.LostReachable, row.LostUnreachable, row.LostQueueFull = o.LostReachable, o.LostUnreachable, o.LostQueueFull
+			if o.LastReachable >= 0 {
+				row.ReconnectS = max(0, (o.LastReachable - ev.At).Seconds())
+			}
+		}
+		if rec.Settled {
+			row.SettleS = f64(rec.SettleS)
+		}
+		if rec.NewOK {
+			row.NewDeliveryMeanS = f64(rec.NewDeliveryMean)
+		}
+		if v, ok := rec.DelayRatio(); ok {
+			row.DelayRatio = f64(v)
+		}
+		if rec.PeakOK {
+			row.PeakDelayS = f64(rec.PeakDeliveryMean)
 		}
 		t.Recoveries[k] = row
 	}

@@ -43,6 +43,43 @@ type Recovery struct {
 	// WindowEnd is where the search stopped: the next event's time, or the
 	// end of the last bin.
 	WindowEnd sim.Time
+
+	// The post-event level (see Recover): NewOK is false when the window is
+	// shorter than SettleMinBins or its second half delivered nothing.
+	NewOK           bool
+	NewDeliveryMean float64 // seconds
+	// Settled reports whether delivery time settled at the new level within
+	// the first half of the window; SettleS is then the settle time in
+	// seconds.
+	Settled bool
+	SettleS float64
+	// PeakOK is false when no window bin delivered a packet; PeakDeliveryMean
+	// is then undefined.
+	PeakOK           bool
+	PeakDeliveryMean float64 // seconds, the largest bin mean in the window
+}
+
+// SettleMinBins is the fewest window bins a post-event level is taken
+// from; see Recover.
+const SettleMinBins = 2 * RecoveredBins
+
+// DelayRatio returns the new level over the pre-event level of delivery
+// time, and whether both exist.
+func (rec *Recovery) DelayRatio() (float64, bool) {
+	if !rec.NewOK || !rec.PreOK || rec.PreDeliveryMean <= 0 {
+		return 0, false
+	}
+	return rec.NewDeliveryMean / rec.PreDeliveryMean, true
+}
+
+// reachableLoss returns a bin's loss rate over its reachable packets (see
+// sim.Result.Unreachable), and false when it generated no reachable packet.
+func reachableLoss(b *sim.Bin) (float64, bool) {
+	gen := b.Generated - b.Unreachable
+	if gen <= 0 {
+		return 0, false
+	}
+	return float64(b.Dropped-b.Unreachable) / float64(gen), true
 }
 
 // Recover measures the recovery from failures[k] in a run's time series.
@@ -59,13 +96,15 @@ type Recovery struct {
 //     start at or after the warm-up and at or after the previous event (so
 //     that the level is not an earlier disturbance's). If none starts after
 //     the warm-up, the warm-up condition is dropped. The level is the pooled
-//     mean delivery time D0 = ΣDelaySum/ΣDelivered and the pooled loss rate
-//     L0 = ΣDropped/ΣGenerated; sD and sL are the sample standard
+//     mean delivery time D0 = ΣDelaySum/ΣDelivered and the pooled reachable
+//     loss rate L0 = Σ(Dropped − Unreachable)/Σ(Generated − Unreachable)
+//     (a packet whose destination is down or cut off is a loss no routing
+//     can recover: see sim.Result.Unreachable); sD and sL are the sample standard
 //     deviations of the per-bin mean delivery times and loss rates (0 with
 //     fewer than two bins).
-//   - Band: a bin is within it when its loss rate is at most
+//   - Band: a bin is within it when its reachable loss rate is at most
 //     L0 + max(LossAbsBand, BandSDs·sL) and its mean delivery time is at most
-//     D0 + max(DeliveryRelBand·D0, BandSDs·sD). A bin with no generated
+//     D0 + max(DeliveryRelBand·D0, BandSDs·sD). A bin with no generated reachable
 //     packet is within the band (no evidence either way); a bin with
 //     generated but no delivered packets is not. The band is one-sided: a
 //     bin faster or less lossy than before is not a disturbance, and after
@@ -85,7 +124,28 @@ type Recovery struct {
 //     r−1, always including bin e (packets queued on a failing element are
 //     lost there even when the bin stays within the band); when never
 //     recovered, in every window bin. It counts baseline drops in those
-//     bins too (compare pre_loss_rate). Events sharing a bin share it.
+//     bins too (compare pre_loss_rate), and unreachable ones. Events sharing
+//     a bin share it.
+//
+// recovery_s answers "back to the old level?"; after a failure that leaves a
+// longer path the answer is rightly never. The settle time answers "stable
+// at the new level, whatever it is?":
+//
+//   - New level: over the window bins e..end−1 (n of them); with
+//     n < SettleMinBins there is none (too short to tell a level from a
+//     transient). The second half of the window, bins m = e + ⌊n/2⌋ ..
+//     end−1, is taken as the post-event steady state: D1 = ΣDelaySum/
+//     ΣDelivered over them (none if they delivered nothing), s1 the sample
+//     standard deviation of their bin means.
+//   - Settle band: a bin is within it when |mean − D1| ≤ max(DeliveryRelBand·D1,
+//     BandSDs·s1), two-sided since a new level may lie above or below; a bin
+//     with no generated packet is within it, one with generated but no
+//     delivered packets is not.
+//   - Settle bin: the first bin j ≥ e from which every window bin to end−1 is
+//     within the settle band; settle_s = max(0, start of j − t). When j > m
+//     (the level itself was still moving) it did not settle: null.
+//   - delay_ratio = D1/D0; peak_delay_s is the largest bin mean delivery
+//     time over the window bins.
 //
 // Cost: O(len(series)).
 func Recover(series []sim.Bin, failures []sim.FailureEvent, k int, warmup sim.Time) Recovery {
@@ -156,7 +216,55 @@ func Recover(series []sim.Bin, failures []sim.FailureEvent, k int, warmup sim.Ti
 	for j := e; j < stop; j++ {
 		rec.LostPackets += series[j].Dropped
 	}
+	rec.settle(series[e:end], t)
 	return rec
+}
+
+// settle sets the post-event level, settle time and peak from the window
+// bins w of the event at t; see Recover.
+func (rec *Recovery) settle(w []sim.Bin, t sim.Time) {
+	for i := range w {
+		if w[i].Delivered > 0 {
+			if m := w[i].DeliveryMean(); !rec.PeakOK || m > rec.PeakDeliveryMean {
+				rec.PeakDeliveryMean = m
+			}
+			rec.PeakOK = true
+		}
+	}
+	n := len(w)
+	if n < SettleMinBins {
+		return
+	}
+	m := n / 2
+	var del int64
+	var sum float64
+	var ms []float64
+	for i := m; i < n; i++ {
+		del += w[i].Delivered
+		sum += w[i].DelaySum
+		if w[i].Delivered > 0 {
+			ms = append(ms, w[i].DeliveryMean())
+		}
+	}
+	if del == 0 {
+		return
+	}
+	rec.NewOK = true
+	rec.NewDeliveryMean = sum / float64(del)
+	half := max(DeliveryRelBand*rec.NewDeliveryMean, BandSDs*sampleSD(ms))
+	j := n // first bin of the in-band run that reaches the end
+	for i := n - 1; i >= 0; i-- {
+		b := &w[i]
+		if b.Generated > 0 && (b.Delivered == 0 || math.Abs(b.DeliveryMean()-rec.NewDeliveryMean) > half) {
+			break
+		}
+		j = i
+	}
+	if j > m {
+		return
+	}
+	rec.Settled = true
+	rec.SettleS = max(0, (w[j].Start - t).Seconds())
 }
 
 // pre sets the pre-event level and band from the bins pre; false if they
@@ -167,18 +275,18 @@ func (rec *Recovery) pre(pre []sim.Bin) bool {
 	var ds, ls []float64
 	for i := range pre {
 		b := &pre[i]
-		gen += b.Generated
+		gen += b.Generated - b.Unreachable
 		del += b.Delivered
-		drop += b.Dropped
+		drop += b.Dropped - b.Unreachable
 		sum += b.DelaySum
 		if b.Delivered > 0 {
 			ds = append(ds, b.DeliveryMean())
 		}
-		if b.Generated > 0 {
-			ls = append(ls, float64(b.Dropped)/float64(b.Generated))
+		if l, ok := reachableLoss(b); ok {
+			ls = append(ls, l)
 		}
 	}
-	if del == 0 || gen == 0 {
+	if del == 0 || gen <= 0 {
 		return false
 	}
 	rec.PreDeliveryMean = sum / float64(del)
@@ -189,13 +297,14 @@ func (rec *Recovery) pre(pre []sim.Bin) bool {
 }
 
 func (rec *Recovery) inBand(b *sim.Bin) bool {
-	if b.Generated == 0 {
+	l, ok := reachableLoss(b)
+	if !ok {
 		return true
 	}
 	if b.Delivered == 0 {
 		return false
 	}
-	return float64(b.Dropped)/float64(b.Generated) <= rec.MaxLossRate && b.DeliveryMean() <= rec.MaxDeliveryMean
+	return l <= rec.MaxLossRate && b.DeliveryMean() <= rec.MaxDeliveryMean
 }
 
 // sampleSD is the sample standard deviation (n−1 denominator), 0 for fewer

@@ -57,15 +57,22 @@ type RunRow struct {
 	DroppedNoRoute   int64 `parquet:"dropped_no_route"`
 	DroppedHopLimit  int64 `parquet:"dropped_hop_limit"`
 	DroppedNodeDown  int64 `parquet:"dropped_node_down"`
+	// DroppedUnreachable counts the dropped packets (any reason, also
+	// counted there) whose destination was down or cut off from them: see
+	// sim.Result.Unreachable.
+	DroppedUnreachable int64 `parquet:"dropped_unreachable"`
 
-	LossRate      *float64 `parquet:"loss_rate,optional"`       // dropped / generated
-	DeliveryMeanS *float64 `parquet:"delivery_mean_s,optional"` // exact mean
-	DeliveryP50S  *float64 `parquet:"delivery_p50_s,optional"`  // histogram, relative error < 1%
-	DeliveryP95S  *float64 `parquet:"delivery_p95_s,optional"`
-	DeliveryP99S  *float64 `parquet:"delivery_p99_s,optional"`
-	DeliveryMaxS  *float64 `parquet:"delivery_max_s,optional"` // exact maximum
-	HopsMean      *float64 `parquet:"hops_mean,optional"`
-	StretchMean   *float64 `parquet:"stretch_mean,optional"` // hops taken / intact shortest hops
+	LossRate *float64 `parquet:"loss_rate,optional"` // dropped / generated
+	// LossRateReachable is (dropped − dropped_unreachable) / (generated −
+	// dropped_unreachable): the loss routing could have avoided.
+	LossRateReachable *float64 `parquet:"loss_rate_reachable,optional"`
+	DeliveryMeanS     *float64 `parquet:"delivery_mean_s,optional"` // exact mean
+	DeliveryP50S      *float64 `parquet:"delivery_p50_s,optional"`  // histogram, relative error < 1%
+	DeliveryP95S      *float64 `parquet:"delivery_p95_s,optional"`
+	DeliveryP99S      *float64 `parquet:"delivery_p99_s,optional"`
+	DeliveryMaxS      *float64 `parquet:"delivery_max_s,optional"` // exact maximum
+	HopsMean          *float64 `parquet:"hops_mean,optional"`
+	StretchMean       *float64 `parquet:"stretch_mean,optional"` // hops taken / intact shortest hops
 	// ThroughputBps is the delivered measured bits over the measured window
 	// (duration − warmup), bit/s.
 	ThroughputBps float64 `parquet:"throughput_bps"`
@@ -121,7 +128,9 @@ type LinkRow struct {
 }
 
 // RecoveryRow is one row of recoveries.parquet: one failure event of one run.
-// See Recover for the definitions of lost_packets and recovery_s.
+// See Recover for the definitions of lost_packets, recovery_s, settle_s,
+// delay_ratio and peak_delay_s, and sim.Outcome for the exact per-packet
+// counts lost_reachable, lost_unreachable, lost_queue_full and reconnect_s.
 type RecoveryRow struct {
 	Dims
 	Event       int      `parquet:"event"` // index of the event in the run, by time
@@ -137,6 +146,24 @@ type RecoveryRow struct {
 	// WindowEndS is where the search for recovery stopped: the next event's
 	// time or the end of the series.
 	WindowEndS float64 `parquet:"window_end_s"`
+
+	// Exact per-packet counts of the drops attributed to the event (those
+	// from it to the next event; see sim.Outcome), warm-up included.
+	LostReachable   int64 `parquet:"lost_reachable"`   // link_down, no_route, hop_limit, node_down
+	LostUnreachable int64 `parquet:"lost_unreachable"` // destination down or cut off, any reason
+	LostQueueFull   int64 `parquet:"lost_queue_full"`  // reachable, queue_full (baseline included)
+	// ReconnectS is the time from the event to the last drop counted in
+	// lost_reachable, exact (not binned); 0 when there was none.
+	ReconnectS float64 `parquet:"reconnect_s"`
+	// SettleS is the time until delivery time is stable at its new level
+	// (NewDeliveryMeanS); null when the window is too short or it did not
+	// settle within the window's first half.
+	SettleS          *float64 `parquet:"settle_s,optional"`
+	NewDeliveryMeanS *float64 `parquet:"new_delivery_mean_s,optional"`
+	// DelayRatio is new_delivery_mean_s / pre_delivery_mean_s.
+	DelayRatio *float64 `parquet:"delay_ratio,optional"`
+	// PeakDelayS is the largest bin mean delivery time in the window.
+	PeakDelayS *float64 `parquet:"peak_delay_s,optional"`
 }
 
 // SummaryRow is one row of summary.parquet: one cell, over its replicates.
