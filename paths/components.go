@@ -78,3 +78,45 @@ func (p unionFind) union(a, b int) bool {
 	}
 	return true
 }
+
+// Components labels the weakly connected components of g restricted to the
+// usable arcs (nil: all) and the live nodes (nil: all), arcs taken in either
+// direction: label[v] is v's component, numbered 0, 1, … in order of each
+// component's lowest node, or −1 when v is not live; an arc with an end
+// that is not live joins nothing. It returns the number of components.
+// Cost: O(N + M); allocation-free once the workspace is sized.
+func (s *Search) Components(g *Graph, usable, live []bool, label []int32) int {
+	n := g.NumNodes()
+	for v := range label {
+		label[v] = -1
+	}
+	if cap(s.queue) < n {
+		s.queue = make([]int32, 0, n)
+	}
+	var count int32
+	for r := 0; r < n; r++ {
+		if label[r] >= 0 || (live != nil && !live[r]) {
+			continue
+		}
+		label[r] = count
+		q := append(s.queue[:0], int32(r))
+		for i := 0; i < len(q); i++ {
+			u := q[i]
+			for _, side := range [2]struct{ start, other, arc []int32 }{
+				{g.outStart, g.outHead, g.outArc}, {g.inStart, g.inTail, g.inArc},
+			} {
+				for k := side.start[u]; k < side.start[u+1]; k++ {
+					v := side.other[k]
+					if label[v] >= 0 || (usable != nil && !usable[side.arc[k]]) || (live != nil && !live[v]) {
+						continue
+					}
+					label[v] = count
+					q = append(q, v)
+				}
+			}
+		}
+		s.queue = q
+		count++
+	}
+	return int(count)
+}

@@ -547,6 +547,7 @@ func TestSearchesAllocateNothing(t *testing.T) {
 		{"Hops", func() { s.Hops(in.g, 3, in.usable, hops) }},
 		{"NextHops", func() { paths.NextHops(in.g, 3, in.w, in.usable, s.Dist, 1e-12, next) }},
 		{"FirstHops", func() { f.Compute(in.g, 3, in.w, in.usable) }},
+		{"Components", func() { s.Components(in.g, in.usable, nil, hops) }},
 	} {
 		c.fn()
 		if a := testing.AllocsPerRun(20, c.fn); a != 0 {
@@ -568,5 +569,55 @@ func TestGraphOrder(t *testing.T) {
 	}
 	if g.NumNodes() != 4 || g.NumArcs() != 5 || g.OutDegree(0) != 4 || g.OutDegree(3) != 0 {
 		t.Error("wrong sizes")
+	}
+}
+
+// Search.Components labels the weak components over usable arcs and live
+// nodes as gonum's graph/topo.ConnectedComponents finds them on the
+// undirected graph of those arcs.
+func TestSearchComponentsMatchGonum(t *testing.T) {
+	r := rand.New(rand.NewPCG(11, 1))
+	var s paths.Search
+	for rep := range 40 {
+		in := randomInstance(r, 1+r.IntN(30), 0.3+r.Float64()*1.5, true, true, true)
+		live := make([]bool, in.n)
+		ug := simple.NewUndirectedGraph()
+		for v := range live {
+			live[v] = r.IntN(8) != 0
+			if live[v] {
+				ug.AddNode(simple.Node(v))
+			}
+		}
+		for a := range in.tails {
+			x, y := in.tails[a], in.heads[a]
+			if in.usable[a] && live[x] && live[y] && x != y {
+				ug.SetEdge(ug.NewEdge(simple.Node(x), simple.Node(y)))
+			}
+		}
+		var want [][]int
+		for _, c := range topo.ConnectedComponents(ug) {
+			ids := make([]int, len(c))
+			for i, v := range c {
+				ids[i] = int(v.ID())
+			}
+			slices.Sort(ids)
+			want = append(want, ids)
+		}
+		slices.SortFunc(want, func(a, b []int) int { return a[0] - b[0] })
+		label := make([]int32, in.n)
+		count := s.Components(in.g, in.usable, live, label)
+		got := make([][]int, count)
+		for v, l := range label {
+			if l < 0 {
+				if live[v] {
+					t.Fatalf("rep %d: live node %d unlabelled", rep, v)
+				}
+				continue
+			}
+			got[l] = append(got[l], v)
+		}
+		if fmt.Sprint(got) != fmt.Sprint(want) {
+			t.Fatalf("rep %d: components %v, gonum %v", rep, got, want)
+		}
 	}
 }

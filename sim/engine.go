@@ -7,6 +7,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+
+	"hoplore/paths"
 )
 
 // Run simulates cfg and returns what it measured. It is deterministic: the
@@ -94,25 +96,26 @@ type engine struct {
 	cTimed  Timed
 	cview   *ControlView
 
-	tellBuf    []*Message
-	tellDepth  int
-	snaps      []*Snapshot
-	pairDel    []int64
-	pairDelay  []float64
-	pairDrop   []int64
-	binBusy    []Time // nbins × channels
-	res        *Result
-	failures   []FailureEvent
-	floodDist  []float64
-	floodHeap  []int
-	floodReady bool
+	tellBuf   []*Message
+	tellDepth int
+	snaps     []*Snapshot
+	pairDel   []int64
+	pairDelay []float64
+	pairDrop  []int64
+	binBusy   []Time // nbins × channels
+	res       *Result
+	failures  []FailureEvent
+	search    paths.Search // flooding distances and partitions
+	floodW    []float64    // per channel: propagation delay in ns, +Inf when down
+	floodSrc  []int
 
 	// physical partitions, for classifying unreachable packets
-	comp      []int32 // component label of each node over what is up; −1 when down
-	compStack []int32
-	curFail   int           // index in failures of the event applied last, −1 before any
-	applying  bool          // inside applyFailure: drops wait in pending
-	pending   []pendingDrop // drops caused by the event being applied
+	comp       []int32       // component label of each node over what is up; −1 when down
+	compArcUp  []bool        // scratch: channels up
+	compNodeUp []bool        // scratch: nodes up
+	curFail    int           // index in failures of the event applied last, −1 before any
+	applying   bool          // inside applyFailure: drops wait in pending
+	pending    []pendingDrop // drops caused by the event being applied
 }
 
 type pendingDrop struct {
@@ -846,30 +849,17 @@ func (e *engine) applyFailure(i int) {
 // topology: nodes up, joined by links up (both channels of a link are up or
 // down together). A node down gets −1. Cost: O(N + L).
 func (e *engine) components() {
-	for v := range e.comp {
-		e.comp[v] = -1
+	if e.compArcUp == nil {
+		e.compArcUp = make([]bool, len(e.ch))
+		e.compNodeUp = make([]bool, len(e.nodes))
 	}
-	var label int32
-	for s := range e.comp {
-		if e.comp[s] >= 0 || !e.nodes[s].up {
-			continue
-		}
-		e.comp[s] = label
-		st := append(e.compStack[:0], int32(s))
-		for len(st) > 0 {
-			u := st[len(st)-1]
-			st = st[:len(st)-1]
-			for _, c := range e.net.Out[u] {
-				w := e.net.Channels[c].To
-				if e.ch[c].up && e.nodes[w].up && e.comp[w] < 0 {
-					e.comp[w] = label
-					st = append(st, int32(w))
-				}
-			}
-		}
-		e.compStack = st
-		label++
+	for c := range e.ch {
+		e.compArcUp[c] = e.ch[c].up
 	}
+	for v := range e.nodes {
+		e.compNodeUp[v] = e.nodes[v].up
+	}
+	e.search.Components(e.net.digraph, e.compArcUp, e.compNodeUp, e.comp)
 }
 
 // reaches reports whether node b can be reached from node a over the
@@ -978,55 +968,35 @@ func (e *engine) detect(c int, up bool, gen uint32) {
 
 // flood schedules link-state news of link l at every node: detection time
 // plus the propagation-delay distance from the nearer end node over links
-// up now.
+// up now (Dijkstra from both end nodes; allocation-free after the first).
 func (e *engine) flood(l, a, b int, up bool) {
-	N := len(e.nodes)
-	if !e.floodReady {
-		e.floodDist = make([]float64, N)
-		e.floodReady = true
+	if e.floodW == nil {
+		e.floodW = make([]float64, len(e.ch))
 	}
-	dist := e.floodDist
-	for i := range dist {
-		dist[i] = math.Inf(1)
+	for c := range e.ch {
+		if e.ch[c].up {
+			e.floodW[c] = float64(e.net.Channels[c].Delay)
+		} else {
+			e.floodW[c] = math.Inf(1)
+		}
 	}
-	done := make([]bool, N)
+	e.floodSrc = e.floodSrc[:0]
 	if e.nodes[a].up {
-		dist[a] = 0
+		e.floodSrc = append(e.floodSrc, a)
 	}
 	if e.nodes[b].up {
-		dist[b] = 0
+		e.floodSrc = append(e.floodSrc, b)
 	}
-	// O(N^2) Dijkstra: failures are rare
-	for {
-		u, best := -1, math.Inf(1)
-		for v := 0; v < N; v++ {
-			if !done[v] && dist[v] < best {
-				u, best = v, dist[v]
-			}
-		}
-		if u < 0 {
-			break
-		}
-		done[u] = true
-		for _, c := range e.net.Out[u] {
-			if !e.ch[c].up {
-				continue
-			}
-			w := e.net.Channels[c].To
-			if nd := best + float64(e.net.Channels[c].Delay); nd < dist[w] {
-				dist[w] = nd
-			}
-		}
-	}
+	e.search.FromSet(e.net.digraph, e.floodSrc, e.floodW, nil)
 	var u uint32
 	if up {
 		u = 1
 	}
-	for v := 0; v < N; v++ {
-		if math.IsInf(dist[v], 1) || e.ls[v] == nil {
+	for v, d := range e.search.Dist {
+		if math.IsInf(d, 1) || e.ls[v] == nil {
 			continue
 		}
-		e.schedule(e.now+e.cfg.Failures.Detection+Time(dist[v]), evLSA, int32(v), int32(l), u)
+		e.schedule(e.now+e.cfg.Failures.Detection+Time(d), evLSA, int32(v), int32(l), u)
 	}
 }
 

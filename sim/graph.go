@@ -3,8 +3,9 @@ package sim
 import (
 	"fmt"
 	"math"
-	"sort"
 	"strings"
+
+	"hoplore/paths"
 )
 
 // Time is simulated time in integer nanoseconds.
@@ -117,39 +118,11 @@ func (g *Graph) LinkIndex(a, b int) (int, bool) {
 // Components returns the connected components as sorted lists of node
 // indices, ordered by their lowest member.
 func (g *Graph) Components() [][]int {
-	parent := make([]int, len(g.Nodes))
-	for i := range parent {
-		parent[i] = i
+	edges := make([][2]int, len(g.Links))
+	for i, l := range g.Links {
+		edges[i] = [2]int{l.A, l.B}
 	}
-	var find func(int) int
-	find = func(x int) int {
-		for parent[x] != x {
-			parent[x] = parent[parent[x]]
-			x = parent[x]
-		}
-		return x
-	}
-	for _, l := range g.Links {
-		ra, rb := find(l.A), find(l.B)
-		if ra != rb {
-			if ra < rb {
-				parent[rb] = ra
-			} else {
-				parent[ra] = rb
-			}
-		}
-	}
-	byRoot := map[int][]int{}
-	for i := range g.Nodes {
-		r := find(i)
-		byRoot[r] = append(byRoot[r], i)
-	}
-	out := make([][]int, 0, len(byRoot))
-	for _, c := range byRoot {
-		out = append(out, c)
-	}
-	sort.Slice(out, func(i, j int) bool { return out[i][0] < out[j][0] })
-	return out
+	return paths.Components(len(g.Nodes), edges)
 }
 
 // Validate checks the graph for use by the engine: at least one node, unique

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 
+	"hoplore/paths"
 	"hoplore/sim"
 )
 
@@ -60,30 +61,6 @@ func drawWaxman(r *rand.Rand, n int, alpha, beta, side float64) waxmanSample {
 	return s
 }
 
-// connected reports whether the n nodes joined by edges form one component.
-func connected(n int, edges [][2]int) bool {
-	parent := make([]int, n)
-	for i := range parent {
-		parent[i] = i
-	}
-	find := func(x int) int {
-		for parent[x] != x {
-			parent[x] = parent[parent[x]]
-			x = parent[x]
-		}
-		return x
-	}
-	comps := n
-	for _, e := range edges {
-		a, b := find(e[0]), find(e[1])
-		if a != b {
-			parent[a] = b
-			comps--
-		}
-	}
-	return comps == 1
-}
-
 // checkWaxman refuses alpha beside degree (degree sets alpha) and more than
 // 10000 nodes without degree (every pair is looked at, in every redraw).
 func checkWaxman(given map[string]float64, v values) error {
@@ -106,7 +83,7 @@ func buildWaxman(v values) (*sim.Graph, error) {
 	r := rand.New(rand.NewPCG(uint64(v.int("seed")), streamWaxman))
 	for range waxmanAttempts {
 		s := drawWaxman(r, n, alpha, beta, side)
-		if !connected(n, s.edges) {
+		if !paths.Connected(n, s.edges) {
 			continue
 		}
 		var b builder
