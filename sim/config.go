@@ -10,7 +10,9 @@ type Config struct {
 	HopLimit int  // packets are dropped on reaching this many hops; 0 means DefaultHopLimit
 	Traffic  Traffic
 	Failures Failures
-	Agent    Agent
+	// Conditions change links' bandwidth, delay or loss from given times on.
+	Conditions []LinkCondition
+	Agent      Agent
 	// ControlDelay is the age of a central agent's telemetry and the delay
 	// before its tables take effect.
 	ControlDelay Time
@@ -39,6 +41,12 @@ type Traffic struct {
 	// phase the factor is 1): load that rises or falls during a run.
 	// Poisson sources follow the changing rate exactly, by thinning.
 	Phases []RatePhase
+	// Periods replace the whole matrix at given times: from Periods[k].At
+	// until the next period's At (the last until the end of the run) the
+	// rates are Periods[k].Rates, before the first one Rates. Phases still
+	// scale them. Poisson sources follow the changes exactly, by thinning;
+	// Periodic sources do not take periods. A replay of measured matrices.
+	Periods []RatePeriod
 	// Flows is the number of flow labels per source–destination pair that
 	// ECMP hashing can spread; 0 means DefaultFlows.
 	Flows int
@@ -48,6 +56,31 @@ type Traffic struct {
 type RatePhase struct {
 	At     Time
 	Factor float64
+}
+
+// RatePeriod is one matrix of a replay: Rates[s][d] packets per second
+// from At on.
+type RatePeriod struct {
+	At    Time
+	Rates [][]float64
+}
+
+// LinkCondition sets parameters of both channels of a link from At on,
+// piecewise constant: the bandwidth (bit/s) when Bandwidth > 0, the
+// propagation delay when SetDelay, the loss probability when SetLoss. A
+// packet being transmitted at At finishes at the old bandwidth; one already
+// propagating keeps its arrival time. With loss probability q every packet
+// (data or control) that finishes its transmission on the channel is lost
+// with probability q, independently (drop reason LinkLoss), drawn from the
+// channel's own stream.
+type LinkCondition struct {
+	At        Time
+	Link      int
+	Bandwidth float64
+	Delay     Time
+	SetDelay  bool
+	Loss      float64
+	SetLoss   bool
 }
 
 // DefaultFlows is the number of flow labels per pair when Traffic.Flows is zero.

@@ -48,6 +48,12 @@ type chanState struct {
 	downTotal Time // within the measured window
 
 	redraw *rand.Rand
+
+	// current parameters (Config.Conditions change them)
+	bw    float64
+	delay Time
+	loss  float64
+	rLoss *rand.Rand
 }
 
 type nodeState struct {
@@ -58,6 +64,11 @@ type nodeState struct {
 type source struct {
 	rate  float64
 	dst   alias
+	// with Traffic.Periods: the largest total rate over the base matrix and
+	// the periods, and each period's rate and destinations
+	peakRate float64
+	pRate    []float64
+	pDst     []alias
 	rArr  *rand.Rand
 	rDst  *rand.Rand
 	rSize *rand.Rand
@@ -75,6 +86,8 @@ type engine struct {
 	bin      Time
 	nbins    int
 	peak     float64 // largest rate factor of the traffic phases
+	period   int     // index of the current traffic period, −1 before the first
+	conds    []LinkCondition
 
 	pkts []Packet
 	free []int32
@@ -163,6 +176,7 @@ func newEngine(cfg *Config) (*engine, error) {
 	e.ch = make([]chanState, len(net.Channels))
 	for i := range e.ch {
 		e.ch[i].up, e.ch[i].seenUp = true, true
+		e.ch[i].bw, e.ch[i].delay = net.Channels[i].Bandwidth, net.Channels[i].Delay
 		if cfg.Traffic.Redraw {
 			e.ch[i].redraw = Stream(cfg.Seed, StreamRedraw, uint64(i))
 		}
@@ -199,13 +213,56 @@ func newEngine(cfg *Config) (*engine, error) {
 		}
 		src := &e.src[s]
 		src.rate = rate
-		if rate > 0 {
+		src.peakRate = rate
+		for _, p := range cfg.Traffic.Periods {
+			var items []int32
+			var w []float64
+			var pr float64
+			if s < len(p.Rates) {
+				for d, r := range p.Rates[s] {
+					if r > 0 && d != s {
+						items = append(items, int32(d))
+						w = append(w, r)
+						pr += r
+					}
+				}
+			}
+			src.pRate = append(src.pRate, pr)
+			var a alias
+			if pr > 0 {
+				a = newAlias(items, w)
+			}
+			src.pDst = append(src.pDst, a)
+			src.peakRate = math.Max(src.peakRate, pr)
+		}
+		if src.peakRate > 0 {
 			src.dst = newAlias(items, w)
 			src.rArr = Stream(cfg.Seed, StreamArrivals, uint64(s))
 			src.rDst = Stream(cfg.Seed, StreamDestinations, uint64(s))
 			src.rSize = Stream(cfg.Seed, StreamSizes, uint64(s))
 			src.rFlow = Stream(cfg.Seed, StreamFlows, uint64(s))
 			e.schedule(e.interarrival(src), evGen, int32(s), 0, 0)
+		}
+	}
+	e.period = -1
+	// link conditions, applied in (time, position) order
+	e.conds = append([]LinkCondition(nil), cfg.Conditions...)
+	sort.SliceStable(e.conds, func(i, j int) bool { return e.conds[i].At < e.conds[j].At })
+	for i, c := range e.conds {
+		switch {
+		case c.Link < 0 || c.Link >= len(net.Graph.Links):
+			return nil, fmt.Errorf("sim: link condition %d names link %d, which does not exist", i, c.Link)
+		case c.Bandwidth < 0 || math.IsNaN(c.Bandwidth) || math.IsInf(c.Bandwidth, 0):
+			return nil, fmt.Errorf("sim: link condition %d: bandwidth %g is not positive", i, c.Bandwidth)
+		case c.SetDelay && c.Delay < 0:
+			return nil, fmt.Errorf("sim: link condition %d: negative delay", i)
+		case c.SetLoss && !(c.Loss >= 0 && c.Loss <= 1):
+			return nil, fmt.Errorf("sim: link condition %d: loss %g is outside [0, 1]", i, c.Loss)
+		case c.At < 0:
+			return nil, fmt.Errorf("sim: link condition %d: negative time", i)
+		}
+		if c.At <= cfg.Duration {
+			e.schedule(c.At, evCondition, int32(i), 0, 0)
 		}
 	}
 	// failures, applied in (time, position) order
@@ -283,6 +340,27 @@ func checkTraffic(cfg *Config, N int) error {
 			}
 		}
 	}
+	for k, p := range t.Periods {
+		if t.Periodic {
+			return errors.New("sim: periodic sources do not follow traffic periods")
+		}
+		if p.At < 0 || k > 0 && p.At < t.Periods[k-1].At {
+			return fmt.Errorf("sim: traffic period %d: times must be non-negative and in order", k)
+		}
+		if len(p.Rates) > N {
+			return fmt.Errorf("sim: traffic period %d has %d rows for %d nodes", k, len(p.Rates), N)
+		}
+		for s, row := range p.Rates {
+			if len(row) > N {
+				return fmt.Errorf("sim: traffic period %d row %d has %d entries for %d nodes", k, s, len(row), N)
+			}
+			for d, r := range row {
+				if r < 0 || math.IsNaN(r) || math.IsInf(r, 0) {
+					return fmt.Errorf("sim: traffic period %d: rate %d→%d is %g", k, s, d, r)
+				}
+			}
+		}
+	}
 	switch t.Size.Kind {
 	case Fixed:
 		if t.Size.Bytes <= 0 {
@@ -347,6 +425,8 @@ func (e *engine) loop(ctx context.Context) error {
 			s := e.snaps[ev.b]
 			e.snaps[ev.b] = nil
 			e.central.Telemetry(s)
+		case evCondition:
+			e.applyCondition(int(ev.a))
 		}
 	}
 	e.now = end
@@ -412,7 +492,40 @@ func (e *engine) interarrival(src *source) Time {
 		}
 		return Time(math.Round(1e9 / (src.rate * f)))
 	}
-	return Time(math.Ceil(src.rArr.ExpFloat64() / (src.rate * e.peak) * 1e9))
+	return Time(math.Ceil(src.rArr.ExpFloat64() / (src.peakRate * e.peak) * 1e9))
+}
+
+// applyCondition sets the parameters of both channels of a link.
+func (e *engine) applyCondition(k int) {
+	c := &e.conds[k]
+	for _, ci := range [2]int{2 * c.Link, 2*c.Link + 1} {
+		ch := &e.ch[ci]
+		if c.Bandwidth > 0 {
+			ch.bw = c.Bandwidth
+		}
+		if c.SetDelay {
+			ch.delay = c.Delay
+		}
+		if c.SetLoss {
+			ch.loss = c.Loss
+			if ch.rLoss == nil && c.Loss > 0 {
+				ch.rLoss = Stream(e.cfg.Seed, StreamLoss, uint64(ci))
+			}
+		}
+	}
+}
+
+// periodRate returns source s's total rate now and the destinations to draw
+// from, advancing the current traffic period.
+func (e *engine) periodRate(src *source) (float64, *alias) {
+	ps := e.cfg.Traffic.Periods
+	for e.period+1 < len(ps) && ps[e.period+1].At <= e.now {
+		e.period++
+	}
+	if e.period < 0 {
+		return src.rate, &src.dst
+	}
+	return src.pRate[e.period], &src.pDst[e.period]
 }
 
 func (e *engine) generate(s int) {
@@ -420,14 +533,22 @@ func (e *engine) generate(s int) {
 	// the Poisson process keeps ticking even while the node is down, so that
 	// a failure does not shift the random streams of later packets
 	e.schedule(e.now+e.interarrival(src), evGen, int32(s), 0, 0)
-	if e.cfg.Traffic.Phases != nil && !e.cfg.Traffic.Periodic {
+	dst := &src.dst
+	if e.cfg.Traffic.Periods != nil {
+		// thinning from the peak over periods and phases
+		var rate float64
+		rate, dst = e.periodRate(src)
+		if src.rArr.Float64()*src.peakRate*e.peak >= rate*e.factor() {
+			return
+		}
+	} else if e.cfg.Traffic.Phases != nil && !e.cfg.Traffic.Periodic {
 		if src.rArr.Float64()*e.peak >= e.factor() {
 			return
 		}
 	} else if e.cfg.Traffic.Periodic && e.factor() <= 0 {
 		return
 	}
-	d := src.dst.draw(src.rDst)
+	d := dst.draw(src.rDst)
 	size := e.drawSize(&e.cfg.Traffic.Size, src.rSize)
 	flow := uint32(src.rFlow.IntN(e.flows))
 	if !e.nodes[s].up {
@@ -518,7 +639,7 @@ func (e *engine) enqueue(c int, id int32) {
 func (e *engine) startTx(c int, id int32) {
 	ch := &e.ch[c]
 	p := &e.pkts[id]
-	dur := Time(math.Round(float64(p.Size) * 8 / e.net.Channels[c].Bandwidth * 1e9))
+	dur := Time(math.Round(float64(p.Size) * 8 / ch.bw * 1e9))
 	p.LastWait = e.now - p.queuedAt
 	p.LastTx = dur
 	ch.busy = true
@@ -562,7 +683,11 @@ func (e *engine) txDone(c int, epoch uint32) {
 	}
 	p := &e.pkts[id]
 	p.Prev = e.net.Channels[c].From
-	e.schedule(e.now+e.net.Channels[c].Delay, evArrive, int32(c), id, ch.epoch)
+	if ch.loss > 0 && ch.rLoss.Float64() < ch.loss {
+		e.drop(id, LinkLoss, c)
+	} else {
+		e.schedule(e.now+ch.delay, evArrive, int32(c), id, ch.epoch)
+	}
 	if ch.q.len() > 0 {
 		next := ch.q.pop()
 		ch.qBytes -= e.pkts[next].Size
@@ -690,6 +815,8 @@ func (e *engine) drop(id int32, reason DropReason, c int) {
 				e.res.Channels[c].DroppedQueueFull++
 			case LinkDown:
 				e.res.Channels[c].DroppedLinkDown++
+			case LinkLoss:
+				e.res.Channels[c].DroppedLinkLoss++
 			}
 		}
 	}

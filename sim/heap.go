@@ -11,6 +11,7 @@ const (
 	evDetect
 	evLSA
 	evSnapshot
+	evCondition
 )
 
 // event is one scheduled happening. Events are ordered by (at, seq): equal

@@ -10,10 +10,13 @@ const (
 	NoRouteDrop
 	HopLimit
 	NodeDown
+	// LinkLoss: lost on a channel with a loss probability (Config.Conditions)
+	// after its transmission.
+	LinkLoss
 	NumDropReasons
 )
 
-var dropNames = [NumDropReasons]string{"queue_full", "link_down", "no_route", "hop_limit", "node_down"}
+var dropNames = [NumDropReasons]string{"queue_full", "link_down", "no_route", "hop_limit", "node_down", "link_loss"}
 
 // String returns the reason's name in the results.
 func (r DropReason) String() string { return dropNames[r] }
@@ -106,6 +109,7 @@ type ChannelResult struct {
 	Packets          int64   // packets (data and control) whose transmission completed
 	DroppedQueueFull int64   // measured data packets
 	DroppedLinkDown  int64   // measured data packets
+	DroppedLinkLoss  int64   // measured data packets
 	Down             Time    // time spent down within the measured window
 }
 

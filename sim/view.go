@@ -146,6 +146,7 @@ const (
 	StreamAgent
 	StreamFailures
 	StreamFlows
+	StreamLoss
 )
 
 // Mix hashes two values into one (splitmix64 finaliser over a combination).
