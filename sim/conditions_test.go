@@ -92,7 +92,7 @@ func TestConditionDelay(t *testing.T) {
 	net := sim.Compile(lineGraph([]float64{8e6}, []sim.Time{sim.Millisecond}, 10))
 	cfg := &sim.Config{Net: net, Agent: shortest(t, net), Seed: 1,
 		Duration: 100 * sim.Second, Warmup: 0, Bin: 50 * sim.Second,
-		Traffic: sim.Traffic{Rates: oneFlow(2, 0, 1, 0.1), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}, Periodic: true},
+		Traffic:    sim.Traffic{Rates: oneFlow(2, 0, 1, 0.1), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}, Periodic: true},
 		Conditions: []sim.LinkCondition{{At: 50 * sim.Second, Link: 0, Delay: 5 * sim.Millisecond, SetDelay: true}}}
 	r, err := sim.Run(cfg)
 	if err != nil {

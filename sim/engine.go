@@ -62,17 +62,17 @@ type nodeState struct {
 }
 
 type source struct {
-	rate  float64
-	dst   alias
+	rate float64
+	dst  alias
 	// with Traffic.Periods: the largest total rate over the base matrix and
 	// the periods, and each period's rate and destinations
 	peakRate float64
 	pRate    []float64
 	pDst     []alias
-	rArr  *rand.Rand
-	rDst  *rand.Rand
-	rSize *rand.Rand
-	rFlow *rand.Rand
+	rArr     *rand.Rand
+	rDst     *rand.Rand
+	rSize    *rand.Rand
+	rFlow    *rand.Rand
 }
 
 type engine struct {
