@@ -44,6 +44,11 @@ type Params struct {
 	Hidden       []int // q-network hidden layer sizes
 	Replay       int   // q-network replay buffer size (samples)
 	TargetSync   int   // q-network: updates between target copies
+	// GiveUpAfter (q-routing, q-network): a node drops, as no_route, the
+	// packets for a destination all of whose estimates exceed it, probing
+	// once per GiveUpAfter; 0 (the default) forwards every packet, the
+	// published behaviour.
+	GiveUpAfter sim.Time
 
 	// central-adaptive, central-q
 	Every        sim.Time // interval between recomputations

@@ -32,6 +32,7 @@ func init() {
 			NewField("replay", func(p *Params) *int { return &p.Replay }, 256, atLeastOne),
 			NewField("target_sync", func(p *Params) *int { return &p.TargetSync }, 200, atLeastOne),
 			consensusField(false),
+			giveUpField(),
 		},
 		New: newQNetwork,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -203,6 +204,7 @@ type qnNode struct {
 
 	cons *consensusState
 	pref prefs
+	give *giveUp // nil unless give_up_after is set
 }
 
 func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
@@ -221,6 +223,7 @@ func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
 		r.deltas = append(r.deltas, make([]float64, s.sizes[l]))
 	}
 	r.common = make([]float64, s.sizes[1])
+	r.give = newGiveUp(s.p.GiveUpAfter, r.net.NumNodes())
 	r.pref = newPrefs(s.n)
 	R := s.p.Replay
 	r.rd, r.rk, r.rq, r.rt = make([]int32, R), make([]int16, R), make([]float64, R), make([]float64, R)
@@ -324,6 +327,18 @@ func (r *qnNode) qvalue(theta []float64, d, k int, qf float64) float64 {
 func (r *qnNode) Route(p *sim.Packet) int {
 	d := p.Dst
 	best, bestV, bestQF := -1, 0.0, 0.0
+	if r.give != nil {
+		r.s.firstLayerCommon(r.theta, r.id, d, r.common)
+		least := math.Inf(1)
+		for k, c := range r.out {
+			if r.v.Up(c) {
+				least = math.Min(least, r.qvalue(r.theta, d, k, r.queueFeature(c)))
+			}
+		}
+		if r.give.drop(d, least, r.v.Now()) {
+			return sim.NoRoute
+		}
+	}
 	if e := r.s.p.Explore; e > 0 && r.v.Rand().Float64() < e {
 		n := 0
 		for _, c := range r.out {

@@ -46,6 +46,7 @@ func init() {
 			learningRateField(0.5),
 			exploreField(0),
 			consensusField(true),
+			giveUpField(),
 		},
 		New: newQRouting,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -106,6 +107,10 @@ func init() {
 //     rate η = max(C_est, 1 − C_old) in place of learning_rate, and sets
 //     C += η(C_est − C). Every other entry of the same destination row
 //     decays by confidenceDecay at each update of that row (lazily).
+//
+// With give_up_after B > 0 a node drops (no_route) the packets for a
+// destination whose every estimate exceeds B, forwarding one every B as a
+// probe (see giveUp); this is hoplore's addition, off by default.
 //
 // On detecting a channel down the node stops using it at once (the decision
 // skips channels not Up). On detecting it up again, that column is reset to
@@ -225,6 +230,7 @@ type qrNode struct {
 	proc float64 // this node's processing delay, seconds
 	cons *consensusState
 	pref prefs
+	give *giveUp // nil unless give_up_after is set
 }
 
 func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
@@ -233,6 +239,7 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	r.proc = r.net.Graph.Nodes[r.id].Processing.Seconds()
 	r.q = make([]float64, s.n*r.deg)
 	r.pref = newPrefs(s.n)
+	r.give = newGiveUp(s.p.GiveUpAfter, s.n)
 	switch s.variant {
 	case variantPredictive:
 		r.b = make([]float64, len(r.q))
@@ -301,6 +308,17 @@ func (r *qrNode) Route(p *sim.Packet) int {
 	base := d * r.deg
 	best, bestV := -1, 0.0
 	now := r.v.Now()
+	if r.give != nil {
+		least := math.Inf(1)
+		for k, c := range r.out {
+			if r.v.Up(c) {
+				least = math.Min(least, r.estimate(base+k, now))
+			}
+		}
+		if r.give.drop(d, least, now) {
+			return sim.NoRoute
+		}
+	}
 	if e := r.s.p.Explore; e > 0 && r.v.Rand().Float64() < e {
 		best = r.randomUp()
 	} else {
