@@ -5,12 +5,14 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"hoplore/stats"
 )
 
 // Point is one estimate at one x value.
 type Point struct {
 	X   float64
-	Est Estimate
+	Est stats.Estimate
 }
 
 // Curve is one agent's line in a panel.
@@ -46,7 +48,7 @@ func LoadCurves(d *Data, metricName string) []LoadPanel {
 					if !ok {
 						continue
 					}
-					c.Points = append(c.Points, Point{X: load, Est: MeanCI(v)})
+					c.Points = append(c.Points, Point{X: load, Est: stats.MeanCI95(v)})
 				}
 				if len(c.Points) > 0 {
 					lp.Curves = append(lp.Curves, c)
@@ -78,10 +80,10 @@ func (e Event) String() string {
 // replicates in which the event happened.
 type AgentRecovery struct {
 	Agent        string
-	Runs         int      // replicates with the event
-	NotRecovered int      // of which never recovered (recovery_s null)
-	Recovery     Estimate // s, over the recovered replicates
-	Lost         Estimate // packets lost, over all replicates with the event
+	Runs         int            // replicates with the event
+	NotRecovered int            // of which never recovered (recovery_s null)
+	Recovery     stats.Estimate // s, over the recovered replicates
+	Lost         stats.Estimate // packets lost, over all replicates with the event
 }
 
 // EventPanel holds, for one event at one load, each agent's delivery time
@@ -207,7 +209,7 @@ func EventCurves(d *Data, o EventOptions) []EventPanel {
 					loss[k] = append(loss[k], b.Loss())
 				}
 			}
-			ar.Recovery, ar.Lost = MeanCI(rec), MeanCI(lost)
+			ar.Recovery, ar.Lost = stats.MeanCI95(rec), stats.MeanCI95(lost)
 			ep.Recovery = append(ep.Recovery, ar)
 			ep.Delivery = append(ep.Delivery, binCurve(ag, delay, ep.Bin))
 			ep.Loss = append(ep.Loss, binCurve(ag, loss, ep.Bin))
@@ -225,7 +227,7 @@ func binCurve(agent string, vals map[int][]float64, w float64) Curve {
 	slices.Sort(ks)
 	c := Curve{Agent: agent}
 	for _, k := range ks {
-		c.Points = append(c.Points, Point{X: (float64(k) + 0.5) * w, Est: MeanCI(vals[k])})
+		c.Points = append(c.Points, Point{X: (float64(k) + 0.5) * w, Est: stats.MeanCI95(vals[k])})
 	}
 	return c
 }
@@ -299,7 +301,7 @@ func ChannelHeat(d *Data, p Panel, maxCols int) Heat {
 	}
 	mean := map[key]float64{}
 	for k, v := range vals {
-		m := MeanCI(v).Mean
+		m := stats.MeanCI95(v).Mean
 		mean[k] = m
 		if m > peak[k.ch] {
 			peak[k.ch] = m
@@ -353,7 +355,7 @@ func TimeHeat(d *Data, p Panel) (h Heat, starts []float64) {
 		h.Rows = append(h.Rows, ag)
 		row := make([]float64, len(starts))
 		for j, s := range starts {
-			row[j] = MeanCI(vals[key{ag, s}]).Mean
+			row[j] = stats.MeanCI95(vals[key{ag, s}]).Mean
 		}
 		h.Values = append(h.Values, row)
 	}
@@ -368,7 +370,7 @@ func TimeHeat(d *Data, p Panel) (h Heat, starts []float64) {
 // mean; ties all marked).
 type TableRow struct {
 	Panel
-	Est  []Estimate
+	Est  []stats.Estimate
 	Best []bool
 }
 
@@ -390,15 +392,15 @@ func CellTable(d *Data, metricName string) []TableRow {
 	agents := d.Agents()
 	var out []TableRow
 	for _, p := range ps {
-		row := TableRow{Panel: p, Est: make([]Estimate, len(agents)), Best: make([]bool, len(agents))}
+		row := TableRow{Panel: p, Est: make([]stats.Estimate, len(agents)), Best: make([]bool, len(agents))}
 		best := math.Inf(1)
 		for i, ag := range agents {
 			v, ok := vals[Cell{p.Topology, ag, p.Load, p.Failure}]
 			if !ok {
-				row.Est[i] = Estimate{Mean: math.NaN(), CI95: math.NaN()}
+				row.Est[i] = stats.Estimate{Mean: math.NaN(), CI95: math.NaN()}
 				continue
 			}
-			row.Est[i] = MeanCI(v)
+			row.Est[i] = stats.MeanCI95(v)
 			if m := row.Est[i].Mean; !math.IsNaN(m) && m < best {
 				best = m
 			}
@@ -418,9 +420,9 @@ func CellTable(d *Data, metricName string) []TableRow {
 type GlanceRow struct {
 	Panel
 	Best, Second         string
-	BestMean, SecondMean Estimate   // delivery_mean_s, s
-	BestLoss, SecondLoss Estimate   // loss_rate
-	Diff                 Comparison // Best − Second on delivery_mean_s
+	BestMean, SecondMean stats.Estimate // delivery_mean_s, s
+	BestLoss, SecondLoss stats.Estimate // loss_rate
+	Diff                 Comparison     // Best − Second on delivery_mean_s
 }
 
 // Glance returns a GlanceRow for every panel in which at least two agents

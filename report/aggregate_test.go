@@ -11,6 +11,8 @@ import (
 
 	"github.com/parquet-go/parquet-go"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"hoplore/stats"
 )
 
 // readTyped reads a whole table through parquet-go's typed reader, a path
@@ -79,7 +81,7 @@ func close(a, b float64) bool {
 	return math.Abs(a-b) <= 1e-9*math.Max(1, math.Abs(b))
 }
 
-func checkEstimate(t *testing.T, what string, got Estimate, xs []float64) {
+func checkEstimate(t *testing.T, what string, got stats.Estimate, xs []float64) {
 	t.Helper()
 	m, h, n := refEstimate(xs)
 	if got.N != n || !close(got.Mean, m) || !close(got.CI95, h) {

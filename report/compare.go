@@ -13,6 +13,7 @@ import (
 	"github.com/parquet-go/parquet-go/compress/zstd"
 
 	"hoplore/internal/atomicfile"
+	"hoplore/stats"
 )
 
 // CompareMetrics are the runs.parquet columns Compare tests, in order.
@@ -116,7 +117,7 @@ func Compare(d *Data, a, b string) ([]Comparison, error) {
 			c := Comparison{
 				Experiment: d.Experiment, Topology: p.Topology, Load: p.Load, Failure: p.Failure,
 				AgentA: a, AgentB: b, Metric: m, N: int64(len(diff)),
-				MeanA: MeanCI(xa).Mean, MeanB: MeanCI(xb).Mean,
+				MeanA: stats.MeanCI95(xa).Mean, MeanB: stats.MeanCI95(xb).Mean,
 				MeanDiff: t.MeanDiff, CI95: t.CI95, CI95Low: t.MeanDiff - t.CI95, CI95High: t.MeanDiff + t.CI95,
 				T: t.T, DF: t.DF, PT: t.P, WPlus: w.WPlus, NW: int64(w.N), PW: w.P, SameSeeds: same,
 			}
@@ -222,7 +223,7 @@ func fmtNum(x float64) string {
 	if math.IsNaN(x) {
 		return "–"
 	}
-	return sig(x, 4)
+	return stats.Sig(x, 4)
 }
 
 func fmtSigned(x float64) string {
@@ -230,16 +231,16 @@ func fmtSigned(x float64) string {
 		return "–"
 	}
 	if x > 0 || (x == 0 && !math.Signbit(x)) {
-		return "+" + sig(x, 4)
+		return "+" + stats.Sig(x, 4)
 	}
-	return sig(x, 4)
+	return stats.Sig(x, 4)
 }
 
 func fmtInterval(lo, hi float64) string {
 	if math.IsNaN(lo) || math.IsNaN(hi) {
 		return "–"
 	}
-	return "[" + sig(lo, 4) + ", " + sig(hi, 4) + "]"
+	return "[" + stats.Sig(lo, 4) + ", " + stats.Sig(hi, 4) + "]"
 }
 
 func fmtP(p float64) string {

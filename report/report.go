@@ -11,6 +11,8 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+
+	"hoplore/stats"
 )
 
 // Options choose what Write draws. The zero value gives the defaults.
@@ -245,14 +247,14 @@ type htmlCell struct {
 }
 
 // fmtEstimate formats mean ± half-width in display units.
-func fmtEstimate(e Estimate, scale float64) string {
+func fmtEstimate(e stats.Estimate, scale float64) string {
 	switch {
 	case e.N == 0 || math.IsNaN(e.Mean):
 		return "–"
 	case math.IsNaN(e.CI95):
-		return sig(e.Mean*scale, 4)
+		return stats.Sig(e.Mean*scale, 4)
 	}
-	return plusMinus(e.Mean*scale, e.CI95*scale)
+	return stats.PlusMinus(e.Mean*scale, e.CI95*scale)
 }
 
 func makeTable(id, title, metricName string, agents []string, rows []TableRow) htmlTable {
@@ -277,9 +279,9 @@ func makeTable(id, title, metricName string, agents []string, rows []TableRow) h
 			case e.N == 0:
 				c.Text = "–"
 			case math.IsNaN(e.CI95):
-				c.Text = sig(e.Mean*scale, 4)
+				c.Text = stats.Sig(e.Mean*scale, 4)
 			default:
-				c.Text = plusMinus(e.Mean*scale, e.CI95*scale)
+				c.Text = stats.PlusMinus(e.Mean*scale, e.CI95*scale)
 			}
 			c.Title = fmt.Sprintf("%s: n = %d replicates", agents[i], e.N)
 			hr.Cells = append(hr.Cells, c)
@@ -367,7 +369,7 @@ func (r *Report) HTML(w io.Writer) error {
 		v := glanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
 			Best: g.Best, BestMean: fmtEstimate(g.BestMean, scale), BestLoss: fmtEstimate(g.BestLoss, 100),
 			Second: g.Second, SecondMean: fmtEstimate(g.SecondMean, scale), SecondLoss: fmtEstimate(g.SecondLoss, 100),
-			Diff: plusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
+			Diff: stats.PlusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
 		switch {
 		case c.N < 2:
 			v.Verdict = "untested"
@@ -393,11 +395,11 @@ func (r *Report) HTML(w io.Writer) error {
 			case ar.Recovery.N == 0:
 				rv.Recovery = "never"
 			case math.IsNaN(ar.Recovery.CI95):
-				rv.Recovery = sig(ar.Recovery.Mean, 3) + " s"
+				rv.Recovery = stats.Sig(ar.Recovery.Mean, 3) + " s"
 			default:
-				rv.Recovery = plusMinus(ar.Recovery.Mean, ar.Recovery.CI95) + " s"
+				rv.Recovery = stats.PlusMinus(ar.Recovery.Mean, ar.Recovery.CI95) + " s"
 			}
-			rv.Lost = sig(ar.Lost.Mean, 4)
+			rv.Lost = stats.Sig(ar.Lost.Mean, 4)
 			ev.Rows = append(ev.Rows, rv)
 		}
 		events = append(events, ev)

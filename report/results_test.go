@@ -122,23 +122,18 @@ func TestLoadReadsResultsTables(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, m := range []struct {
-		name     string
-		mean, ci func(results.SummaryRow) *float64
-	}{
-		{"delivery_mean_s", func(r results.SummaryRow) *float64 { return r.DeliveryMeanSMean }, func(r results.SummaryRow) *float64 { return r.DeliveryMeanSCI95 }},
-		{"delivery_p95_s", func(r results.SummaryRow) *float64 { return r.DeliveryP95SMean }, func(r results.SummaryRow) *float64 { return r.DeliveryP95SCI95 }},
-		{"loss_rate", func(r results.SummaryRow) *float64 { return r.LossRateMean }, func(r results.SummaryRow) *float64 { return r.LossRateCI95 }},
-	} {
+	for _, col := range results.Charted() {
+		name := col.Name
 		found := 0
-		for _, p := range LoadCurves(d, m.name) {
+		for _, p := range LoadCurves(d, name) {
 			for _, c := range p.Curves {
 				for _, pt := range c.Points {
 					for _, r := range sum {
 						if r.Topology == p.Topology && r.Failure == p.Failure && r.Agent == c.Agent && r.Load == pt.X {
 							found++
-							if !close(pt.Est.Mean, nf(m.mean(r))) || !close(pt.Est.CI95, nf(m.ci(r))) {
-								t.Errorf("%s %s: got %v ± %v, summary.parquet %v ± %v", m.name, c.Agent, pt.Est.Mean, pt.Est.CI95, nf(m.mean(r)), nf(m.ci(r)))
+							mean, ci := r.MeanCI95(name)
+							if !close(pt.Est.Mean, nf(mean)) || !close(pt.Est.CI95, nf(ci)) {
+								t.Errorf("%s %s: got %v ± %v, summary.parquet %v ± %v", name, c.Agent, pt.Est.Mean, pt.Est.CI95, nf(mean), nf(ci))
 							}
 						}
 					}
@@ -146,7 +141,7 @@ func TestLoadReadsResultsTables(t *testing.T) {
 			}
 		}
 		if found != len(sum) {
-			t.Errorf("%s: matched %d of %d summary rows", m.name, found, len(sum))
+			t.Errorf("%s: matched %d of %d summary rows", name, found, len(sum))
 		}
 	}
 	// and the whole report builds from them

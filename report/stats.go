@@ -6,53 +6,9 @@ import (
 
 	"gonum.org/v1/gonum/stat"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"hoplore/stats"
 )
-
-// Estimate is a sample mean with its 95% confidence half-width.
-type Estimate struct {
-	N    int     // finite values used
-	Mean float64 // NaN when N == 0
-	CI95 float64 // Student t half-width; NaN when N < 2
-}
-
-// Low and High return the ends of the 95% confidence interval.
-func (e Estimate) Low() float64  { return e.Mean - e.CI95 }
-func (e Estimate) High() float64 { return e.Mean + e.CI95 }
-
-// MeanCI returns the mean of the finite values in x and the half-width of
-// its 95% confidence interval, t(0.975, n−1)·s/√n with s the unbiased
-// standard deviation (Student 1908). NaN values are left out.
-func MeanCI(x []float64) Estimate {
-	v := finite(x)
-	e := Estimate{N: len(v), Mean: math.NaN(), CI95: math.NaN()}
-	if e.N == 0 {
-		return e
-	}
-	if e.N == 1 {
-		e.Mean = v[0]
-		return e
-	}
-	m, sd := stat.MeanStdDev(v, nil)
-	e.Mean = m
-	e.CI95 = tQuantile975(e.N-1) * sd / math.Sqrt(float64(e.N))
-	return e
-}
-
-func finite(x []float64) []float64 {
-	out := make([]float64, 0, len(x))
-	for _, v := range x {
-		if !math.IsNaN(v) && !math.IsInf(v, 0) {
-			out = append(out, v)
-		}
-	}
-	return out
-}
-
-// tQuantile975 returns the 0.975 quantile of Student's t with df degrees of
-// freedom.
-func tQuantile975(df int) float64 {
-	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(df)}.Quantile(0.975)
-}
 
 // PairedT is the result of a paired t test of differences d = a − b.
 type PairedT struct {
@@ -82,7 +38,7 @@ func PairedTTest(d []float64) PairedT {
 	}
 	r.MeanDiff, r.SD = stat.MeanStdDev(d, nil)
 	se := r.SD / math.Sqrt(float64(r.N))
-	r.CI95 = tQuantile975(r.N-1) * se
+	r.CI95 = stats.TQuantile975(r.N-1) * se
 	switch {
 	case se == 0 && r.MeanDiff == 0:
 		return r

@@ -5,6 +5,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"hoplore/stats"
 )
 
 // sleepDiffs are the differences in additional hours of sleep between the
@@ -195,11 +197,11 @@ func TestMeanCI(t *testing.T) {
 	// 1..10: mean 5.5, sd 3.0277, t(0.975, 9) = 2.2622, CI [3.3341, 7.6659]
 	// (values 1..10: common practice; t from Fisher & Yates table III).
 	x := []float64{1, 2, 3, 4, 5, 6, 7, 8, 9, 10, math.NaN()}
-	e := MeanCI(x)
+	e := stats.MeanCI95(x)
 	if e.N != 10 || e.Mean != 5.5 || math.Round(e.Low()*1e4)/1e4 != 3.3341 || math.Round(e.High()*1e4)/1e4 != 7.6659 {
 		t.Errorf("got %+v [%v, %v], want n=10 mean 5.5 CI [3.3341, 7.6659]", e, e.Low(), e.High())
 	}
-	if e := MeanCI([]float64{4}); e.Mean != 4 || !math.IsNaN(e.CI95) {
+	if e := stats.MeanCI95([]float64{4}); e.Mean != 4 || !math.IsNaN(e.CI95) {
 		t.Errorf("one value: got %+v, want mean 4, CI NaN", e)
 	}
 }

@@ -3,7 +3,6 @@ package report
 import (
 	"math"
 	"strconv"
-	"strings"
 
 	"gonum.org/v1/plot"
 )
@@ -88,34 +87,4 @@ func (logAxisTicks) Ticks(min, max float64) []plot.Tick {
 		ts[i].Value = math.Log10(ts[i].Value)
 	}
 	return ts
-}
-
-// sig formats x with n significant digits in plain decimal notation (no
-// exponent between 1e-6 and 1e12).
-func sig(x float64, n int) string {
-	switch {
-	case math.IsNaN(x) || math.IsInf(x, 0):
-		return strconv.FormatFloat(x, 'g', -1, 64)
-	case x == 0:
-		return "0"
-	case math.Abs(x) < 1e-6 || math.Abs(x) >= 1e12:
-		return strconv.FormatFloat(x, 'g', n, 64)
-	}
-	d := max0(n - 1 - int(math.Floor(math.Log10(math.Abs(x)))))
-	s := strconv.FormatFloat(x, 'f', d, 64)
-	if d > 0 { // drop trailing zeros: 0.5000 → 0.5
-		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
-	}
-	return s
-}
-
-// plusMinus formats mean ± half with the half-width to two significant
-// digits and the mean rounded to the same decimal place (common practice
-// for reporting an estimate with its uncertainty).
-func plusMinus(mean, half float64) string {
-	if math.IsNaN(half) || half == 0 || math.IsInf(half, 0) {
-		return sig(mean, 4)
-	}
-	d := max0(1 - int(math.Floor(math.Log10(half))))
-	return strconv.FormatFloat(mean, 'f', d, 64) + " ± " + strconv.FormatFloat(half, 'f', d, 64)
 }

@@ -44,7 +44,8 @@ func ExampleFinalize() {
 	recs, _ := results.ReadRecoveries(filepath.Join(dir, results.RecoveriesFile))
 	fmt.Printf("%s %s at %gs: %d lost, recovered: %v\n", recs[0].Element, recs[0].Action, recs[0].AtS, recs[0].LostPackets, recs[0].RecoveryS != nil)
 	sum, _ := results.ReadSummary(filepath.Join(dir, results.SummaryFile))
-	fmt.Printf("summary: %d cell, loss %.5f ± %.5f\n", len(sum), *sum[0].LossRateMean, *sum[0].LossRateCI95)
+	loss, half := sum[0].MeanCI95("loss_rate")
+	fmt.Printf("summary: %d cell, loss %.5f ± %.5f\n", len(sum), *loss, *half)
 	// Output:
 	// finished runs: 3
 	// shortest-path/0.5/r0: loss 0.0430, throughput 76000 bit/s

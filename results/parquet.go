@@ -61,6 +61,12 @@ type tableWriter[T any] struct {
 }
 
 func newTableWriter[T any](w io.Writer, kv [][2]string) *tableWriter[T] {
+	return &tableWriter[T]{w: parquet.NewGenericWriter[T](w, writerOptions(kv)...)}
+}
+
+// writerOptions are the options of every table writer: zstd, bounded row
+// groups, and kv as key-value metadata.
+func writerOptions(kv [][2]string) []parquet.WriterOption {
 	opts := []parquet.WriterOption{
 		parquet.Compression(&zstd.Codec{Level: zstd.SpeedDefault}),
 		parquet.MaxRowsPerRowGroup(rowGroupRows),
@@ -68,7 +74,7 @@ func newTableWriter[T any](w io.Writer, kv [][2]string) *tableWriter[T] {
 	for _, p := range kv {
 		opts = append(opts, parquet.KeyValueMetadata(p[0], p[1]))
 	}
-	return &tableWriter[T]{w: parquet.NewGenericWriter[T](w, opts...)}
+	return opts
 }
 
 func (t *tableWriter[T]) write(rows []T) error {
@@ -93,6 +99,12 @@ func writeTable[T any](w io.Writer, rows []T, kv [][2]string) error {
 // readTable reads every row of the Parquet file at path, checking that it
 // holds the named table.
 func readTable[T any](path, table string) ([]T, error) {
+	return readFile(path, func(r io.ReaderAt, size int64) ([]T, error) { return readRows[T](r, size, path, table) })
+}
+
+// readFile opens path and hands it to read, whole in memory when it is
+// small.
+func readFile[T any](path string, read func(r io.ReaderAt, size int64) ([]T, error)) ([]T, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("results: %w", err)
@@ -103,7 +115,7 @@ func readTable[T any](path, table string) ([]T, error) {
 		return nil, fmt.Errorf("results: %w", err)
 	}
 	if st.Size() > inMemoryBytes {
-		return readRows[T](f, st.Size(), path, table)
+		return read(f, st.Size())
 	}
 	// Small files (every part) are read in one system call: the Parquet
 	// reader otherwise issues many small reads for the footer.
@@ -111,7 +123,7 @@ func readTable[T any](path, table string) ([]T, error) {
 	if _, err := io.ReadFull(f, b); err != nil {
 		return nil, fmt.Errorf("results: %s: %w", path, err)
 	}
-	return readRows[T](bytes.NewReader(b), int64(len(b)), path, table)
+	return read(bytes.NewReader(b), int64(len(b)))
 }
 
 // inMemoryBytes is the largest table file read whole into memory.
@@ -192,7 +204,7 @@ func ReadRecoveries(path string) ([]RecoveryRow, error) {
 
 // ReadSummary reads a summary.parquet file.
 func ReadSummary(path string) ([]SummaryRow, error) {
-	return readTable[SummaryRow](path, tableSummary)
+	return readFile(path, func(r io.ReaderAt, size int64) ([]SummaryRow, error) { return readSummary(r, size, path) })
 }
 
 // writeFileAtomic writes path through a temporary file in the same folder

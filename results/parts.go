@@ -239,7 +239,7 @@ func Finalize(dir string, order []string, meta Meta) error {
 	ps = append(ps, p)
 	sum := Summarize(runs)
 	p, err = writeTemp(filepath.Join(dir, SummaryFile), func(w io.Writer) error {
-		return writeTable(w, sum, meta.kv(tableSummary))
+		return writeSummary(w, sum, meta.kv(tableSummary))
 	})
 	if err != nil {
 		return fail(err)

@@ -166,22 +166,6 @@ type RecoveryRow struct {
 	PeakDelayS *float64 `parquet:"peak_delay_s,optional"`
 }
 
-// SummaryRow is one row of summary.parquet: one cell, over its replicates.
-// Each <name>_mean is the mean of the runs' non-null values and <name>_ci95
-// the half-width of its 95% Student t confidence interval; see Summarize.
-type SummaryRow struct {
-	CellDims
-	Replicates        int      `parquet:"replicates"`
-	DeliveryMeanSMean *float64 `parquet:"delivery_mean_s_mean,optional"`
-	DeliveryMeanSCI95 *float64 `parquet:"delivery_mean_s_ci95,optional"`
-	DeliveryP95SMean  *float64 `parquet:"delivery_p95_s_mean,optional"`
-	DeliveryP95SCI95  *float64 `parquet:"delivery_p95_s_ci95,optional"`
-	LossRateMean      *float64 `parquet:"loss_rate_mean,optional"`
-	LossRateCI95      *float64 `parquet:"loss_rate_ci95,optional"`
-	ThroughputBpsMean *float64 `parquet:"throughput_bps_mean,optional"`
-	ThroughputBpsCI95 *float64 `parquet:"throughput_bps_ci95,optional"`
-}
-
 // RunTables are one run's rows of every per-run table.
 type RunTables struct {
 	Run        RunRow

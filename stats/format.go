@@ -33,8 +33,9 @@ func Sig(x float64, n int) string {
 // PlusMinus formats mean ± half with the half-width to two significant
 // digits and the mean rounded to the same decimal place (common practice
 // for reporting an estimate with its uncertainty: "777 ± 39",
-// "0.021 ± 0.032"). Without a usable half-width (NaN, zero or infinite) it
-// prints the mean alone with four significant digits.
+// "0.021 ± 0.032"). Without a half-width (NaN or infinite) or with a zero
+// one (every replicate equal) the mean prints alone with four significant
+// digits.
 func PlusMinus(mean, half float64) string {
 	if math.IsNaN(half) || half == 0 || math.IsInf(half, 0) {
 		return Sig(mean, 4)

@@ -5,73 +5,56 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 	"text/tabwriter"
 
 	"hoplore/results"
+	"hoplore/stats"
 )
 
-// WriteSummary prints the per-cell table: for each cell its replicates and
-// the mean ± 95% confidence half-width (Student t, from summary.parquet) of
-// the mean delivery time and the 95th percentile delivery time (ms), the
-// loss rate (%) and the throughput (Mbit/s). A half-width is left out when
-// there is a single replicate; a statistic with no value prints as "-".
+// WriteSummary prints the per-cell table: for each cell its replicates and,
+// for every column summary.parquet summarises with a mean (results.Summarized,
+// results.MeanCI95), the mean ± 95% confidence half-width (Student t) in
+// display units (DisplayUnit), rounded as stats.PlusMinus does. A
+// half-width is left out when there is a single replicate; a statistic
+// with no value prints as stats.None.
 func WriteSummary(w io.Writer, rows []results.SummaryRow) error {
+	var cols []*results.Column
+	for _, c := range results.Summarized() {
+		if c.Summary == results.MeanCI95 {
+			cols = append(cols, c)
+		}
+	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "topology\tagent\tload\tfailure\treps\tdelivery mean ms\tdelivery p95 ms\tloss %\tthroughput Mbit/s")
+	head := []string{"topology", "agent", "load", "failure", "reps"}
+	for _, c := range cols {
+		_, unit := c.Display()
+		head = append(head, strings.TrimSpace(c.Label+" "+unit))
+	}
+	fmt.Fprintln(tw, strings.Join(head, "\t"))
+	line := make([]string, 0, len(head))
 	for i := range rows {
 		r := &rows[i]
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\n",
-			r.Topology, r.Agent, strconv.FormatFloat(r.Load, 'g', -1, 64), r.Failure, r.Replicates,
-			pm(r.DeliveryMeanSMean, r.DeliveryMeanSCI95, 1e3),
-			pm(r.DeliveryP95SMean, r.DeliveryP95SCI95, 1e3),
-			pm(r.LossRateMean, r.LossRateCI95, 100),
-			pm(r.ThroughputBpsMean, r.ThroughputBpsCI95, 1e-6))
+		line = append(line[:0], r.Topology, r.Agent, strconv.FormatFloat(r.Load, 'g', -1, 64), r.Failure, strconv.Itoa(r.Replicates))
+		for _, c := range cols {
+			scale, _ := c.Display()
+			mean, half := r.MeanCI95(c.Name)
+			line = append(line, estimate(mean, half).Format(scale))
+		}
+		fmt.Fprintln(tw, strings.Join(line, "\t"))
 	}
 	return tw.Flush()
 }
 
-// pm formats mean ± half-width, both scaled: the mean to three significant
-// digits, the half-width to two.
-func pm(mean, half *float64, scale float64) string {
-	if mean == nil {
-		return "-"
+// estimate turns a summary's nullable mean and half-width into a
+// stats.Estimate (N only tells a value from none).
+func estimate(mean, half *float64) stats.Estimate {
+	e := stats.Estimate{Mean: math.NaN(), CI95: math.NaN()}
+	if mean != nil {
+		e.N, e.Mean = 1, *mean
 	}
-	s, _ := sig3(*mean * scale)
 	if half != nil {
-		s += " ± " + sig2(*half*scale)
+		e.CI95 = *half
 	}
-	return s
-}
-
-// sig2 formats a half-width with two significant digits, so that a small
-// interval beside a large mean does not print as ± 0.
-func sig2(v float64) string {
-	a := math.Abs(v)
-	switch {
-	case a == 0:
-		return "0"
-	case a >= 1e6 || a < 1e-3:
-		return strconv.FormatFloat(v, 'e', 1, 64)
-	case a >= 10:
-		return strconv.FormatFloat(math.Round(v), 'f', 0, 64)
-	}
-	return strconv.FormatFloat(v, 'f', 1-int(math.Floor(math.Log10(a))), 64)
-}
-
-// sig3 formats v with three significant digits, without an exponent for
-// everyday magnitudes, and returns the decimals it used (-1: exponent form).
-func sig3(v float64) (string, int) {
-	a := math.Abs(v)
-	dec := 0
-	switch {
-	case a == 0:
-		dec = 2
-	case a >= 1e6 || a < 1e-3:
-		return strconv.FormatFloat(v, 'e', 2, 64), -1
-	case a >= 100:
-		dec = 0
-	default:
-		dec = 2 - int(math.Floor(math.Log10(a)))
-	}
-	return strconv.FormatFloat(v, 'f', dec, 64), dec
+	return e
 }
