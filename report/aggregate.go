@@ -6,6 +6,7 @@ import (
 	"math"
 	"slices"
 
+	"hoplore/results"
 	"hoplore/stats"
 )
 
@@ -30,12 +31,22 @@ type LoadPanel struct {
 	Curves   []Curve // one per agent, in Data.Agents order; agents absent from the panel are left out
 }
 
-// LoadCurves aggregates metric (one of CompareMetrics) by topology, failure
-// schedule, agent and load.
-func LoadCurves(d *Data, metricName string) []LoadPanel {
+// LoadCurves aggregates metric, a numeric runs.parquet column, by
+// topology, failure schedule, agent and load. It is an input error if the
+// metric is not such a column.
+func LoadCurves(d *Data, metricName string) ([]LoadPanel, error) {
+	k, err := metricIndex(metricName)
+	if err != nil {
+		return nil, err
+	}
+	return loadCurves(d, k), nil
+}
+
+// loadCurves aggregates Run.Values[k].
+func loadCurves(d *Data, k int) []LoadPanel {
 	vals := map[Cell][]float64{}
 	for _, r := range d.Runs {
-		vals[r.Cell] = append(vals[r.Cell], metric(r, metricName))
+		vals[r.Cell] = append(vals[r.Cell], r.at(k))
 	}
 	var out []LoadPanel
 	for _, topo := range d.Topologies() {
@@ -375,13 +386,23 @@ type TableRow struct {
 }
 
 // CellTable returns, for every panel, each agent's mean and 95% CI of
-// metric (one of CompareMetrics) across replicates, agents in Data.Agents
-// order.
-func CellTable(d *Data, metricName string) []TableRow {
+// metric, a numeric runs.parquet column, across replicates, agents in
+// Data.Agents order. It is an input error if the metric is not such a
+// column.
+func CellTable(d *Data, metricName string) ([]TableRow, error) {
+	k, err := metricIndex(metricName)
+	if err != nil {
+		return nil, err
+	}
+	return cellTable(d, k), nil
+}
+
+// cellTable tabulates Run.Values[k].
+func cellTable(d *Data, k int) []TableRow {
 	vals := map[Cell][]float64{}
 	panels := map[Panel]bool{}
 	for _, r := range d.Runs {
-		vals[r.Cell] = append(vals[r.Cell], metric(r, metricName))
+		vals[r.Cell] = append(vals[r.Cell], r.at(k))
 		panels[Panel{r.Topology, r.Load, r.Failure}] = true
 	}
 	var ps []Panel
@@ -430,7 +451,8 @@ type GlanceRow struct {
 // replicates (ties: sorted label order).
 func Glance(d *Data) []GlanceRow {
 	agents := d.Agents()
-	delay, loss := CellTable(d, "delivery_mean_s"), CellTable(d, "loss_rate")
+	delay := cellTable(d, results.Runs.Index("delivery_mean_s"))
+	loss := cellTable(d, results.Runs.Index("loss_rate"))
 	byPanel := map[Panel][]Run{}
 	for _, r := range d.Runs {
 		p := Panel{r.Topology, r.Load, r.Failure}
@@ -452,11 +474,11 @@ func Glance(d *Data) []GlanceRow {
 		g := GlanceRow{Panel: row.Panel, Best: agents[b], Second: agents[s],
 			BestMean: row.Est[b], SecondMean: row.Est[s], BestLoss: loss[i].Est[b], SecondLoss: loss[i].Est[s]}
 		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
-		cs, err := Compare(sub, g.Best, g.Second)
+		cs, err := Compare(sub, g.Best, g.Second, "delivery_mean_s")
 		if err != nil {
 			continue // the two never shared a replicate index
 		}
-		g.Diff = cs[0] // delivery_mean_s comes first
+		g.Diff = cs[0]
 		out = append(out, g)
 	}
 	return out

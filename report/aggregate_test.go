@@ -119,7 +119,10 @@ func TestLoadCurvesMatchIndependentAggregation(t *testing.T) {
 		"loss_rate":       func(r synRun) float64 { return r.LossRate },
 	}
 	for _, m := range CompareMetrics {
-		panels := LoadCurves(d, m)
+		panels, err := LoadCurves(d, m)
+		if err != nil {
+			t.Fatal(err)
+		}
 		if want := len(demoSpec.topologies) * len(demoSpec.failures); len(panels) != want {
 			t.Fatalf("%s: got %d panels, want %d", m, len(panels), want)
 		}
@@ -147,7 +150,10 @@ func TestLoadCurvesMatchIndependentAggregation(t *testing.T) {
 func TestCellTableMatchesIndependentAggregation(t *testing.T) {
 	d, dir := loadSynthetic(t, demoSpec)
 	runs := readTyped[synRun](t, filepath.Join(dir, "runs.parquet"))
-	rows := CellTable(d, "delivery_mean_s")
+	rows, err := CellTable(d, "delivery_mean_s")
+	if err != nil {
+		t.Fatal(err)
+	}
 	agents := d.Agents()
 	if want := len(demoSpec.topologies) * len(demoSpec.failures) * len(demoSpec.loads); len(rows) != want {
 		t.Fatalf("got %d rows, want %d", len(rows), want)

@@ -10,6 +10,8 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"hoplore/results"
 )
 
 const (
@@ -27,20 +29,33 @@ type metricAxis struct {
 	logY  bool
 }
 
-func axisFor(metricName string, curves []Curve) metricAxis {
+// axisLabels name the y axis of a charted column where its schema label
+// (results.Column.Label) reads too tersely on an axis.
+var axisLabels = map[string]string{
+	"delivery_mean_s": "mean delivery time",
+	"delivery_p95_s":  "delivery time, p95",
+	"loss_rate":       "loss rate",
+}
+
+// axisFor returns the y axis of column c: times in a unit fitting the
+// largest value, on a log scale when they span more than a factor 30;
+// loss rate in percent of packets; other columns in their display unit
+// (results.Column.Display).
+func axisFor(c *results.Column, curves []Curve) metricAxis {
 	lo, hi := valueRange(curves)
-	switch metricName {
-	case "loss_rate":
-		return metricAxis{label: "loss rate", scale: 100, unit: "% of packets"}
-	case "delivery_p95_s", "delivery_mean_s":
-		label := "mean delivery time"
-		if metricName == "delivery_p95_s" {
-			label = "delivery time, p95"
-		}
+	label := c.Label
+	if l, ok := axisLabels[c.Name]; ok {
+		label = l
+	}
+	switch {
+	case c.Name == "loss_rate":
+		return metricAxis{label: label, scale: 100, unit: "% of packets"}
+	case c.Unit == "s":
 		scale, unit := timeUnit(hi)
 		return metricAxis{label: label, scale: scale, unit: unit, logY: lo > 0 && hi/lo > 30}
 	}
-	panic("report: unknown metric " + metricName)
+	scale, unit := c.Display()
+	return metricAxis{label: label, scale: scale, unit: unit}
 }
 
 // setRange fixes an axis range, padding a degenerate one.
@@ -72,9 +87,9 @@ func agentIndex(agents []string) map[string]int {
 	return m
 }
 
-// loadChart draws metricName against load: rows are topologies, columns
+// loadChart draws column col against load: rows are topologies, columns
 // failure schedules.
-func loadChart(id, title, caption string, panels []LoadPanel, agents []string, metricName string) *chart {
+func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column) *chart {
 	idx := agentIndex(agents)
 	var topos, fails []string
 	var all []Curve
@@ -87,7 +102,7 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, m
 		}
 		all = append(all, lp.Curves...)
 	}
-	ax := axisFor(metricName, all)
+	ax := axisFor(col, all)
 	lo, hi := valueRange(all)
 	xlo, xhi := math.Inf(1), math.Inf(-1)
 	for _, c := range all {

@@ -9,15 +9,23 @@ import (
 	"strings"
 	"text/tabwriter"
 
-	"github.com/parquet-go/parquet-go"
-	"github.com/parquet-go/parquet-go/compress/zstd"
-
 	"hoplore/internal/atomicfile"
+	"hoplore/results"
 	"hoplore/stats"
 )
 
-// CompareMetrics are the runs.parquet columns Compare tests, in order.
-var CompareMetrics = []string{"delivery_mean_s", "delivery_p95_s", "loss_rate"}
+// CompareMetrics are the runs.parquet columns Compare tests when given
+// none, in order: the charted columns of the results schema
+// (results.Charted).
+var CompareMetrics = chartedNames()
+
+func chartedNames() []string {
+	var out []string
+	for _, c := range results.Charted() {
+		out = append(out, c.Name)
+	}
+	return out
+}
 
 // Comparison is one paired comparison of agents A and B in one panel
 // (topology, load, failure) on one metric. Differences are A − B over the
@@ -52,10 +60,22 @@ type Comparison struct {
 }
 
 // Compare pairs agents a and b across replicates in every panel where both
-// ran, and tests each metric in CompareMetrics. Rows come sorted by
-// topology, failure, load, metric order. It is an error if either label is
-// not an agent of the experiment, or if the two never ran in the same panel.
-func Compare(d *Data, a, b string) ([]Comparison, error) {
+// ran, and tests each of metrics, numeric runs.parquet columns
+// (CompareMetrics when none is given). Rows come sorted by topology,
+// failure, load, metric order. It is an input error if a metric is not a
+// numeric runs.parquet column, if either label is not an agent of the
+// experiment, or if the two never ran in the same panel.
+func Compare(d *Data, a, b string, metrics ...string) ([]Comparison, error) {
+	if len(metrics) == 0 {
+		metrics = CompareMetrics
+	}
+	idx := make([]int, len(metrics))
+	for i, m := range metrics {
+		var err error
+		if idx[i], err = metricIndex(m); err != nil {
+			return nil, err
+		}
+	}
 	agents := d.Agents()
 	for _, l := range []string{a, b} {
 		if !slices.Contains(agents, l) {
@@ -100,13 +120,13 @@ func Compare(d *Data, a, b string) ([]Comparison, error) {
 			continue
 		}
 		slices.Sort(reps)
-		for _, m := range CompareMetrics {
+		for mi, m := range metrics {
 			var xa, xb, diff []float64
 			same := true
 			for _, rep := range reps {
 				ra, rb := runsA[key{p, rep}], runsB[key{p, rep}]
 				same = same && ra.Seed == rb.Seed
-				va, vb := metric(ra, m), metric(rb, m)
+				va, vb := ra.at(idx[mi]), rb.at(idx[mi])
 				if math.IsNaN(va) || math.IsNaN(vb) {
 					continue
 				}
@@ -141,28 +161,18 @@ func comparePanel(x, y Panel) int {
 	return cmp.Or(cmp.Compare(x.Topology, y.Topology), compareFailure(x.Failure, y.Failure), cmp.Compare(x.Load, y.Load))
 }
 
-func metric(r Run, name string) float64 {
-	switch name {
-	case "delivery_mean_s":
-		return r.DeliveryMean
-	case "delivery_p95_s":
-		return r.DeliveryP95
-	case "loss_rate":
-		return r.LossRate
-	}
-	panic("report: unknown metric " + name)
-}
+// CompareTable is the name compare.parquet is stored under
+// (results.KeyTable).
+const CompareTable = "compare"
 
-// WriteComparisons writes rows to path as Parquet, atomically: into a
-// temporary file in the same folder, renamed over path once complete.
-func WriteComparisons(path string, rows []Comparison) error {
-	return atomicWrite(path, func(w io.Writer) error {
-		pw := parquet.NewGenericWriter[Comparison](w, parquet.Compression(&zstd.Codec{Level: zstd.SpeedDefault}))
-		if _, err := pw.Write(rows); err != nil {
-			return err
-		}
-		return pw.Close()
-	})
+// WriteComparisons writes rows to path as Parquet, atomically, with the
+// key-value metadata of every result table (results.WriteTable): meta
+// names the experiment and the tool version writing the file.
+func WriteComparisons(path string, rows []Comparison, meta results.Meta) error {
+	if err := results.WriteTable(path, CompareTable, meta, rows); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	return nil
 }
 
 // atomicWrite writes a file through fill into a temporary file beside path

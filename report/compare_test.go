@@ -9,6 +9,8 @@ import (
 	"testing"
 
 	"github.com/parquet-go/parquet-go"
+
+	"hoplore/results"
 )
 
 // Drug 1 and drug 2 hours of additional sleep for ten patients, Student
@@ -28,8 +30,8 @@ func sleepData() *Data {
 			name string
 			v    float64
 		}{{"drug-2", sleepDrug2[i]}, {"drug-1", sleepDrug1[i]}} {
-			d.Runs = append(d.Runs, Run{Cell: Cell{Topology: "ward", Agent: ag.name, Load: 1, Failure: "none"},
-				Replicate: i, DeliveryMean: ag.v, DeliveryP95: ag.v, LossRate: ag.v})
+			d.Runs = append(d.Runs, NewRun(Cell{Topology: "ward", Agent: ag.name, Load: 1, Failure: "none"}, i,
+				map[string]float64{"delivery_mean_s": ag.v, "delivery_p95_s": ag.v, "loss_rate": ag.v}))
 		}
 	}
 	return d
@@ -78,7 +80,8 @@ func TestComparePairsByReplicate(t *testing.T) {
 			continue
 		}
 		if r.Agent == "drug-2" && r.Replicate == 0 {
-			r.DeliveryP95 = math.NaN()
+			r.Values = slices.Clone(r.Values)
+			r.Values[results.Runs.Index("delivery_p95_s")] = math.NaN()
 		}
 		runs = append(runs, r)
 	}
@@ -133,8 +136,13 @@ func TestWriteComparisonsRoundTrip(t *testing.T) {
 	}
 	dir := t.TempDir()
 	path := filepath.Join(dir, "compare.parquet")
-	if err := WriteComparisons(path, rows); err != nil {
+	meta := results.Meta{Version: "v-test", Experiment: "sleep", ExperimentHash: "abc123"}
+	if err := WriteComparisons(path, rows, meta); err != nil {
 		t.Fatal(err)
+	}
+	// the same key-value metadata as every result table
+	if got, err := results.ReadMeta(path); err != nil || got != meta {
+		t.Errorf("metadata: got %+v (%v), want %+v", got, err, meta)
 	}
 	// read back through the column reader (not the typed writer's struct)
 	tb, err := readTable(path, []string{"experiment", "topology", "load", "failure", "agent_a", "agent_b", "metric", "n",
@@ -164,7 +172,7 @@ func TestWriteComparisonsRoundTrip(t *testing.T) {
 		t.Errorf("folder holds %d entries, want 1", len(entries))
 	}
 	// a failing write leaves the previous file untouched
-	if err := WriteComparisons(filepath.Join(dir, "missing", "compare.parquet"), rows); err == nil {
+	if err := WriteComparisons(filepath.Join(dir, "missing", "compare.parquet"), rows, meta); err == nil {
 		t.Error("write into a missing folder: no error")
 	}
 }
@@ -199,7 +207,10 @@ func TestGlance(t *testing.T) {
 	if want := len(demoSpec.topologies) * len(demoSpec.failures) * len(demoSpec.loads); len(rows) != want {
 		t.Fatalf("got %d rows, want %d", len(rows), want)
 	}
-	table := CellTable(d, "delivery_mean_s")
+	table, err := CellTable(d, "delivery_mean_s")
+	if err != nil {
+		t.Fatal(err)
+	}
 	agents := d.Agents()
 	for i, g := range rows {
 		// best and runner-up are the two lowest means of the cell table
@@ -230,5 +241,32 @@ func TestGlance(t *testing.T) {
 		if !found || g.Diff.MeanDiff > 0 {
 			t.Errorf("%+v: comparison found=%v, mean difference %v (best minus runner-up must be ≤ 0)", g.Panel, found, g.Diff.MeanDiff)
 		}
+	}
+}
+
+// An unknown metric is an input error that lists the metrics there are;
+// any numeric runs.parquet column can be compared.
+func TestCompareMetricNames(t *testing.T) {
+	d := sleepData()
+	var ie *InputError
+	for _, name := range []string{"delivery_mean", "version"} {
+		_, err := Compare(d, "drug-2", "drug-1", name)
+		if err == nil || !asInput(err, &ie) || !strings.Contains(err.Error(), "known: ") || !strings.Contains(err.Error(), "delivery_mean_s") {
+			t.Errorf("metric %q: got %v, want an input error listing the known metrics", name, err)
+		}
+		if _, err := LoadCurves(d, name); err == nil || !asInput(err, &ie) {
+			t.Errorf("LoadCurves(%q): got %v, want an input error", name, err)
+		}
+		if _, err := CellTable(d, name); err == nil || !asInput(err, &ie) {
+			t.Errorf("CellTable(%q): got %v, want an input error", name, err)
+		}
+	}
+	// a column the runs do not hold compares nothing: n = 0, no p-value
+	rows, err := Compare(d, "drug-2", "drug-1", "hops_mean", "delivery_mean_s")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 2 || rows[0].Metric != "hops_mean" || rows[0].N != 0 || !math.IsNaN(rows[0].PT) || rows[1].N != 10 {
+		t.Errorf("got %+v", rows)
 	}
 }

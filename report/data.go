@@ -3,9 +3,13 @@ package report
 import (
 	"cmp"
 	"errors"
+	"fmt"
 	"math"
 	"path/filepath"
 	"slices"
+	"strings"
+
+	"hoplore/results"
 )
 
 // Cell identifies one cell of an experiment grid: a topology, an agent, a
@@ -24,20 +28,63 @@ type Panel struct {
 	Failure  string
 }
 
-// Run is one row of runs.parquet, reduced to what the report uses. Times are
-// in seconds; a null statistic (no packet delivered) is NaN.
+// Run is one row of runs.parquet. Values holds every numeric column the
+// results schema declares (results.Runs), at the column's index in
+// results.Runs.Columns, in the column's stored unit (times in seconds); a
+// null value, or a column the file lacks, is NaN. Value reads one by name.
 type Run struct {
 	Cell
-	Replicate    int
-	Seed         uint64 // 0 when the table has no seed column
-	Generated    int64
-	Delivered    int64
-	Dropped      int64
-	LossRate     float64
-	DeliveryMean float64 // s
-	DeliveryP95  float64 // s
-	Throughput   float64 // bit/s
-	UtilMax      float64
+	Replicate int
+	Seed      uint64 // 0 when the table has no seed column
+	Values    []float64
+}
+
+// NewRun returns a run of cell c with the named runs.parquet values and NaN
+// for every other column. It panics on a name that is not a numeric column
+// of results.Runs (a programming mistake).
+func NewRun(c Cell, replicate int, values map[string]float64) Run {
+	r := Run{Cell: c, Replicate: replicate, Values: make([]float64, len(results.Runs.Columns))}
+	for i := range r.Values {
+		r.Values[i] = math.NaN()
+	}
+	for name, v := range values {
+		i, err := metricIndex(name)
+		if err != nil {
+			panic(err)
+		}
+		r.Values[i] = v
+	}
+	return r
+}
+
+// Value returns the value of the runs.parquet column name, NaN when it is
+// null, absent or not a numeric column.
+func (r *Run) Value(name string) float64 {
+	return r.at(results.Runs.Index(name))
+}
+
+// at returns Values[k], NaN when r holds no such value.
+func (r *Run) at(k int) float64 {
+	if k < 0 || k >= len(r.Values) {
+		return math.NaN()
+	}
+	return r.Values[k]
+}
+
+// metricIndex returns the index in Run.Values of the numeric runs.parquet
+// column name, or an input error listing the known ones.
+func metricIndex(name string) (int, error) {
+	i := results.Runs.Index(name)
+	if i >= 0 && results.Runs.Columns[i].Number() {
+		return i, nil
+	}
+	var known []string
+	for _, c := range results.Runs.Columns {
+		if c.Number() {
+			known = append(known, c.Name)
+		}
+	}
+	return -1, inputErr("report: no numeric runs.parquet column %q (known: %s)", name, strings.Join(known, ", "))
 }
 
 // Bin is one row of series.parquet.
@@ -89,6 +136,9 @@ type Recovery struct {
 type Data struct {
 	Dir        string
 	Experiment string
+	// Meta is the key-value metadata of runs.parquet: the experiment's
+	// name and hash and the version that wrote it.
+	Meta       results.Meta
 	Runs       []Run
 	Series     []Bin
 	Channels   []Channel
@@ -105,22 +155,37 @@ func cellOf(t *table, i int) Cell {
 // tables are optional and read as empty when absent.
 func Load(dir string) (*Data, error) {
 	d := &Data{Dir: dir}
-	rt, err := readTable(filepath.Join(dir, "runs.parquet"),
-		append(slices.Clone(dimCols), "generated", "delivered", "dropped", "loss_rate", "delivery_mean_s", "delivery_p95_s"),
-		[]string{"experiment", "seed", "throughput_bps", "util_max"})
+	// the charted columns must be there; every other numeric column is
+	// read when present
+	required := slices.Clone(dimCols)
+	optional := []string{"experiment", "seed"}
+	for _, c := range results.Runs.Columns {
+		switch {
+		case c.Charted:
+			required = append(required, c.Name)
+		case c.Number():
+			optional = append(optional, c.Name)
+		}
+	}
+	rt, err := readTable(filepath.Join(dir, results.RunsFile), required, optional)
 	if err != nil {
 		return nil, err
 	}
+	if d.Meta, err = results.ReadMeta(filepath.Join(dir, results.RunsFile)); err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	d.Runs = make([]Run, rt.rows)
+	cols := results.Runs.Columns
 	for i := range rt.rows {
 		if d.Experiment == "" {
 			d.Experiment = rt.s("experiment", i)
 		}
-		d.Runs = append(d.Runs, Run{
-			Cell: cellOf(rt, i), Replicate: int(rt.i("replicate", i)), Seed: rt.bits("seed", i),
-			Generated: rt.i("generated", i), Delivered: rt.i("delivered", i), Dropped: rt.i("dropped", i),
-			LossRate: rt.f("loss_rate", i), DeliveryMean: rt.f("delivery_mean_s", i), DeliveryP95: rt.f("delivery_p95_s", i),
-			Throughput: rt.f("throughput_bps", i), UtilMax: rt.f("util_max", i),
-		})
+		r := &d.Runs[i]
+		r.Cell, r.Replicate, r.Seed = cellOf(rt, i), int(rt.i("replicate", i)), rt.bits("seed", i)
+		r.Values = make([]float64, len(cols))
+		for k := range cols {
+			r.Values[k] = rt.f(cols[k].Name, i)
+		}
 	}
 	st, err := readTable(filepath.Join(dir, "series.parquet"),
 		append(slices.Clone(dimCols), "t_start_s", "t_end_s", "generated", "delivered", "dropped", "delivery_mean_s"),

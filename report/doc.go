@@ -8,7 +8,9 @@
 //     exact Parquet types, with nulls read as NaN;
 //   - aggregation across replicates (LoadCurves, EventCurves, ChannelHeat,
 //     TimeHeat, CellTable): means with 95% Student t confidence intervals
-//     (MeanCI);
+//     (stats.MeanCI95); the runs.parquet columns charted and compared are
+//     those the results schema marks (results.Charted), and any numeric
+//     runs.parquet column can be compared or tabulated by name;
 //   - charts drawn with gonum/plot in one visual style: Okabe–Ito colours
 //     with a distinct dash and marker per agent, viridis heat maps, units on
 //     every axis; written as SVG and PNG, and embedded in the page as SVG

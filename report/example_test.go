@@ -34,13 +34,11 @@ func ExampleCompare() {
 	fast := []float64{0.010, 0.012, 0.011, 0.013}
 	slow := []float64{0.014, 0.015, 0.013, 0.016}
 	for i := range fast {
-		for _, r := range []report.Run{
-			{Cell: report.Cell{Topology: "two-region", Agent: "q-routing", Load: 0.8, Failure: "none"}, DeliveryMean: fast[i], DeliveryP95: 2 * fast[i]},
-			{Cell: report.Cell{Topology: "two-region", Agent: "shortest-path", Load: 0.8, Failure: "none"}, DeliveryMean: slow[i], DeliveryP95: 2 * slow[i]},
-		} {
-			r.Replicate = i
-			d.Runs = append(d.Runs, r)
-		}
+		d.Runs = append(d.Runs,
+			report.NewRun(report.Cell{Topology: "two-region", Agent: "q-routing", Load: 0.8, Failure: "none"}, i,
+				map[string]float64{"delivery_mean_s": fast[i], "delivery_p95_s": 2 * fast[i], "loss_rate": 0}),
+			report.NewRun(report.Cell{Topology: "two-region", Agent: "shortest-path", Load: 0.8, Failure: "none"}, i,
+				map[string]float64{"delivery_mean_s": slow[i], "delivery_p95_s": 2 * slow[i], "loss_rate": 0}))
 	}
 	rows, err := report.Compare(d, "q-routing", "shortest-path")
 	if err != nil {

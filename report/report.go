@@ -12,6 +12,7 @@ import (
 	"slices"
 	"strings"
 
+	"hoplore/results"
 	"hoplore/stats"
 )
 
@@ -84,21 +85,42 @@ func (r *Report) ChartIDs() []string {
 	return ids
 }
 
+// chartText is the wording of a charted column's chart and table.
+type chartText struct{ id, title, caption, table string }
+
+// chartTexts words the charts of the charted runs.parquet columns
+// (results.Charted); a column missing here gets textFor's generic wording.
+var chartTexts = map[string]chartText{
+	"delivery_mean_s": {"delivery-mean", "Mean delivery time against load",
+		"Mean delivery time of the packets delivered in the measured window, per agent, against offered load. One panel per topology (rows) and failure schedule (columns).",
+		"Mean delivery time"},
+	"delivery_p95_s": {"delivery-p95", "95th percentile of delivery time against load",
+		"The tail: 95th percentile of the delivery time of packets delivered in the measured window.",
+		"95th percentile of delivery time"},
+	"loss_rate": {"loss", "Loss rate against load",
+		"Share of the packets generated in the measured window that were dropped (any reason).",
+		"Loss rate"},
+}
+
+// textFor returns the wording of column c's chart and table.
+func textFor(c *results.Column) chartText {
+	if t, ok := chartTexts[c.Name]; ok {
+		return t
+	}
+	label := strings.ToUpper(c.Label[:1]) + c.Label[1:]
+	return chartText{id: slug(c.Name), title: label + " against load",
+		caption: c.Doc + " (runs.parquet column " + c.Name + "), per agent, against offered load.", table: label}
+}
+
 // Build aggregates d into charts and tables. It fails only on an option
 // that names nothing in d.
 func Build(d *Data, o Options) (*Report, error) {
 	o = o.withDefaults(d.Dir)
 	r := &Report{Data: d, options: o}
 	agents := d.Agents()
-	for _, m := range []struct{ metric, id, title, caption string }{
-		{"delivery_mean_s", "delivery-mean", "Mean delivery time against load",
-			"Mean delivery time of the packets delivered in the measured window, per agent, against offered load. One panel per topology (rows) and failure schedule (columns)."},
-		{"delivery_p95_s", "delivery-p95", "95th percentile of delivery time against load",
-			"The tail: 95th percentile of the delivery time of packets delivered in the measured window."},
-		{"loss_rate", "loss", "Loss rate against load",
-			"Share of the packets generated in the measured window that were dropped (any reason)."},
-	} {
-		r.charts = append(r.charts, loadChart(m.id, m.title, m.caption, LoadCurves(d, m.metric), agents, m.metric))
+	for _, c := range results.Charted() {
+		t := textFor(c)
+		r.charts = append(r.charts, loadChart(t.id, t.title, t.caption, loadCurves(d, results.Runs.Index(c.Name)), agents, c))
 	}
 	if o.ExpectedRuns > len(d.Runs) {
 		r.Notes = append(r.Notes, fmt.Sprintf("Incomplete: the tables hold %d of the experiment's %d runs (%d missing: a shard not merged, or a sweep not finished). Means and intervals cover the runs present only.",
@@ -149,12 +171,9 @@ func Build(d *Data, o Options) (*Report, error) {
 	}
 	uniqueIDs(r.charts)
 	r.Glance = Glance(d)
-	for _, m := range []struct{ metric, id, title string }{
-		{"delivery_mean_s", "table-delivery-mean", "Mean delivery time"},
-		{"delivery_p95_s", "table-delivery-p95", "95th percentile of delivery time"},
-		{"loss_rate", "table-loss", "Loss rate"},
-	} {
-		r.tables = append(r.tables, makeTable(m.id, m.title, m.metric, agents, CellTable(d, m.metric)))
+	for _, c := range results.Charted() {
+		t := textFor(c)
+		r.tables = append(r.tables, makeTable("table-"+t.id, t.table, c, agents, cellTable(d, results.Runs.Index(c.Name))))
 	}
 	return r, nil
 }
@@ -246,20 +265,9 @@ type htmlCell struct {
 	Title string
 }
 
-// fmtEstimate formats mean ± half-width in display units.
-func fmtEstimate(e stats.Estimate, scale float64) string {
-	switch {
-	case e.N == 0 || math.IsNaN(e.Mean):
-		return "–"
-	case math.IsNaN(e.CI95):
-		return stats.Sig(e.Mean*scale, 4)
-	}
-	return stats.PlusMinus(e.Mean*scale, e.CI95*scale)
-}
-
-func makeTable(id, title, metricName string, agents []string, rows []TableRow) htmlTable {
-	scale, unit := 100.0, "%"
-	if metricName != "loss_rate" {
+func makeTable(id, title string, c *results.Column, agents []string, rows []TableRow) htmlTable {
+	scale, unit := c.Display()
+	if c.Unit == "s" {
 		var hi float64
 		for _, r := range rows {
 			for _, e := range r.Est {
@@ -274,15 +282,7 @@ func makeTable(id, title, metricName string, agents []string, rows []TableRow) h
 	for _, r := range rows {
 		hr := htmlRow{Topology: r.Topology, Load: fmtNum(r.Load), Failure: r.Failure}
 		for i, e := range r.Est {
-			c := htmlCell{Best: r.Best[i]}
-			switch {
-			case e.N == 0:
-				c.Text = "–"
-			case math.IsNaN(e.CI95):
-				c.Text = stats.Sig(e.Mean*scale, 4)
-			default:
-				c.Text = stats.PlusMinus(e.Mean*scale, e.CI95*scale)
-			}
+			c := htmlCell{Best: r.Best[i], Text: e.Format(scale)}
 			c.Title = fmt.Sprintf("%s: n = %d replicates", agents[i], e.N)
 			hr.Cells = append(hr.Cells, c)
 		}
@@ -367,8 +367,8 @@ func (r *Report) HTML(w io.Writer) error {
 	for _, g := range r.Glance {
 		c := g.Diff
 		v := glanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
-			Best: g.Best, BestMean: fmtEstimate(g.BestMean, scale), BestLoss: fmtEstimate(g.BestLoss, 100),
-			Second: g.Second, SecondMean: fmtEstimate(g.SecondMean, scale), SecondLoss: fmtEstimate(g.SecondLoss, 100),
+			Best: g.Best, BestMean: g.BestMean.Format(scale), BestLoss: g.BestLoss.Format(100),
+			Second: g.Second, SecondMean: g.SecondMean.Format(scale), SecondLoss: g.SecondLoss.Format(100),
 			Diff: stats.PlusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
 		switch {
 		case c.N < 2:

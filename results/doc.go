@@ -12,6 +12,36 @@
 //	recoveries.parquet    one row per run and failure event (RecoveryRow)
 //	summary.parquet       one row per cell                 (SummaryRow)
 //
+// # Schema
+//
+// Every column is declared once, in schema.go: Runs, Series, Links,
+// Recoveries and Summaries list each table's columns (Column: name, unit,
+// label, one-line doc, how summary.parquet summarises it, whether the
+// report charts it), and DimColumns the dimensions. The row structs
+// (RunRow, …) hold the values; the package panics at start-up if a
+// parquet-tagged field has no declared column or a column no field. From
+// the schema follow summary.parquet's columns (Summarize, SummaryRow), the
+// run summary table of package sweep, the columns package report reads,
+// charts and compares, and the column documentation.
+//
+// To add a column to runs.parquet:
+//
+//  1. add a field to RunRow with its parquet tag (a pointer for a value
+//     that can be null, ",optional" in the tag);
+//  2. add its Column to Runs.Columns: Unit, Label, Doc, and Summary
+//     (MeanCI95 gives <name>_mean and <name>_ci95 in summary.parquet and a
+//     column in the run summary table; Sum gives <name>_sum) and Charted
+//     (a chart and a table in the report, a metric of compare) as wanted;
+//  3. compute it in FromRun.
+//
+// Parts written before the column existed read it as zero or null. The
+// other tables work the same way (SeriesRow and Series, LinkRow and Links,
+// RecoveryRow and Recoveries); a table of its own beside a result folder's
+// (such as compare.parquet) is written with WriteTable so that it carries
+// the same key-value metadata.
+//
+// # Folders
+//
 // A sweep converts each finished run with FromRun and stores it with
 // WritePart; a resumed sweep skips the runs ListParts reports; Finalize then
 // assembles the tables in the sweep's run order, and Merge combines folders

@@ -124,3 +124,33 @@ func FuzzEscapeID(f *testing.F) {
 		}
 	})
 }
+
+// A row struct field without a schema entry, or an entry without a field,
+// stops the program at start-up instead of writing an undocumented column.
+func TestBindRefusesMismatch(t *testing.T) {
+	type row struct {
+		Dims
+		A float64 `parquet:"a"`
+		B float64 `parquet:"b"`
+	}
+	for _, tc := range []struct {
+		name string
+		cols []Column
+		want string
+	}{
+		{"undeclared field", []Column{{Name: "a"}}, `column "b" (row.B) has no entry`},
+		{"column without field", []Column{{Name: "a"}, {Name: "b"}, {Name: "c"}}, `column "c" is declared but row has no field`},
+		{"summarised label", []Column{{Name: "a"}, {Name: "b", Summary: MeanCI95}}, `only numeric runs columns are summarised`},
+		{"declared twice", []Column{{Name: "a"}, {Name: "a"}}, `declared twice`},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			defer func() {
+				r := recover()
+				if s, _ := r.(string); !strings.Contains(s, tc.want) {
+					t.Errorf("got panic %v, want one containing %q", r, tc.want)
+				}
+			}()
+			bind(&Table{Name: "test", File: "test.parquet", Columns: tc.cols}, reflect.TypeFor[row]())
+		})
+	}
+}

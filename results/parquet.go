@@ -30,7 +30,7 @@ const (
 	KeyVersion        = "hoplore.version"
 	KeyExperiment     = "hoplore.experiment"
 	KeyExperimentHash = "hoplore.experiment_hash"
-	KeyTable          = "hoplore.table" // runs, series, links, recoveries or summary
+	KeyTable          = "hoplore.table" // runs, series, links, recoveries, summary, or another table's name
 )
 
 // Table names, as stored under KeyTable.
@@ -86,6 +86,17 @@ func (t *tableWriter[T]) write(rows []T) error {
 }
 
 func (t *tableWriter[T]) close() error { return t.w.Close() }
+
+// WriteTable writes rows to path as one Parquet file of the named table,
+// atomically, with the same compression, row groups and key-value
+// metadata (Key*) as every table of a result folder. Tables beside the
+// five of a result folder (a comparison, a derived table) use it so that
+// every file carries the experiment's name and hash.
+func WriteTable[T any](path, table string, meta Meta, rows []T) error {
+	return writeFileAtomic(path, func(w io.Writer) error {
+		return writeTable(w, rows, meta.kv(table))
+	})
+}
 
 // writeTable writes rows to w as one Parquet file.
 func writeTable[T any](w io.Writer, rows []T, kv [][2]string) error {

@@ -99,6 +99,15 @@ func (t *Table) Column(name string) (*Column, bool) {
 	return &t.Columns[i], true
 }
 
+// Index returns the index in t.Columns of the column called name, -1 if
+// there is none.
+func (t *Table) Index(name string) int {
+	if i, ok := t.byName[name]; ok {
+		return i
+	}
+	return -1
+}
+
 // Names returns the table's column names, dimensions left out, in
 // declaration order.
 func (t *Table) Names() []string {

@@ -22,6 +22,22 @@ type SummaryRow struct {
 	Values     []*float64
 }
 
+// NewSummaryRow returns the summary row of cell c with the named
+// summary.parquet values (such as "loss_rate_mean") and null for every
+// other. It panics on a name that is not a value column of
+// summary.parquet (a programming mistake).
+func NewSummaryRow(c CellDims, replicates int, values map[string]float64) SummaryRow {
+	r := SummaryRow{CellDims: c, Replicates: replicates, Values: make([]*float64, len(Summaries.Columns)-1)}
+	for name, v := range values {
+		i, ok := Summaries.byName[name]
+		if !ok || i == 0 {
+			panic("results: no summary.parquet value column " + name)
+		}
+		r.Values[i-1] = f64(v)
+	}
+	return r
+}
+
 // Value returns the value of the summary.parquet column name (such as
 // "loss_rate_mean"), nil when it is null or there is no such column.
 func (r *SummaryRow) Value(name string) *float64 {

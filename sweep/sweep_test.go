@@ -276,25 +276,21 @@ func ExampleExecute() {
 }
 
 func ExampleWriteSummary() {
-	f := func(v float64) *float64 { return &v }
 	rows := []results.SummaryRow{
-		{
-			CellDims:   results.CellDims{Experiment: "x", Topology: "ring", Agent: "shortest-path", Load: 0.5, Failure: "none"},
-			Replicates: 5,
-			// seconds, seconds, fraction, bit/s
-			DeliveryMeanSMean: f(0.0082213), DeliveryMeanSCI95: f(0.0000464),
-			DeliveryP95SMean: f(0.1573), DeliveryP95SCI95: f(0.05887),
-			LossRateMean: f(0.000402), LossRateCI95: f(0.000238),
-			ThroughputBpsMean: f(19.4e6), ThroughputBpsCI95: f(0.107e6),
-		},
-		{
-			CellDims:   results.CellDims{Experiment: "x", Topology: "ring", Agent: "q-routing", Load: 0.5, Failure: "none"},
-			Replicates: 1, ThroughputBpsMean: f(0),
-		},
+		// seconds, seconds, fraction, bit/s
+		results.NewSummaryRow(results.CellDims{Experiment: "x", Topology: "ring", Agent: "shortest-path", Load: 0.5, Failure: "none"}, 5,
+			map[string]float64{
+				"delivery_mean_s_mean": 0.0082213, "delivery_mean_s_ci95": 0.0000464,
+				"delivery_p95_s_mean": 0.1573, "delivery_p95_s_ci95": 0.05887,
+				"loss_rate_mean": 0.000402, "loss_rate_ci95": 0.000238,
+				"throughput_bps_mean": 19.4e6, "throughput_bps_ci95": 0.107e6,
+			}),
+		results.NewSummaryRow(results.CellDims{Experiment: "x", Topology: "ring", Agent: "q-routing", Load: 0.5, Failure: "none"}, 1,
+			map[string]float64{"throughput_bps_mean": 0}),
 	}
 	WriteSummary(os.Stdout, rows)
 	// Output:
-	// topology  agent          load  failure  reps  delivery mean ms  delivery p95 ms  loss %          throughput Mbit/s
-	// ring      shortest-path  0.5   none     5     8.22 ± 0.046      157 ± 59         0.0402 ± 0.024  19.4 ± 0.11
-	// ring      q-routing      0.5   none     1     -                 -                -               0.00
+	// topology  agent          load  failure  reps  delivery mean ms  delivery p95 ms  loss %         throughput Mbit/s
+	// ring      shortest-path  0.5   none     5     8.221 ± 0.046     157 ± 59         0.040 ± 0.024  19.40 ± 0.11
+	// ring      q-routing      0.5   none     1     –                 –                –              0
 }

@@ -76,6 +76,33 @@ func columns[T any](rows []T) expected {
 	return e
 }
 
+// summaryColumns flattens summary rows into the columns the results schema
+// declares for summary.parquet: the cell dimensions, replicates, then one
+// column per value (results.Summaries).
+func summaryColumns(rows []results.SummaryRow) expected {
+	e := expected{cols: map[string][]any{}}
+	for _, c := range results.CellColumns {
+		e.names = append(e.names, c.Name)
+	}
+	e.names = append(e.names, results.Summaries.Names()...)
+	for _, r := range rows {
+		e.cols["experiment"] = append(e.cols["experiment"], r.Experiment)
+		e.cols["topology"] = append(e.cols["topology"], r.Topology)
+		e.cols["agent"] = append(e.cols["agent"], r.Agent)
+		e.cols["load"] = append(e.cols["load"], r.Load)
+		e.cols["failure"] = append(e.cols["failure"], r.Failure)
+		e.cols["replicates"] = append(e.cols["replicates"], int64(r.Replicates))
+		for i, c := range results.Summaries.Columns[1:] {
+			var x any
+			if v := r.Values[i]; v != nil {
+				x = *v
+			}
+			e.cols[c.Name] = append(e.cols[c.Name], x)
+		}
+	}
+	return e
+}
+
 // value returns element i of an arrow array as string, int64, uint64 or
 // float64, or nil when null; dictionary arrays are looked through.
 func value(t *testing.T, a arrow.Array, i int) any {
@@ -260,7 +287,7 @@ func TestArrowReadsEveryTable(t *testing.T) {
 	check(t, filepath.Join(dir, results.SeriesFile), columns(series), meta, "series")
 	check(t, filepath.Join(dir, results.LinksFile), columns(links), meta, "links")
 	check(t, filepath.Join(dir, results.RecoveriesFile), columns(recs), meta, "recoveries")
-	check(t, filepath.Join(dir, results.SummaryFile), columns(summary), meta, "summary")
+	check(t, filepath.Join(dir, results.SummaryFile), summaryColumns(summary), meta, "summary")
 	if len(summary) != 4 || len(runs) != 12 || len(series) != 144 || len(links) != 120 || len(recs) != 24 {
 		t.Errorf("sizes: summary %d runs %d series %d links %d recoveries %d", len(summary), len(runs), len(series), len(links), len(recs))
 	}

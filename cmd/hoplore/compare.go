@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"path/filepath"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -13,6 +14,7 @@ import (
 type compareOptions struct {
 	dir, a, b string
 	out       string
+	metrics   []string
 }
 
 func newCompareCmd(d *deps) *cobra.Command {
@@ -21,8 +23,8 @@ func newCompareCmd(d *deps) *cobra.Command {
 		Use:   "compare DIR --a LABEL --b LABEL",
 		Short: "Paired comparison of two agents across replicates, per cell: mean difference, 95% CI, p-values",
 		Long: "compare pairs the runs of agents A and B that share a cell (topology, load, failure schedule) and a\n" +
-			"replicate index, and so the same seeds, and tests the differences A − B of delivery_mean_s,\n" +
-			"delivery_p95_s and loss_rate: mean difference with its 95% confidence interval (Student t), the paired\n" +
+			"replicate index, and so the same seeds, and tests the differences A − B of " + strings.Join(report.CompareMetrics, ", ") + "\n" +
+			"(or the runs.parquet columns given with --metric): mean difference with its 95% confidence interval (Student t), the paired\n" +
 			"t test and the Wilcoxon signed-rank test (exact for up to 50 pairs). It prints a table and writes\n" +
 			"DIR/compare.parquet, one row per cell and metric.",
 		Example: "  hoplore compare results/load-sweep --a q-routing --b shortest-path",
@@ -36,6 +38,7 @@ func newCompareCmd(d *deps) *cobra.Command {
 	f.StringVar(&o.a, "a", "", "label of agent A (the agent column)")
 	f.StringVar(&o.b, "b", "", "label of agent B")
 	f.StringVar(&o.out, "out", "", "Parquet file to write (default DIR/compare.parquet)")
+	f.StringSliceVar(&o.metrics, "metric", nil, "numeric runs.parquet column to test, repeatable (default "+strings.Join(report.CompareMetrics, ",")+")")
 	_ = cmd.MarkFlagRequired("a")
 	_ = cmd.MarkFlagRequired("b")
 	cmd.ValidArgsFunction = completeDirs
@@ -69,7 +72,7 @@ func runCompare(d *deps, o *compareOptions) error {
 	if err != nil {
 		return err
 	}
-	rows, err := report.Compare(data, o.a, o.b)
+	rows, err := report.Compare(data, o.a, o.b, o.metrics...)
 	if err != nil {
 		return err
 	}
@@ -77,7 +80,9 @@ func runCompare(d *deps, o *compareOptions) error {
 	if out == "" {
 		out = filepath.Join(o.dir, "compare.parquet")
 	}
-	if err := report.WriteComparisons(out, rows); err != nil {
+	meta := data.Meta
+	meta.Version = d.version
+	if err := report.WriteComparisons(out, rows, meta); err != nil {
 		return err
 	}
 	if err := report.PrintComparisons(d.stdout, rows); err != nil {
