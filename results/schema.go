@@ -215,6 +215,8 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "dropped_no_route", Unit: "packets", Label: "dropped, no route", Doc: "measured packets the agent had no channel for"},
 	{Name: "dropped_hop_limit", Unit: "packets", Label: "dropped, hop limit", Doc: "measured packets dropped at the hop limit"},
 	{Name: "dropped_node_down", Unit: "packets", Label: "dropped, node down", Doc: "measured packets lost at or sent to a failed node"},
+	{Name: "dropped_unreachable", Unit: "packets", Label: "dropped, unreachable", Doc: "dropped packets (also counted under their reason) whose destination was down or cut off from them"},
+	{Name: "loss_rate_reachable", Unit: "1", Label: "loss, reachable", Doc: "(dropped − dropped_unreachable) / (generated − dropped_unreachable): the loss routing could have avoided; null if nothing reachable was generated"},
 	{Name: "delivery_p50_s", Unit: "s", Label: "delivery p50", Doc: "median delivery time (histogram, relative error below 1%); null if none"},
 	{Name: "delivery_p99_s", Unit: "s", Label: "delivery p99", Doc: "99th percentile of delivery time (histogram, relative error below 1%); null if none"},
 	{Name: "delivery_max_s", Unit: "s", Label: "delivery max", Doc: "exact maximum delivery time; null if none"},
@@ -225,7 +227,7 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "control_packets", Unit: "packets", Label: "control packets", Doc: "control packets sent (consensus and link-state messages)"},
 	{Name: "control_bytes", Unit: "B", Label: "control bytes", Doc: "bytes of the control packets sent"},
 	{Name: "control_dropped", Unit: "packets", Label: "control dropped", Doc: "control packets lost"},
-	{Name: "route_changes", Label: "route changes", Doc: "next-hop changes pushed by a central agent; 0 for others"},
+	{Name: "route_changes", Label: "route changes", Doc: "route changes made at or after the warm-up (what one is depends on the agent kind: README, Results)"},
 	{Name: "failure_events", Label: "failure events", Doc: "failure events in the run"},
 	{Name: "events", Unit: "events", Label: "events", Doc: "simulation events processed"},
 	{Name: "wall_s", Unit: "s", Label: "wall time", Doc: "wall-clock time of the run: the one column that differs between two executions"},
@@ -244,6 +246,7 @@ var Series = &Table{Name: "series", File: SeriesFile, Doc: "one time bin of one 
 	{Name: "delivery_mean_s", Unit: "s", Label: "delivery mean", Doc: "mean delivery time of the bin's delivered packets; null if none"},
 	{Name: "delivery_p95_s", Unit: "s", Label: "delivery p95", Doc: "95th percentile of their delivery time; null if none"},
 	{Name: "util_max", Unit: "1", Label: "utilisation, max", Doc: "utilisation of the busiest directed channel in the bin"},
+	{Name: "route_changes", Label: "route changes", Doc: "route changes the agent made within the bin"},
 }}
 
 // Links is links.parquet: one row per run and directed channel (LinkRow).
@@ -273,6 +276,14 @@ var Recoveries = &Table{Name: "recoveries", File: RecoveriesFile, Doc: "one fail
 	{Name: "pre_delivery_mean_s", Unit: "s", Label: "delivery before", Doc: "pre-event delivery time level; null when no bin qualified"},
 	{Name: "pre_loss_rate", Unit: "1", Label: "loss before", Doc: "pre-event loss level; null when no bin qualified"},
 	{Name: "window_end_s", Unit: "s", Label: "window end", Doc: "where the search for recovery stopped"},
+	{Name: "lost_reachable", Unit: "packets", Label: "lost, reachable", Doc: "exact drops from the event to the next (link_down, no_route, hop_limit, node_down) of packets whose destination stayed reachable"},
+	{Name: "lost_unreachable", Unit: "packets", Label: "lost, unreachable", Doc: "exact drops from the event to the next of packets whose destination was down or cut off, any reason"},
+	{Name: "lost_queue_full", Unit: "packets", Label: "lost, queue full", Doc: "exact queue_full drops of reachable packets from the event to the next (baseline included)"},
+	{Name: "reconnect_s", Unit: "s", Label: "reconnect", Doc: "time from the event to the last drop counted in lost_reachable; 0 when there was none"},
+	{Name: "settle_s", Unit: "s", Label: "settle", Doc: "time until delivery time is stable at its new level (see Recover); null if it did not settle"},
+	{Name: "new_delivery_mean_s", Unit: "s", Label: "delivery after", Doc: "the level delivery time settled at; null if it did not settle"},
+	{Name: "delay_ratio", Unit: "1", Label: "delay ratio", Doc: "new_delivery_mean_s / pre_delivery_mean_s; null if either is"},
+	{Name: "peak_delay_s", Unit: "s", Label: "peak delay", Doc: "largest bin mean delivery time in the window"},
 }}
 
 // Summaries is summary.parquet: one row per cell (SummaryRow). Its columns
