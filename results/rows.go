@@ -147,8 +147,9 @@ type RecoveryRow struct {
 	// time or the end of the series.
 	WindowEndS float64 `parquet:"window_end_s"`
 
-	// Exact per-packet counts of the drops attributed to the event (those
-	// from it to the next event; see sim.Outcome), warm-up included.
+	// Exact per-packet counts of the drops attributed to the event (see
+	// sim.Outcome), warm-up included: reachable ones from the event to the
+	// next, unreachable ones of packets the event cut off, whenever.
 	LostReachable   int64 `parquet:"lost_reachable"`   // link_down, no_route, hop_limit, node_down
 	LostUnreachable int64 `parquet:"lost_unreachable"` // destination down or cut off, any reason
 	LostQueueFull   int64 `parquet:"lost_queue_full"`  // reachable, queue_full (baseline included)

@@ -141,4 +141,5 @@ type Packet struct {
 	// unreachable: at generation or at some topology change while it was in
 	// the network, the destination could not be reached from where it was
 	unreachable bool
+	cause       int32 // when unreachable: the failure event that made it so (index), −1 before any
 }

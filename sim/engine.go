@@ -558,7 +558,7 @@ func (e *engine) generate(s int) {
 	p := &e.pkts[id]
 	*p = Packet{id: id, Kind: Data, Src: s, Dst: int(d), Size: size, Born: e.now, Prev: -1,
 		Flow: uint32(Mix(uint64(s)<<32|uint64(d), uint64(flow))), Measured: e.now >= e.cfg.Warmup,
-		bin: e.binOf(e.now), at: int32(s), live: true, unreachable: !e.reaches(s, int(d))}
+		bin: e.binOf(e.now), at: int32(s), live: true, unreachable: !e.reaches(s, int(d)), cause: int32(e.curFail)}
 	b := &e.res.Series[p.bin]
 	b.Generated++
 	if p.Measured {
@@ -791,11 +791,13 @@ func (e *engine) drop(id int32, reason DropReason, c int) {
 	if e.pairDrop != nil {
 		e.pairDrop[p.Src*len(e.nodes)+p.Dst]++
 	}
-	if e.curFail >= 0 {
+	if p.unreachable {
+		if p.cause >= 0 {
+			e.res.Outcomes[p.cause].LostUnreachable++
+		}
+	} else if e.curFail >= 0 {
 		o := &e.res.Outcomes[e.curFail]
 		switch {
-		case p.unreachable:
-			o.LostUnreachable++
 		case reason == QueueFull:
 			o.LostQueueFull++
 		default:
@@ -963,7 +965,7 @@ func (e *engine) applyFailure(i int) {
 	for k := range e.pkts {
 		p := &e.pkts[k]
 		if p.live && !p.unreachable && !e.reaches(int(p.at), p.Dst) {
-			p.unreachable = true
+			p.unreachable, p.cause = true, int32(i)
 		}
 	}
 	for _, d := range e.pending {

@@ -66,10 +66,12 @@ type Result struct {
 
 // Outcome is what followed one failure event, exactly (per packet, not
 // binned). Every data packet counts here, warm-up included, like the Series.
-// A drop is attributed to the event that took place last at or before it
-// (several events at one instant: the last applied), so the counts of
-// consecutive events add up to the drops from the first event to the end
-// of the run.
+// A drop of an unreachable packet is attributed to the event that made it
+// unreachable (to none when it was generated unreachable before any event,
+// on a topology disconnected from the start); any other drop to the event
+// that took place last at or before it (several events at one instant: the
+// last applied). On a connected topology the counts of all events add up to
+// the drops from the first event to the end of the run.
 type Outcome struct {
 	// LostReachable counts the dropped reachable packets (see
 	// Result.Unreachable) whose reason is a routing one: link_down,
