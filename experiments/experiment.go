@@ -77,6 +77,9 @@ type Topology struct {
 
 	shape [][]float64 // traffic matrix before scaling
 	scale float64     // SaturationScale of shape
+	// shapeTotal and shapeHops are the sums of shape and of shape × hop
+	// count over all pairs, for estimates.
+	shapeTotal, shapeHops float64
 }
 
 // Traffic is the experiment's traffic model.

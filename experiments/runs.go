@@ -174,6 +174,14 @@ func (t *Topology) prepare(e *Experiment) error {
 		t.shape = t.pairs
 	}
 	t.scale = sim.SaturationScale(n, t.shape, e.Traffic.Size.Mean())
+	t.shapeTotal, t.shapeHops = 0, 0
+	for s, row := range t.shape {
+		hs := n.Hops[s]
+		for d, v := range row {
+			t.shapeTotal += v
+			t.shapeHops += v * float64(hs[d])
+		}
+	}
 	if !(t.scale > 0) || math.IsInf(t.scale, 0) {
 		return fmt.Errorf("the traffic matrix offers no load")
 	}
@@ -290,19 +298,16 @@ const (
 )
 
 // size returns what the agent's cost estimate needs to know of the run.
-// Cost: O(N²).
 func (r *Run) size() agents.RunSize {
 	t := r.Topology
-	var total, hops float64
-	for s, row := range r.Rates() {
-		for d, v := range row {
-			total += v
-			hops += v * float64(t.Net.Hops[s][d])
-		}
+	f := 1.0
+	if !math.IsNaN(r.load) {
+		f = r.load * t.scale
 	}
+	total := t.shapeTotal * f
 	meanHops := 0.0
-	if total > 0 {
-		meanHops = hops / total
+	if t.shapeTotal > 0 {
+		meanHops = t.shapeHops / t.shapeTotal
 	}
 	return agents.RunSize{
 		Nodes:    t.Net.NumNodes(),
@@ -317,7 +322,7 @@ func (r *Run) size() agents.RunSize {
 // EstimateEvents returns a rough number of engine events the run will
 // process: generated packets × (1 + 2 × mean shortest-path hops), plus what
 // the agent's kind estimates for itself (control messages, controller
-// rounds: agents.Kind.Cost), plus random failures. Cost: O(N²).
+// rounds: agents.Kind.Cost), plus random failures. Cost: O(1).
 func (r *Run) EstimateEvents() float64 {
 	s := r.size()
 	events := s.Packets * s.Seconds * (eventsPerPacket + eventsPerHop*s.MeanHops)

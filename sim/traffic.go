@@ -118,24 +118,90 @@ func HopRoute(n *Net, v, d int) int {
 
 // ChannelLoads returns the offered load on every channel, in bit/s, when
 // rates m (packets/s) of packets of meanBytes are routed by HopRoute.
+//
+// HopRoute's next hops towards one destination d form a tree into d, so the
+// rates to d are accumulated up that tree: nodes in decreasing hop count
+// from d pass on what they send and what reached them. Cost: O(N·(N+L))
+// time (one pass over every node's channels per destination), O(N) memory
+// beyond the result; the pair-by-pair path walk this replaces was
+// O(N²·diameter·degree).
 func ChannelLoads(n *Net, m [][]float64, meanBytes float64) []float64 {
+	N := n.NumNodes()
 	load := make([]float64, len(n.Channels))
-	for s := range m {
-		for d, r := range m[s] {
-			if r <= 0 || s == d {
-				continue
-			}
-			for v := s; v != d; {
-				c := HopRoute(n, v, d)
-				if c == NoRoute {
-					break
+	count := make([]int, N+1) // nodes per hop count, then bucket starts
+	order := make([]int, N)   // nodes by decreasing hop count from d
+	// Destinations go in blocks so that m is read row by row:
+	// flows[k][v] is what node v sends towards destination d0+k.
+	const block = 32
+	flows := make([][]float64, block)
+	for k := range flows {
+		flows[k] = make([]float64, N)
+	}
+	for d0 := 0; d0 < N; d0 += block {
+		nb := min(block, N-d0)
+		for k := 0; k < nb; k++ {
+			clear(flows[k])
+		}
+		var some [block]bool
+		for v := 0; v < N && v < len(m); v++ {
+			row := m[v]
+			for k := 0; k < nb && d0+k < len(row); k++ {
+				if r := row[d0+k]; r > 0 && v != d0+k {
+					flows[k][v] = r
+					some[k] = true
 				}
-				load[c] += r * meanBytes * 8
-				v = n.Channels[c].To
+			}
+		}
+		for k := 0; k < nb; k++ {
+			if some[k] {
+				loadTowards(n, d0+k, flows[k], load, count, order, meanBytes)
 			}
 		}
 	}
 	return load
+}
+
+// loadTowards adds to load what flow (packets/s from each node) puts on
+// each channel on its way to d under HopRoute; flow is consumed. count and
+// order are scratch of N+1 and N.
+func loadTowards(n *Net, d int, flow, load []float64, count, order []int, meanBytes float64) {
+	// Every link is two channels, so hop counts are symmetric: row d holds
+	// every node's distance to d (read contiguously).
+	hd := n.Hops[d]
+	// counting sort of the nodes that reach d, farthest first
+	clear(count)
+	for _, h := range hd {
+		if h > 0 {
+			count[h]++
+		}
+	}
+	pos := 0
+	for h := len(count) - 1; h >= 1; h-- {
+		c := count[h]
+		count[h] = pos
+		pos += c
+	}
+	for v, h := range hd {
+		if h > 0 {
+			order[count[h]] = v
+			count[h]++
+		}
+	}
+	for _, v := range order[:pos] {
+		f := flow[v]
+		if f == 0 {
+			continue
+		}
+		// HopRoute's choice: the first channel to a node one hop nearer d
+		h := hd[v]
+		for _, c := range n.Out[v] {
+			if to := n.Channels[c].To; hd[to] == h-1 {
+				load[c] += f * meanBytes * 8
+				flow[to] += f
+				break
+			}
+		}
+	}
 }
 
 // SaturationScale returns the factor by which rates m (packets/s) must be
