@@ -1,0 +1,426 @@
+// Package demands reads traffic-matrix files: tables of (source, target,
+// rate) rows, optionally with a time column t that makes them a replay of
+// consecutive matrices, as CSV, as Parquet, or as the demands of the
+// network-design library XML layout (see topologies.ReadNetworkXML).
+//
+// # Tables
+//
+// A CSV file has a header row; a Parquet file has columns. The columns,
+// matched case-insensitively, are source and target (node names), rate,
+// and optionally t and unit:
+//
+//	source,target,rate_mbps        # the unit in the header: rate_UNIT,
+//	Arvenport,Bellcaster,12.5      # rate (UNIT) or rate[UNIT]
+//
+//	t,source,target,rate,unit      # or a unit column, row by row
+//	0,Arvenport,Bellcaster,40,/s
+//	300,Arvenport,Bellcaster,55,/s
+//
+// Units are packet rates (/s, pps, pkt/s, packets/s) or SI bit rates (bps,
+// kbps, Mbps, Gbps, bit/s, kbit/s …); a file that gives none takes the
+// caller's default, and with no default it is an error (the XML layout
+// carries no unit: its demand values are read in the default, else Mbps). t is seconds from
+// the start of the replay, or a Go duration string in CSV. Rows with the
+// same t form one matrix. Rates must be finite and not negative; source and
+// target must differ.
+//
+// Every problem is an input error naming the file and where in it: a
+// *yamlx.Error (FILE:LINE:COL) for CSV and XML, a *RowError (FILE: row N)
+// for Parquet.
+package demands
+
+import (
+	"bytes"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/parquet-go/parquet-go"
+
+	"hoplore/internal/yamlx"
+	"hoplore/topologies"
+)
+
+// Unit is the unit of a rate: packets per second, or a multiple of bit/s.
+type Unit struct {
+	Packets bool    // packets per second
+	BPS     float64 // bit/s per unit, when not Packets
+	Name    string  // as written
+}
+
+// PerSecond converts x in u to packets per second for packets of meanBytes.
+func (u Unit) PerSecond(x, meanBytes float64) float64 {
+	if u.Packets {
+		return x
+	}
+	return x * u.BPS / (8 * meanBytes)
+}
+
+// ParseUnit reads a rate unit: /s, pps, pkt/s, packets/s, or an SI bit rate
+// unit such as bps, kbps, Mbps, Gbps or Mbit/s (case-insensitive).
+func ParseUnit(s string) (Unit, error) {
+	t := strings.TrimSpace(s)
+	switch strings.ToLower(t) {
+	case "/s", "pps", "pkt/s", "packets/s", "packet/s", "pkts/s":
+		return Unit{Packets: true, Name: t}, nil
+	case "":
+		return Unit{}, fmt.Errorf("no unit")
+	}
+	l := strings.ToLower(t)
+	if !strings.ContainsAny(t, "0123456789") && (strings.HasSuffix(l, "bps") || strings.HasSuffix(l, "bit/s")) {
+		if v, err := yamlx.ParseBandwidth("1" + t); err == nil && v > 0 {
+			return Unit{BPS: v, Name: t}, nil
+		}
+	}
+	return Unit{}, fmt.Errorf("unknown unit %q (use /s, pps, bps, kbps, Mbps or Gbps)", s)
+}
+
+// Row is one demand as read.
+type Row struct {
+	T              float64 // seconds; 0 when the file has no t column
+	Source, Target string
+	Rate           float64 // in Unit
+	Unit           Unit
+	// where the row is, for errors: Pos in CSV and XML files, Row (1-based,
+	// data rows) in Parquet files
+	Pos yamlx.Pos
+	Row int
+}
+
+// Table is a traffic-matrix file as read.
+type Table struct {
+	Path string
+	Rows []Row
+	HasT bool // the file has a t column
+}
+
+// RowError is a problem with one row of a Parquet file.
+type RowError struct {
+	File string
+	Row  int // 1-based; 0 for the file as a whole
+	Msg  string
+}
+
+func (e *RowError) Error() string {
+	if e.Row == 0 {
+		return fmt.Sprintf("%s: %s", e.File, e.Msg)
+	}
+	return fmt.Sprintf("%s: row %d: %s", e.File, e.Row, e.Msg)
+}
+
+// InputError marks the error as bad input.
+func (e *RowError) InputError() bool { return true }
+
+// Errorf returns the input error for row r of table t.
+func (t *Table) Errorf(r Row, format string, args ...any) error {
+	if r.Row > 0 {
+		return &RowError{File: t.Path, Row: r.Row, Msg: fmt.Sprintf(format, args...)}
+	}
+	return yamlx.Errorf(t.Path, r.Pos, format, args...)
+}
+
+// Read reads the traffic-matrix file data (named path, which selects the
+// layout by its extension: .csv, .parquet, .xml) with def as the unit of
+// files that give none (nil: none).
+func Read(path string, data []byte, def *Unit) (*Table, error) {
+	switch strings.ToLower(filepath.Ext(path)) {
+	case ".csv":
+		return readCSV(path, data, def)
+	case ".parquet":
+		return readParquet(path, data, def)
+	case ".xml":
+		return readXML(path, data, def)
+	}
+	return nil, &RowError{File: path, Msg: "not a traffic-matrix file: name it .csv, .parquet or .xml"}
+}
+
+// headerUnit splits a rate column's name into "rate" and its unit, if any.
+func headerUnit(name string) (bool, string) {
+	n := strings.ToLower(strings.TrimSpace(name))
+	if n == "rate" {
+		return true, ""
+	}
+	for _, sep := range []string{"_", " (", "(", " [", "["} {
+		if rest, ok := strings.CutPrefix(n, "rate"+sep); ok {
+			rest = strings.TrimSuffix(strings.TrimSuffix(rest, ")"), "]")
+			// keep the unit's case as written
+			off := len(name) - len(strings.TrimLeft(name, " ")) + len("rate") + len(sep)
+			return true, strings.TrimSpace(name[off : off+len(rest)])
+		}
+	}
+	return false, ""
+}
+
+type columns struct {
+	source, target, rate, t, unit int
+	headerUnit                    *Unit
+}
+
+func findColumns(names []string, errAt func(col int, format string, args ...any) error) (*columns, error) {
+	c := &columns{source: -1, target: -1, rate: -1, t: -1, unit: -1}
+	for i, n := range names {
+		ln := strings.ToLower(strings.TrimSpace(n))
+		var dst *int
+		switch ln {
+		case "source":
+			dst = &c.source
+		case "target":
+			dst = &c.target
+		case "t":
+			dst = &c.t
+		case "unit":
+			dst = &c.unit
+		default:
+			if ok, u := headerUnit(n); ok {
+				dst = &c.rate
+				if u != "" {
+					unit, err := ParseUnit(u)
+					if err != nil {
+						return nil, errAt(i, "column %q: %v", n, err)
+					}
+					c.headerUnit = &unit
+				}
+			}
+		}
+		if dst == nil {
+			return nil, errAt(i, "unknown column %q (columns: source, target, rate or rate_UNIT, and optionally t and unit)", n)
+		}
+		if *dst >= 0 {
+			return nil, errAt(i, "column %q is given twice", n)
+		}
+		*dst = i
+	}
+	for _, need := range []struct {
+		name string
+		i    int
+	}{{"source", c.source}, {"target", c.target}, {"rate", c.rate}} {
+		if need.i < 0 {
+			return nil, errAt(0, "no %s column (columns: source, target, rate or rate_UNIT, and optionally t and unit)", need.name)
+		}
+	}
+	if c.unit >= 0 && c.headerUnit != nil {
+		return nil, errAt(c.unit, "a unit column and a unit in the rate column's name: give one")
+	}
+	return c, nil
+}
+
+// field is one cell as read, with where it is.
+type field struct {
+	s   string
+	f   float64 // Parquet numbers
+	num bool
+	pos yamlx.Pos
+}
+
+// row checks one row's cells and appends it.
+func (t *Table) row(c *columns, cells func(i int) field, r Row, def *Unit) error {
+	at := func(f field, format string, args ...any) error {
+		rr := r
+		if f.pos != (yamlx.Pos{}) {
+			rr.Pos = f.pos
+		}
+		return t.Errorf(rr, format, args...)
+	}
+	src, dst := cells(c.source), cells(c.target)
+	r.Source, r.Target = strings.TrimSpace(src.s), strings.TrimSpace(dst.s)
+	if r.Source == "" {
+		return at(src, "source: empty")
+	}
+	if r.Target == "" {
+		return at(dst, "target: empty")
+	}
+	if r.Source == r.Target {
+		return at(dst, "target: a demand needs two different nodes, got %q twice", r.Source)
+	}
+	rate := cells(c.rate)
+	x := rate.f
+	if !rate.num {
+		v, err := strconv.ParseFloat(strings.TrimSpace(rate.s), 64)
+		if err != nil {
+			return at(rate, "rate: %q is not a number", rate.s)
+		}
+		x = v
+	}
+	if x < 0 || math.IsNaN(x) || math.IsInf(x, 0) {
+		return at(rate, "rate: must be a finite number, not negative, got %g", x)
+	}
+	r.Rate = x
+	switch {
+	case c.headerUnit != nil:
+		r.Unit = *c.headerUnit
+	case c.unit >= 0:
+		u := cells(c.unit)
+		unit, err := ParseUnit(u.s)
+		if err != nil {
+			return at(u, "unit: %v", err)
+		}
+		r.Unit = unit
+	case def != nil:
+		r.Unit = *def
+	default:
+		return at(rate, "rate: no unit: give a unit column, a unit in the header such as rate_mbps, or unit: in the experiment")
+	}
+	if c.t >= 0 {
+		tf := cells(c.t)
+		v := tf.f
+		if !tf.num {
+			s := strings.TrimSpace(tf.s)
+			if f, err := strconv.ParseFloat(s, 64); err == nil {
+				v = f
+			} else if d, err := time.ParseDuration(s); err == nil {
+				v = d.Seconds()
+			} else {
+				return at(tf, "t: %q is neither seconds nor a duration such as 5m", tf.s)
+			}
+		}
+		if v < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+			return at(tf, "t: must be a finite time, not negative, got %g", v)
+		}
+		r.T = v
+	}
+	t.Rows = append(t.Rows, r)
+	return nil
+}
+
+func readCSV(path string, data []byte, def *Unit) (*Table, error) {
+	rd := csv.NewReader(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
+	rd.TrimLeadingSpace = true
+	rd.Comment = '#'
+	t := &Table{Path: path}
+	csvErr := func(err error) error {
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			return yamlx.Errorf(path, yamlx.Pos{Line: pe.Line, Col: pe.Column}, "malformed CSV: %v", pe.Err)
+		}
+		return yamlx.Errorf(path, yamlx.Pos{}, "malformed CSV: %v", err)
+	}
+	head, err := rd.Read()
+	if err == io.EOF {
+		return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "empty file: a header row source,target,rate is required")
+	}
+	if err != nil {
+		return nil, csvErr(err)
+	}
+	posOf := func(i int) yamlx.Pos {
+		l, c := rd.FieldPos(i)
+		return yamlx.Pos{Line: l, Col: c}
+	}
+	c, err := findColumns(head, func(col int, format string, args ...any) error {
+		return yamlx.Errorf(path, posOf(col), format, args...)
+	})
+	if err != nil {
+		return nil, err
+	}
+	t.HasT = c.t >= 0
+	for {
+		rec, err := rd.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, csvErr(err)
+		}
+		r := Row{Pos: posOf(0)}
+		cells := func(i int) field { return field{s: rec[i], pos: posOf(i)} }
+		if err := t.row(c, cells, r, def); err != nil {
+			return nil, err
+		}
+	}
+	if len(t.Rows) == 0 {
+		return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "no demands: the file has a header and no rows")
+	}
+	return t, nil
+}
+
+func readParquet(path string, data []byte, def *Unit) (*Table, error) {
+	t := &Table{Path: path}
+	pf, err := parquet.OpenFile(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		return nil, &RowError{File: path, Msg: fmt.Sprintf("not a readable Parquet file: %v", err)}
+	}
+	fields := pf.Schema().Fields()
+	names := make([]string, len(fields))
+	for i, f := range fields {
+		names[i] = f.Name()
+		if !f.Leaf() {
+			return nil, &RowError{File: path, Msg: fmt.Sprintf("column %q is nested; give flat columns", f.Name())}
+		}
+	}
+	c, err := findColumns(names, func(col int, format string, args ...any) error {
+		return &RowError{File: path, Msg: fmt.Sprintf(format, args...)}
+	})
+	if err != nil {
+		return nil, err
+	}
+	t.HasT = c.t >= 0
+	rd := parquet.NewReader(pf)
+	defer rd.Close()
+	buf := make([]parquet.Row, 256)
+	n := 0
+	for {
+		k, err := rd.ReadRows(buf)
+		for _, row := range buf[:k] {
+			n++
+			vals := make([]parquet.Value, len(fields))
+			for _, v := range row {
+				if ci := v.Column(); ci >= 0 && ci < len(vals) {
+					vals[ci] = v
+				}
+			}
+			cells := func(i int) field {
+				v := vals[i]
+				switch v.Kind() {
+				case parquet.ByteArray, parquet.FixedLenByteArray:
+					return field{s: string(v.ByteArray())}
+				case parquet.Double:
+					return field{f: v.Double(), num: true}
+				case parquet.Float:
+					return field{f: float64(v.Float()), num: true}
+				case parquet.Int32:
+					return field{f: float64(v.Int32()), num: true}
+				case parquet.Int64:
+					return field{f: float64(v.Int64()), num: true}
+				}
+				return field{}
+			}
+			if err := t.row(c, cells, Row{Row: n}, def); err != nil {
+				return nil, err
+			}
+		}
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, &RowError{File: path, Row: n + 1, Msg: fmt.Sprintf("cannot read: %v", err)}
+		}
+	}
+	if len(t.Rows) == 0 {
+		return nil, &RowError{File: path, Msg: "no demands: the file has no rows"}
+	}
+	return t, nil
+}
+
+func readXML(path string, data []byte, def *Unit) (*Table, error) {
+	x, err := topologies.ReadNetworkXML(path, data, topologies.ReadOptions{Keep: topologies.KeepLargestComponent})
+	if err != nil {
+		return nil, err
+	}
+	if len(x.Demands) == 0 {
+		return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "no demands: the file has no <demands>")
+	}
+	u := Unit{BPS: 1e6, Name: "Mbps"}
+	if def != nil {
+		u = *def
+	}
+	t := &Table{Path: path}
+	for _, d := range x.Demands {
+		t.Rows = append(t.Rows, Row{Source: d.Source, Target: d.Target, Rate: d.Value, Unit: u, Pos: d.Pos})
+	}
+	return t, nil
+}
