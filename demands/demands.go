@@ -91,6 +91,8 @@ type Row struct {
 	// data rows) in Parquet files
 	Pos yamlx.Pos
 	Row int
+	// where the source and target cells are (CSV), else zero
+	SourcePos, TargetPos yamlx.Pos
 }
 
 // Table is a traffic-matrix file as read.
@@ -116,6 +118,19 @@ func (e *RowError) Error() string {
 
 // InputError marks the error as bad input.
 func (e *RowError) InputError() bool { return true }
+
+// FieldErrorf returns the input error for the source (target false) or
+// target cell of row r of table t, at the cell when its place is known.
+func (t *Table) FieldErrorf(r Row, target bool, format string, args ...any) error {
+	p := r.SourcePos
+	if target {
+		p = r.TargetPos
+	}
+	if p != (yamlx.Pos{}) {
+		r.Pos = p
+	}
+	return t.Errorf(r, format, args...)
+}
 
 // Errorf returns the input error for row r of table t.
 func (t *Table) Errorf(r Row, format string, args ...any) error {
@@ -229,6 +244,7 @@ func (t *Table) row(c *columns, cells func(i int) field, r Row, def *Unit) error
 	}
 	src, dst := cells(c.source), cells(c.target)
 	r.Source, r.Target = strings.TrimSpace(src.s), strings.TrimSpace(dst.s)
+	r.SourcePos, r.TargetPos = src.pos, dst.pos
 	if r.Source == "" {
 		return at(src, "source: empty")
 	}

@@ -48,8 +48,10 @@ func TestReadCSV(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := []Row{
-		{T: 0, Source: "Arvenport", Target: "Bellcaster", Rate: 40, Unit: Unit{Packets: true, Name: "/s"}, Pos: yamlx.Pos{Line: 2, Col: 1}},
-		{T: 300, Source: "Bellcaster", Target: "Corlund", Rate: 2.5, Unit: Unit{BPS: 1e6, Name: "Mbps"}, Pos: yamlx.Pos{Line: 4, Col: 1}},
+		{T: 0, Source: "Arvenport", Target: "Bellcaster", Rate: 40, Unit: Unit{Packets: true, Name: "/s"}, Pos: yamlx.Pos{Line: 2, Col: 1},
+			SourcePos: yamlx.Pos{Line: 2, Col: 3}, TargetPos: yamlx.Pos{Line: 2, Col: 13}},
+		{T: 300, Source: "Bellcaster", Target: "Corlund", Rate: 2.5, Unit: Unit{BPS: 1e6, Name: "Mbps"}, Pos: yamlx.Pos{Line: 4, Col: 1},
+			SourcePos: yamlx.Pos{Line: 4, Col: 4}, TargetPos: yamlx.Pos{Line: 4, Col: 15}},
 	}
 	if !tb.HasT || !reflect.DeepEqual(tb.Rows, want) {
 		t.Errorf("got %+v\nwant %+v", tb.Rows, want)

@@ -98,11 +98,44 @@ func (c *checker) topology(i int, t *topoYAML) (*sim.Graph, string, error) {
 		}
 		c.extra = append(c.extra, data)
 		c.names = append(c.names, t.File.S)
-		g, err := c.files.load(p, data)
+		o := topologies.ReadOptions{Keep: t.Keep.S, BandwidthScale: t.BandwidthScale.V, CapacityUnit: t.CapacityUnit.S}
+		if t.BandwidthScale.Set && !(t.BandwidthScale.V > 0) {
+			return nil, "", c.errf(t.BandwidthScale.Pos, "topologies[%d].bandwidth_scale: must be a positive number, got %g", i, t.BandwidthScale.V)
+		}
+		for _, a := range t.Attributes {
+			if o.Attributes == nil {
+				o.Attributes = map[string]string{}
+			}
+			if _, dup := o.Attributes[a.Field]; dup {
+				return nil, "", c.errf(a.Pos, "topologies[%d].attributes.%s: given twice", i, a.Field)
+			}
+			o.Attributes[a.Field] = a.Key.S
+		}
+		g, err := c.files.load(p, data, o)
 		if err != nil {
 			var ye *yamlx.Error
 			if errors.As(err, &ye) {
 				return nil, "", ye
+			}
+			var oe *topologies.OptionError
+			if errors.As(err, &oe) {
+				at := t.File.Pos
+				switch {
+				case oe.Option == "keep":
+					at = t.Keep.Pos
+				case oe.Option == "bandwidth_scale":
+					at = t.BandwidthScale.Pos
+				case oe.Option == "capacity_unit":
+					at = t.CapacityUnit.Pos
+				case strings.HasPrefix(oe.Option, "attributes"):
+					at = t.AttributesPos
+					for _, a := range t.Attributes {
+						if "attributes."+a.Field == oe.Option {
+							at = a.Pos
+						}
+					}
+				}
+				return nil, "", c.errf(at, "topologies[%d].%s: %s", i, oe.Option, oe.Msg)
 			}
 			return nil, "", c.errf(t.File.Pos, "topologies[%d]: file %q: %v", i, t.File.S, err)
 		}

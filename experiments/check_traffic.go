@@ -20,8 +20,13 @@ func (c *checker) traffic(e *Experiment) error {
 		switch t.Matrix.S {
 		case "uniform", "gravity", "hotspot", "pairs":
 			tr.Matrix = t.Matrix.S
+		case "file":
+			if t.Matrix.File == nil {
+				return c.errf(t.Matrix.Pos, "traffic.matrix: a matrix file is given as {file: PATH} or {files: [PATH, ...]}")
+			}
+			tr.Matrix = "file"
 		default:
-			return c.errf(t.Matrix.Pos, "traffic.matrix: unknown matrix %q (known: uniform, gravity, hotspot, pairs)", t.Matrix.S)
+			return c.errf(t.Matrix.Pos, "traffic.matrix: unknown matrix %q (known: uniform, gravity, hotspot, pairs, or {file: PATH})", t.Matrix.S)
 		}
 	}
 	// pairs
@@ -79,6 +84,11 @@ func (c *checker) traffic(e *Experiment) error {
 	// packet size
 	if err := c.size(e); err != nil {
 		return err
+	}
+	if tr.Matrix == "file" {
+		if err := c.matrixFile(e); err != nil {
+			return err
+		}
 	}
 	if t.Flows.Set {
 		if t.Flows.V < 1 || t.Flows.V > 1<<20 {

@@ -29,12 +29,37 @@
 //	               {name: NAME, PARAM: value ...}  a bundled generator with parameters
 //	               {file: PATH}                    a topology file, relative to this file;
 //	                                               .graphml/.xml files are read as GraphML
+//	                                               or network-design XML (topologies.Read)
+//	             a file entry may add how it is read: keep: largest-component (drop
+//	             the other components, else a disconnected file is an error),
+//	             bandwidth_scale: F > 0 (speeds × F; default 10^-3 for measured speeds,
+//	             1 for hoplore's own bandwidth key), capacity_unit: Mbps (network-design
+//	             XML capacities), attributes: {FIELD: KEY, ...} (GraphML: read label, lat,
+//	             lon, x_km, y_km, processing, bandwidth, delay or buffer from KEY);
+//	             hoplore topologies show FILE prints what each field was read from
 //	               {inline: {name, defaults, nodes, links}}  a topology file's content
 //	             a mapping entry may add label: TEXT (the topology column's value; by
 //	             default the generator label such as "ring(nodes=6)", else the
 //	             topology's name, else inline-INDEX); labels must differ
 //	traffic
-//	  matrix       uniform (default) | gravity | hotspot | pairs (implied by pairs:)
+//	  matrix       uniform (default) | gravity | hotspot | pairs (implied by pairs:) |
+//	               {file: PATH} or {files: [PATH, ...]}: traffic-matrix files (CSV,
+//	               Parquet or network-design XML demands; see package demands), with
+//	                 unit        the rates' unit where the file gives none (/s, Mbps, ...)
+//	                 rate_scale  > 0, without loads: absolute rates × rate_scale
+//	                 period      how long each matrix of a replay lasts (required with
+//	                             files:); with a t column, rows with the same t form one
+//	                             matrix from t on, and t values closer than period are
+//	                             overlapping periods (an error); without period each lasts
+//	                             until the next t, the last until the run ends
+//	                 speedup     > 0, default 1: replay times (t, period) are divided by it
+//	               With loads the file gives the shape: one factor scales every matrix so
+//	               that load 1.0 saturates the busiest channel in the busiest period.
+//	               Without loads the rates (bit rates converted with the mean packet
+//	               size) are absolute. A replay sends nothing before its first period, in
+//	               gaps longer than period, and after a list's last file or after the
+//	               last t + period; a demand for a node the topology lacks is an error at
+//	               its row
 //	  pairs        with matrix pairs: [{from: NODE, to: NODE, rate: N/s}, ...]; give a
 //	               rate on every pair or on none. With loads, the rates (1 each when
 //	               absent) are only the matrix's shape; without loads they are absolute
@@ -48,7 +73,7 @@
 //	               bimodal {small_bytes, large_bytes, large_fraction in [0, 1]};
 //	               sizes ≥ 1 byte; redraw: per-hop draws a fresh size at every hop
 //	               (default none: a packet keeps its size)
-//	  loads        required unless pairs give absolute rates: normalised loads > 0,
+//	  loads        required unless pairs or a matrix file give absolute rates: normalised loads > 0,
 //	               distinct; 1.0 saturates the busiest channel under hop-count
 //	               shortest path (lowest-index tie-break) on the intact topology
 //	  flows        optional, ≥ 1: flow labels per pair for ECMP hashing (default 8)

@@ -12,6 +12,7 @@ import (
 	"github.com/goccy/go-yaml"
 
 	"hoplore/agents"
+	"hoplore/demands"
 	"hoplore/internal/yamlx"
 	"hoplore/sim"
 )
@@ -80,6 +81,10 @@ type Topology struct {
 	// shapeTotal and shapeHops are the sums of shape and of shape × hop
 	// count over all pairs, for estimates.
 	shapeTotal, shapeHops float64
+	// periods are the matrices of a replay before scaling, in
+	// Traffic.Periods order; scale then makes the busiest one's busiest
+	// channel saturated at load 1
+	periods [][][]float64
 }
 
 // Traffic is the experiment's traffic model.
@@ -96,6 +101,28 @@ type Traffic struct {
 	// Phases scale every rate from a time on: load that rises or falls
 	// during a run.
 	Phases []sim.RatePhase
+	// Periods are the matrices of a traffic-matrix file (Matrix "file"): one
+	// for a single matrix, several for a replay, in time order.
+	Periods []MatrixPeriod
+	// Replay is true when the file's matrices play as consecutive periods.
+	Replay bool
+}
+
+// MatrixPeriod is one matrix of a traffic-matrix file, from At on: its
+// demands in packets per second (units converted with the mean packet size,
+// times rate_scale when the rates are absolute). A period without demands
+// sends nothing (a gap in a replay).
+type MatrixPeriod struct {
+	At      sim.Time
+	Demands []Demand
+}
+
+// Demand is one row of a traffic-matrix file.
+type Demand struct {
+	From, To string
+	Rate     float64 // packets per second
+	// at reports a problem with the source (target false) or target
+	at func(target bool, format string, args ...any) error
 }
 
 // Pair is one explicit source–destination flow.
@@ -180,6 +207,10 @@ func parse(path string, data []byte, files fileSource) (e *Experiment, err error
 	c := &checker{file: path, files: files, raw: &raw}
 	e, err = c.experiment()
 	if err != nil {
+		var re *demands.RowError // a Parquet row: the file and row name it
+		if errors.As(err, &re) {
+			return nil, re
+		}
 		return nil, yamlx.Convert(path, err)
 	}
 	h := sha256.New()

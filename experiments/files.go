@@ -22,7 +22,7 @@ type fileSource interface {
 	resolve(exp, name string) string
 	read(p string) ([]byte, error)
 	// load builds the graph of the topology file p whose bytes are data.
-	load(p string, data []byte) (*sim.Graph, error)
+	load(p string, data []byte, o topologies.ReadOptions) (*sim.Graph, error)
 }
 
 // osFiles reads from the file system, relative to the experiment's directory.
@@ -46,16 +46,16 @@ func (osFiles) read(p string) ([]byte, error) {
 	return b, err
 }
 
-func (osFiles) load(p string, data []byte) (*sim.Graph, error) { return parseTopology(p, data) }
+func (osFiles) load(p string, data []byte, o topologies.ReadOptions) (*sim.Graph, error) {
+	return parseTopology(p, data, o)
+}
 
-// parseTopology builds the topology file p from its bytes: GraphML when its
-// name ends in .graphml or .xml, YAML otherwise (as topologies.Load does).
-func parseTopology(p string, data []byte) (*sim.Graph, error) {
-	switch strings.ToLower(path.Ext(filepath.ToSlash(p))) {
-	case ".graphml", ".xml":
-		return topologies.ParseGraphML(p, data)
-	}
-	return topologies.ParseFile(p, data)
+// parseTopology builds the topology file p from its bytes as topologies.Read
+// does: GraphML or network-design XML when its name ends in .graphml or
+// .xml, YAML otherwise.
+func parseTopology(p string, data []byte, o topologies.ReadOptions) (*sim.Graph, error) {
+	g, _, err := topologies.Read(p, data, o)
+	return g, err
 }
 
 //go:embed bundled/*.yaml
@@ -72,7 +72,9 @@ func (embedFiles) resolve(exp, name string) string {
 
 func (embedFiles) read(p string) ([]byte, error) { return fs.ReadFile(bundledFS, p) }
 
-func (embedFiles) load(p string, data []byte) (*sim.Graph, error) { return parseTopology(p, data) }
+func (embedFiles) load(p string, data []byte, o topologies.ReadOptions) (*sim.Graph, error) {
+	return parseTopology(p, data, o)
+}
 
 // unwrapPathErr drops the path from an *fs.PathError (the message names it
 // already).

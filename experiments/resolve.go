@@ -41,6 +41,11 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 			t.pairs[s][d] += r
 		}
 	}
+	if e.Traffic.Matrix == "file" {
+		if err := c.matrixFilePeriods(e, t); err != nil {
+			return err
+		}
+	}
 	if e.Traffic.Matrix == "hotspot" {
 		if len(e.Traffic.Hotspot.Nodes) == 0 {
 			t.hot = []int{bestConnected(g)}

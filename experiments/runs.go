@@ -172,6 +172,32 @@ func (t *Topology) prepare(e *Experiment) error {
 		t.shape = m
 	case "pairs":
 		t.shape = t.pairs
+	case "file":
+		if !e.Traffic.Replay {
+			t.shape = t.periods[0]
+			break
+		}
+		// A replay is scaled as a whole: load 1 saturates the busiest
+		// channel in the busiest period.
+		t.scale = math.Inf(1)
+		for _, m := range t.periods {
+			t.scale = math.Min(t.scale, sim.SaturationScale(n, m, e.Traffic.Size.Mean()))
+		}
+		if !(t.scale > 0) || math.IsInf(t.scale, 0) {
+			return fmt.Errorf("the traffic matrices offer no load")
+		}
+		// for estimates, the mean over the periods
+		t.shapeTotal, t.shapeHops = 0, 0
+		for _, m := range t.periods {
+			for s, row := range m {
+				hs := n.Hops[s]
+				for d, v := range row {
+					t.shapeTotal += v / float64(len(t.periods))
+					t.shapeHops += v * float64(hs[d]) / float64(len(t.periods))
+				}
+			}
+		}
+		return nil
 	}
 	t.scale = sim.SaturationScale(n, t.shape, e.Traffic.Size.Mean())
 	t.shapeTotal, t.shapeHops = 0, 0
@@ -191,19 +217,44 @@ func (t *Topology) prepare(e *Experiment) error {
 // absoluteLoad returns the normalised load absolute rates amount to on t.
 func (t *Topology) absoluteLoad() float64 { return 1 / t.scale }
 
-// Rates returns the run's traffic matrix in packets per second.
+// Rates returns the run's traffic matrix in packets per second; for a
+// replay, its first period's (see Periods).
 func (r *Run) Rates() [][]float64 {
 	t := r.Topology
-	f := 1.0
-	if !math.IsNaN(r.load) {
-		f = r.load * t.scale
+	if r.Exp.Traffic.Replay {
+		return scaled(t.periods[0], r.factor())
 	}
-	out := make([][]float64, len(t.shape))
-	for s, row := range t.shape {
+	return scaled(t.shape, r.factor())
+}
+
+// factor is what the topology's matrix is multiplied by for the run.
+func (r *Run) factor() float64 {
+	if math.IsNaN(r.load) {
+		return 1
+	}
+	return r.load * r.Topology.scale
+}
+
+func scaled(m [][]float64, f float64) [][]float64 {
+	out := make([][]float64, len(m))
+	for s, row := range m {
 		out[s] = make([]float64, len(row))
 		for d, v := range row {
 			out[s][d] = v * f
 		}
+	}
+	return out
+}
+
+// Periods returns the matrices of a replay in packets per second with the
+// times they start, nil when the traffic is not a replay.
+func (r *Run) Periods() []sim.RatePeriod {
+	if !r.Exp.Traffic.Replay {
+		return nil
+	}
+	out := make([]sim.RatePeriod, len(r.Topology.periods))
+	for k, m := range r.Topology.periods {
+		out[k] = sim.RatePeriod{At: r.Exp.Traffic.Periods[k].At, Rates: scaled(m, r.factor())}
 	}
 	return out
 }
@@ -225,11 +276,12 @@ func (r *Run) Config() (*sim.Config, error) {
 		Bin:      e.Bin,
 		HopLimit: e.HopLimit,
 		Traffic: sim.Traffic{
-			Rates:  r.Rates(),
-			Size:   e.Traffic.Size,
-			Redraw: e.Traffic.Redraw,
-			Flows:  e.Traffic.Flows,
-			Phases: e.Traffic.Phases,
+			Rates:   r.baseRates(),
+			Periods: r.Periods(),
+			Size:    e.Traffic.Size,
+			Redraw:  e.Traffic.Redraw,
+			Flows:   e.Traffic.Flows,
+			Phases:  e.Traffic.Phases,
 		},
 		Failures:  r.Failures(),
 		Agent:     agent,
@@ -240,6 +292,15 @@ func (r *Run) Config() (*sim.Config, error) {
 		cfg.ControlDelay = r.Agent.ControlDelay
 	}
 	return cfg, nil
+}
+
+// baseRates are the rates before any period: the matrix, or nothing for a
+// replay.
+func (r *Run) baseRates() [][]float64 {
+	if r.Exp.Traffic.Replay {
+		return nil
+	}
+	return r.Rates()
 }
 
 // Failures returns the run's failure schedule: the scheduled events resolved

@@ -157,6 +157,19 @@ type topoYAML struct {
 	InlPos  yamlx.Pos
 	HasName bool
 	Label   yamlx.String // overrides the topology column's value
+	// reading options of a file
+	Keep           yamlx.String
+	BandwidthScale yamlx.Float
+	CapacityUnit   yamlx.String
+	Attributes     []attrYAML
+	AttributesPos  yamlx.Pos
+}
+
+// attrYAML is one entry of a topology file's attributes mapping.
+type attrYAML struct {
+	Field string
+	Key   yamlx.String
+	Pos   yamlx.Pos // of the field
 }
 
 type paramYAML struct {
@@ -191,6 +204,31 @@ func (t *topoYAML) UnmarshalYAML(n ast.Node) error {
 			if err := t.File.UnmarshalYAML(p.Value); err != nil {
 				return err
 			}
+		case "keep":
+			if err := t.Keep.UnmarshalYAML(p.Value); err != nil {
+				return err
+			}
+		case "bandwidth_scale":
+			if err := t.BandwidthScale.UnmarshalYAML(p.Value); err != nil {
+				return err
+			}
+		case "capacity_unit":
+			if err := t.CapacityUnit.UnmarshalYAML(p.Value); err != nil {
+				return err
+			}
+		case "attributes":
+			t.AttributesPos = nodePos(p.Value)
+			kv, ok := mappingPairs(p.Value)
+			if !ok {
+				return yamlx.At(t.AttributesPos, "attributes: a mapping {field: attribute name}, e.g. {bandwidth: capacity, lat: y}")
+			}
+			for _, a := range kv {
+				av := attrYAML{Field: keyName(a.Key), Pos: yamlx.PosOf(a.Key)}
+				if err := av.Key.UnmarshalYAML(a.Value); err != nil {
+					return err
+				}
+				t.Attributes = append(t.Attributes, av)
+			}
 		case "inline":
 			t.InlPos = nodePos(p.Value)
 			t.Inline = new(topologies.File)
@@ -210,6 +248,18 @@ func (t *topoYAML) UnmarshalYAML(n ast.Node) error {
 	if kinds != 1 {
 		return yamlx.At(t.Pos, "a topology entry needs exactly one of name, file or inline")
 	}
+	if !t.File.Set {
+		for _, o := range []struct {
+			set  bool
+			pos  yamlx.Pos
+			name string
+		}{{t.Keep.Set, t.Keep.Pos, "keep"}, {t.BandwidthScale.Set, t.BandwidthScale.Pos, "bandwidth_scale"},
+			{t.CapacityUnit.Set, t.CapacityUnit.Pos, "capacity_unit"}, {t.Attributes != nil, t.AttributesPos, "attributes"}} {
+			if o.set {
+				return yamlx.At(o.pos, "%s: only with file: (how a topology file is read)", o.name)
+			}
+		}
+	}
 	if len(params) > 0 && !t.HasName {
 		p := params[0]
 		return yamlx.At(yamlx.PosOf(p.Key), "unknown field %q (generator parameters go with name:)", keyName(p.Key))
@@ -228,13 +278,49 @@ func (t *topoYAML) UnmarshalYAML(n ast.Node) error {
 type trafficYAML struct {
 	Pos        yamlx.Pos        `yaml:"-"`
 	Set        bool             `yaml:"-"`
-	Matrix     yamlx.String     `yaml:"matrix"`
+	Matrix     matrixYAML       `yaml:"matrix"`
 	Pairs      seq[pairYAML]    `yaml:"pairs"`
 	Hotspot    hotspotYAML      `yaml:"hotspot"`
 	PacketSize sizeYAML         `yaml:"packet_size"`
 	Loads      seq[yamlx.Float] `yaml:"loads"`
 	Flows      yamlx.Int        `yaml:"flows"`
 	Phases     seq[phaseYAML]   `yaml:"phases"`
+}
+
+// matrixYAML is traffic.matrix: a bundled matrix's name, or a mapping
+// naming traffic-matrix files.
+type matrixYAML struct {
+	yamlx.String
+	File *matrixFileYAML
+}
+
+// matrixFileYAML is {file: F} or {files: [F...]} with replay and unit
+// options.
+type matrixFileYAML struct {
+	Pos       yamlx.Pos         `yaml:"-"`
+	File      yamlx.String      `yaml:"file"`
+	Files     seq[yamlx.String] `yaml:"files"`
+	Period    yamlx.Duration    `yaml:"period"`
+	Speedup   yamlx.Float       `yaml:"speedup"`
+	RateScale yamlx.Float       `yaml:"rate_scale"`
+	Unit      yamlx.String      `yaml:"unit"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (m *matrixYAML) UnmarshalYAML(n ast.Node) error {
+	if _, ok := mappingPairs(n); !ok {
+		return m.String.UnmarshalYAML(n)
+	}
+	type plain matrixFileYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	f := matrixFileYAML(p)
+	f.Pos = nodePos(n)
+	m.File = &f
+	m.String = yamlx.String{S: "file", Pos: f.Pos, Set: true}
+	return nil
 }
 
 // phaseYAML scales all rates from a time on.

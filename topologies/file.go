@@ -182,6 +182,12 @@ func LoadWith(path string, o ReadOptions) (*sim.Graph, *Provenance, error) {
 	if err != nil {
 		return nil, nil, fmt.Errorf("topologies: %w", err)
 	}
+	return Read(path, data, o)
+}
+
+// Read is LoadWith on a file's bytes: path names the file in errors and
+// selects the layout.
+func Read(path string, data []byte, o ReadOptions) (*sim.Graph, *Provenance, error) {
 	switch strings.ToLower(filepath.Ext(path)) {
 	case ".graphml", ".xml":
 		if rootElement(data) == "network" {
