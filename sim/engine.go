@@ -757,6 +757,7 @@ func (e *engine) deliver(id int32) {
 		r.Delivered++
 		e.live--
 		r.Delivery.Add(delay)
+		r.DeliveryBatches.Add(delay)
 		r.DeliverySum += delay
 		r.DeliveryMax = math.Max(r.DeliveryMax, delay)
 		r.HopsSum += int64(p.Hops)

@@ -45,6 +45,10 @@ type Result struct {
 	HopsSum       int64      // over measured delivered packets
 	StretchSum    float64    // hops taken / intact shortest hops, over measured delivered packets
 	DeliveredBits float64    // bits of measured delivered packets
+	// DeliveryBatches holds the delivery times of measured delivered
+	// packets, in order of delivery, in equal batches: the input of a
+	// steady-state interval for the mean delivery time from this run alone.
+	DeliveryBatches Batches
 
 	ControlPackets int64 // control packets sent (in-band)
 	ControlBytes   int64

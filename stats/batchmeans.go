@@ -106,3 +106,37 @@ func lag1(x []float64, mean float64) float64 {
 	}
 	return num / den
 }
+
+// MaxLag1 is the largest lag-1 autocorrelation of batch means that
+// RunInterval accepts before making batches longer (Law & Kelton 2000,
+// §9.5.3, suggest batches long enough that it is near zero; 0.2 is about
+// one standard error of the estimate with 20 batches).
+const MaxLag1 = 0.2
+
+// RunInterval returns a steady-state confidence interval at the given
+// level for the mean of a run's series, from means, the means of n equal
+// consecutive batches of it (as sim.Batches keeps them): BatchMeans over
+// BatchCount(n) batches, halving the number of batches (doubling their
+// length) while the lag-1 autocorrelation of the batch means exceeds
+// MaxLag1 and at least MinBatches would remain. It returns an error when n
+// < MinBatches or the batch means stay correlated at MinBatches batches:
+// then the run is too short for an interval of its own.
+func RunInterval(means []float64, level float64) (Interval, error) {
+	k := BatchCount(len(means))
+	if k == 0 {
+		return Interval{}, fmt.Errorf("stats: %d batches are too few for an interval (at least %d)", len(means), MinBatches)
+	}
+	for {
+		iv, err := BatchMeans(means, k, level)
+		if err != nil {
+			return Interval{}, err
+		}
+		if !(iv.Lag1 > MaxLag1) {
+			return iv, nil
+		}
+		if k/2 < MinBatches {
+			return Interval{}, fmt.Errorf("stats: batch means remain correlated (lag-1 %.2f with %d batches): the run is too short for an interval", iv.Lag1, k)
+		}
+		k /= 2
+	}
+}

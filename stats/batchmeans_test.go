@@ -115,3 +115,35 @@ func ExampleBatchMeans() {
 	fmt.Printf("%d batches of %d: %.2f ± %.2f\n", iv.Batches, iv.Size, iv.Mean, iv.Half)
 	// Output: 20 batches of 1000: 5.00 ± 0.02
 }
+
+func TestRunInterval(t *testing.T) {
+	r := rand.New(rand.NewPCG(8, 8))
+	// 45 independent batch means: 22 batches of 2, no regrouping needed.
+	x := make([]float64, 45)
+	for i := range x {
+		x[i] = 1 + 0.1*r.NormFloat64()
+	}
+	iv, err := stats.RunInterval(x, 0.95)
+	if err != nil || iv.Batches != 22 || iv.Size != 2 {
+		t.Errorf("independent: got %+v, %v; want 22 batches of 2", iv, err)
+	}
+	// An AR(1) series with φ = 0.995 cut into 40 batches of 25: batch
+	// means strongly correlated at every batch count ≥ 10 (lag-1 about
+	// φ^25 ≈ 0.88 and more), so no interval.
+	y := make([]float64, 1000)
+	for i := 1; i < len(y); i++ {
+		y[i] = 0.995*y[i-1] + r.NormFloat64()
+	}
+	means := make([]float64, 40)
+	for b := range means {
+		for _, v := range y[b*25 : (b+1)*25] {
+			means[b] += v / 25
+		}
+	}
+	if iv, err := stats.RunInterval(means, 0.95); err == nil {
+		t.Errorf("correlated batch means: got %+v, want an error", iv)
+	}
+	if _, err := stats.RunInterval(x[:9], 0.95); err == nil {
+		t.Errorf("9 batches: no error")
+	}
+}
