@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"hoplore/sim"
+	"hoplore/stats"
 )
 
 // FromRun converts one run's Result into rows of every per-run table. d are
@@ -37,6 +38,10 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.DroppedUnreachable = r.DroppedUnreachable()
 	run.LossRateReachable = ratio(float64(run.Dropped-run.DroppedUnreachable), r.Generated-run.DroppedUnreachable)
 	run.DeliveryMeanS = ratio(r.DeliverySum, r.Delivered)
+	run.DeliveryMeanSCI95, run.DeliveryMeanCIMethod = runInterval(&r.DeliveryBatches)
+	if at, ok := DetectWarmup(r.Series); ok {
+		run.WarmupDetectedS = f64(at)
+	}
 	if r.Delivered > 0 {
 		run.DeliveryMaxS = f64(r.DeliveryMax)
 	}
@@ -149,6 +154,22 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 		t.Recoveries[k] = row
 	}
 	return t
+}
+
+// runInterval returns the half-width of the 95% batch-means interval for
+// the mean of the series kept in b (stats.RunInterval) and the method that
+// made it, "batch means: K batches of M packets"; nil and a reason when
+// there is none.
+func runInterval(b *sim.Batches) (*float64, string) {
+	means, size := b.Means()
+	iv, err := stats.RunInterval(means, 0.95)
+	switch {
+	case len(means) < stats.MinBatches:
+		return nil, "none: too few packets delivered"
+	case err != nil:
+		return nil, "none: batch means correlated (run too short)"
+	}
+	return finite(iv.Half), fmt.Sprintf("batch means: %d batches of %d packets", iv.Batches, int64(iv.Size)*size)
 }
 
 // makeRows returns n zero rows, nil for none (as parts read back).

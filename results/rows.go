@@ -47,6 +47,10 @@ type RunRow struct {
 	DurationS float64 `parquet:"duration_s"`
 	WarmupS   float64 `parquet:"warmup_s"`
 	BinS      float64 `parquet:"bin_s"`
+	// WarmupDetectedS is where the run's initial transient ends by MSER-5
+	// over its binned delivery times (DetectWarmup); null when it was not
+	// seen to end.
+	WarmupDetectedS *float64 `parquet:"warmup_detected_s,optional"`
 
 	Generated        int64 `parquet:"generated"`
 	Delivered        int64 `parquet:"delivered"`
@@ -67,12 +71,18 @@ type RunRow struct {
 	// dropped_unreachable): the loss routing could have avoided.
 	LossRateReachable *float64 `parquet:"loss_rate_reachable,optional"`
 	DeliveryMeanS     *float64 `parquet:"delivery_mean_s,optional"` // exact mean
-	DeliveryP50S      *float64 `parquet:"delivery_p50_s,optional"`  // histogram, relative error < 1%
-	DeliveryP95S      *float64 `parquet:"delivery_p95_s,optional"`
-	DeliveryP99S      *float64 `parquet:"delivery_p99_s,optional"`
-	DeliveryMaxS      *float64 `parquet:"delivery_max_s,optional"` // exact maximum
-	HopsMean          *float64 `parquet:"hops_mean,optional"`
-	StretchMean       *float64 `parquet:"stretch_mean,optional"` // hops taken / intact shortest hops
+	// DeliveryMeanSCI95 is the half-width of a 95% steady-state confidence
+	// interval for the mean delivery time from this run alone: batch means
+	// over the measured window (DeliveryMeanCIMethod says how many batches
+	// of how many packets); null when the run is too short for one.
+	DeliveryMeanSCI95    *float64 `parquet:"delivery_mean_s_ci95,optional"`
+	DeliveryMeanCIMethod string   `parquet:"delivery_mean_ci_method,dict"`
+	DeliveryP50S         *float64 `parquet:"delivery_p50_s,optional"` // histogram, relative error ≤ 0.1%
+	DeliveryP95S         *float64 `parquet:"delivery_p95_s,optional"`
+	DeliveryP99S         *float64 `parquet:"delivery_p99_s,optional"`
+	DeliveryMaxS         *float64 `parquet:"delivery_max_s,optional"` // exact maximum
+	HopsMean             *float64 `parquet:"hops_mean,optional"`
+	StretchMean          *float64 `parquet:"stretch_mean,optional"` // hops taken / intact shortest hops
 	// ThroughputBps is the delivered measured bits over the measured window
 	// (duration − warmup), bit/s.
 	ThroughputBps float64 `parquet:"throughput_bps"`

@@ -197,7 +197,7 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	// summarised and charted columns first: their order here is the order
 	// of summary.parquet's columns and of the report's charts
 	{Name: "delivery_mean_s", Unit: "s", Summary: MeanCI95, Charted: true, Label: "delivery mean", Doc: "exact mean delivery time of the measured delivered packets; null if none"},
-	{Name: "delivery_p95_s", Unit: "s", Summary: MeanCI95, Charted: true, Label: "delivery p95", Doc: "95th percentile of delivery time (histogram, relative error below 1%); null if none"},
+	{Name: "delivery_p95_s", Unit: "s", Summary: MeanCI95, Charted: true, Label: "delivery p95", Doc: "95th percentile of delivery time (histogram, relative error ≤ 0.1%); null if none"},
 	{Name: "loss_rate", Unit: "1", Summary: MeanCI95, Charted: true, Label: "loss", Doc: "dropped / generated over the measured window; null if nothing was generated"},
 	{Name: "throughput_bps", Unit: "bit/s", Summary: MeanCI95, Label: "throughput", Doc: "delivered measured bits over the measured window (duration − warmup)"},
 
@@ -217,8 +217,11 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "dropped_node_down", Unit: "packets", Label: "dropped, node down", Doc: "measured packets lost at or sent to a failed node"},
 	{Name: "dropped_unreachable", Unit: "packets", Label: "dropped, unreachable", Doc: "dropped packets (also counted under their reason) whose destination was down or cut off from them"},
 	{Name: "loss_rate_reachable", Unit: "1", Label: "loss, reachable", Doc: "(dropped − dropped_unreachable) / (generated − dropped_unreachable): the loss routing could have avoided; null if nothing reachable was generated"},
-	{Name: "delivery_p50_s", Unit: "s", Label: "delivery p50", Doc: "median delivery time (histogram, relative error below 1%); null if none"},
-	{Name: "delivery_p99_s", Unit: "s", Label: "delivery p99", Doc: "99th percentile of delivery time (histogram, relative error below 1%); null if none"},
+	{Name: "delivery_p50_s", Unit: "s", Label: "delivery p50", Doc: "median delivery time (histogram, relative error ≤ 0.1%); null if none"},
+	{Name: "delivery_p99_s", Unit: "s", Label: "delivery p99", Doc: "99th percentile of delivery time (histogram, relative error ≤ 0.1%); null if none"},
+	{Name: "delivery_mean_s_ci95", Unit: "s", Label: "delivery mean ± (one run)", Doc: "half-width of the 95% steady-state interval for delivery_mean_s from this run alone (non-overlapping batch means over the measured window, see delivery_mean_ci_method); null when the run is too short for one"},
+	{Name: "delivery_mean_ci_method", Label: "interval method", Doc: `how delivery_mean_s_ci95 was made: "batch means: K batches of M packets", or "none: " and why there is none`},
+	{Name: "warmup_detected_s", Unit: "s", Label: "transient detected", Doc: "end of the initial transient by MSER-5 over the run's binned mean delivery times, warm-up included; 0 when none beyond noise; null when not detected (see warmup_detection)"},
 	{Name: "delivery_max_s", Unit: "s", Label: "delivery max", Doc: "exact maximum delivery time; null if none"},
 	{Name: "hops_mean", Label: "hops", Doc: "mean hops of the measured delivered packets; null if none"},
 	{Name: "stretch_mean", Unit: "1", Label: "stretch", Doc: "mean of hops taken / intact shortest hops; null if none"},
