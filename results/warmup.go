@@ -1,6 +1,7 @@
 package results
 
 import (
+	"fmt"
 	"math"
 
 	"hoplore/sim"
@@ -33,4 +34,61 @@ func DetectWarmup(series []sim.Bin) (at float64, ok bool) {
 		return math.NaN(), false
 	}
 	return series[idx[tr.At]].Start.Seconds(), true
+}
+
+// ShortWarmup is a cell whose warm-up is shorter than the initial transient
+// detected in its runs, or some of whose runs never settled.
+type ShortWarmup struct {
+	Cell      CellDims
+	WarmupS   float64 // the cell's warm-up
+	DetectedS float64 // the longest transient detected among its runs; NaN if none was
+	Runs      int     // runs of the cell
+	Unsettled int     // runs whose transient was not seen to end
+}
+
+// String says what is wrong, in one line.
+func (s ShortWarmup) String() string {
+	c := s.Cell
+	msg := fmt.Sprintf("%s / %s / load %g / %s: warm-up %gs", c.Topology, c.Agent, c.Load, c.Failure, s.WarmupS)
+	if !math.IsNaN(s.DetectedS) && s.DetectedS > s.WarmupS {
+		msg += fmt.Sprintf(" is shorter than the initial transient detected (up to %gs)", s.DetectedS)
+	}
+	if s.Unsettled > 0 {
+		msg += fmt.Sprintf("; %d of %d runs never settled (no end of the transient in their first half)", s.Unsettled, s.Runs)
+	}
+	return msg
+}
+
+// ShortWarmups returns the cells of rows whose warm-up is shorter than the
+// longest transient detected in their runs (warmup_detected_s), or with a
+// run whose transient was not seen to end, in the order the cells first
+// appear.
+func ShortWarmups(rows []RunRow) []ShortWarmup {
+	var out []ShortWarmup
+	at := map[CellDims]int{}
+	for i := range rows {
+		r := &rows[i]
+		c := r.Cell()
+		k, ok := at[c]
+		if !ok {
+			k = len(out)
+			at[c] = k
+			out = append(out, ShortWarmup{Cell: c, WarmupS: r.WarmupS, DetectedS: math.NaN()})
+		}
+		s := &out[k]
+		s.Runs++
+		s.WarmupS = max(s.WarmupS, r.WarmupS)
+		if r.WarmupDetectedS == nil {
+			s.Unsettled++
+		} else if math.IsNaN(s.DetectedS) || *r.WarmupDetectedS > s.DetectedS {
+			s.DetectedS = *r.WarmupDetectedS
+		}
+	}
+	keep := out[:0]
+	for _, s := range out {
+		if s.Unsettled > 0 || s.DetectedS > s.WarmupS {
+			keep = append(keep, s)
+		}
+	}
+	return keep
 }

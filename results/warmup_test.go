@@ -41,3 +41,30 @@ func TestDetectWarmup(t *testing.T) {
 		t.Errorf("10 bins: found a transient end")
 	}
 }
+
+func TestShortWarmups(t *testing.T) {
+	f := func(v float64) *float64 { return &v }
+	row := func(agent string, rep int, warm float64, det *float64) results.RunRow {
+		r := results.RunRow{WarmupS: warm, WarmupDetectedS: det}
+		r.Topology, r.Agent, r.Load, r.Failure, r.Replicate = "ring", agent, 0.5, "none", rep
+		return r
+	}
+	rows := []results.RunRow{
+		row("calm", 0, 100, f(20)), row("calm", 1, 100, f(40)),
+		row("learner", 0, 100, f(60)), row("learner", 1, 100, f(140)),
+		row("restless", 0, 100, f(10)), row("restless", 1, 100, nil),
+	}
+	got := results.ShortWarmups(rows)
+	if len(got) != 2 || got[0].Cell.Agent != "learner" || got[0].DetectedS != 140 || got[0].Unsettled != 0 ||
+		got[1].Cell.Agent != "restless" || got[1].Unsettled != 1 || got[1].Runs != 2 {
+		t.Fatalf("got %+v", got)
+	}
+	for i, want := range []string{
+		"ring / learner / load 0.5 / none: warm-up 100s is shorter than the initial transient detected (up to 140s)",
+		"ring / restless / load 0.5 / none: warm-up 100s; 1 of 2 runs never settled (no end of the transient in their first half)",
+	} {
+		if s := got[i].String(); s != want {
+			t.Errorf("got %q, want %q", s, want)
+		}
+	}
+}
