@@ -39,9 +39,8 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.LossRateReachable = ratio(float64(run.Dropped-run.DroppedUnreachable), r.Generated-run.DroppedUnreachable)
 	run.DeliveryMeanS = ratio(r.DeliverySum, r.Delivered)
 	run.DeliveryMeanSCI95, run.DeliveryMeanCIMethod = runInterval(&r.DeliveryBatches)
-	if at, ok := DetectWarmup(r.Series); ok {
-		run.WarmupDetectedS = f64(at)
-	}
+	at, how := DetectWarmup(r.Series)
+	run.WarmupDetectedS, run.WarmupDetection = finite(at), how
 	if r.Delivered > 0 {
 		run.DeliveryMaxS = f64(r.DeliveryMax)
 	}

@@ -49,8 +49,9 @@ type RunRow struct {
 	BinS      float64 `parquet:"bin_s"`
 	// WarmupDetectedS is where the run's initial transient ends by MSER-5
 	// over its binned delivery times (DetectWarmup); null when it was not
-	// seen to end.
+	// seen to end or the run had too few bins to tell (WarmupDetection).
 	WarmupDetectedS *float64 `parquet:"warmup_detected_s,optional"`
+	WarmupDetection string   `parquet:"warmup_detection,dict"` // WarmupDetected, WarmupUnsettled or WarmupTooFewBins
 
 	Generated        int64 `parquet:"generated"`
 	Delivered        int64 `parquet:"delivered"`

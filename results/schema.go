@@ -222,6 +222,7 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "delivery_mean_s_ci95", Unit: "s", Label: "delivery mean ± (one run)", Doc: "half-width of the 95% steady-state interval for delivery_mean_s from this run alone (non-overlapping batch means over the measured window, see delivery_mean_ci_method); null when the run is too short for one"},
 	{Name: "delivery_mean_ci_method", Label: "interval method", Doc: `how delivery_mean_s_ci95 was made: "batch means: K batches of M packets", or "none: " and why there is none`},
 	{Name: "warmup_detected_s", Unit: "s", Label: "transient detected", Doc: "end of the initial transient by MSER-5 over the run's binned mean delivery times, warm-up included; 0 when none beyond noise; null when not detected (see warmup_detection)"},
+	{Name: "warmup_detection", Label: "transient detection", Doc: `"detected"; "not settled" (a significant transient with no end in the first half of the run); "too few bins" (fewer than 50 bins with a delivery time)`},
 	{Name: "delivery_max_s", Unit: "s", Label: "delivery max", Doc: "exact maximum delivery time; null if none"},
 	{Name: "hops_mean", Label: "hops", Doc: "mean hops of the measured delivered packets; null if none"},
 	{Name: "stretch_mean", Unit: "1", Label: "stretch", Doc: "mean of hops taken / intact shortest hops; null if none"},

@@ -25,27 +25,37 @@ func TestDetectWarmup(t *testing.T) {
 		b.Delivered = 100
 		b.DelaySum = 100 * (0.010 + 0.040*math.Exp(-float64(i)/8) + 0.001*r.NormFloat64())
 	}
-	at, ok := results.DetectWarmup(series)
-	if !ok || at < 30 || at > 45 {
-		t.Errorf("got %v s (ok %v), want about 36 s", at, ok)
+	at, how := results.DetectWarmup(series)
+	if how != results.WarmupDetected || at < 30 || at > 45 {
+		t.Errorf("got %v s (%s), want about 36 s", at, how)
 	}
 	// Still climbing at the end: not found.
 	for i := range series {
 		series[i].Delivered = 100
 		series[i].DelaySum = 100 * (0.010 + 0.0001*float64(i) + 0.0001*r.NormFloat64())
 	}
-	if at, ok := results.DetectWarmup(series); ok {
-		t.Errorf("trend: got %v s, want not found", at)
+	if at, how := results.DetectWarmup(series); how != results.WarmupUnsettled {
+		t.Errorf("trend: got %v s (%s), want %s", at, how, results.WarmupUnsettled)
 	}
-	if _, ok := results.DetectWarmup(series[:10]); ok {
-		t.Errorf("10 bins: found a transient end")
+	if at, how := results.DetectWarmup(series[:results.WarmupMinBins]); how != results.WarmupTooFewBins {
+		t.Errorf("%d bins (one fewer used): got %v s (%s), want %s", results.WarmupMinBins, at, how, results.WarmupTooFewBins)
+	}
+	// Stationary noise: no transient beyond noise, at 0.
+	for i := range series {
+		series[i].DelaySum = 100 * (0.010 + 0.001*r.NormFloat64())
+	}
+	if at, how := results.DetectWarmup(series); how != results.WarmupDetected || at != 0 {
+		t.Errorf("noise: got %v s (%s), want 0 s", at, how)
 	}
 }
 
 func TestShortWarmups(t *testing.T) {
 	f := func(v float64) *float64 { return &v }
 	row := func(agent string, rep int, warm float64, det *float64) results.RunRow {
-		r := results.RunRow{WarmupS: warm, WarmupDetectedS: det}
+		r := results.RunRow{WarmupS: warm, WarmupDetectedS: det, WarmupDetection: results.WarmupDetected}
+		if det == nil {
+			r.WarmupDetection = results.WarmupUnsettled
+		}
 		r.Topology, r.Agent, r.Load, r.Failure, r.Replicate = "ring", agent, 0.5, "none", rep
 		return r
 	}
@@ -53,6 +63,7 @@ func TestShortWarmups(t *testing.T) {
 		row("calm", 0, 100, f(20)), row("calm", 1, 100, f(40)),
 		row("learner", 0, 100, f(60)), row("learner", 1, 100, f(140)),
 		row("restless", 0, 100, f(10)), row("restless", 1, 100, nil),
+		{WarmupS: 100, WarmupDetection: results.WarmupTooFewBins}, // too short to tell: no warning
 	}
 	got := results.ShortWarmups(rows)
 	if len(got) != 2 || got[0].Cell.Agent != "learner" || got[0].DetectedS != 140 || got[0].Unsettled != 0 ||

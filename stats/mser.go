@@ -14,6 +14,13 @@ type Truncation struct {
 	// later: the transient has not been seen to end (the run is too short,
 	// or it never settles), and At is then not a usable warm-up.
 	OK bool
+	// Z is the difference between the means of the deleted and the kept
+	// batches in units of its standard error, taking the batch means as
+	// independent with the spread of all of them; NaN when nothing is
+	// deleted. On a stationary series MSER still deletes a few batches now
+	// and then, by chance: a small |Z| says the deleted part is noise, not a
+	// transient.
+	Z float64
 }
 
 // MSER returns the truncation point of the series x by the marginal
@@ -79,7 +86,23 @@ func MSER(x []float64, m int) Truncation {
 			best, bestD = stat[d], d
 		}
 	}
-	return Truncation{At: bestD * m, OK: bestD < half}
+	tr := Truncation{At: bestD * m, OK: bestD < half, Z: math.NaN()}
+	if d := bestD; d > 0 {
+		var del, kept float64
+		for _, v := range z[:d] {
+			del += v
+		}
+		for _, v := range z[d:] {
+			kept += v
+		}
+		del /= float64(d)
+		kept /= float64(k - d)
+		// the spread of all batch means, transient included: the kept part
+		// alone is the stretch MSER chose for its small spread
+		sd := math.Sqrt(stat[0] * float64(k) * float64(k) / float64(k-1))
+		tr.Z = (del - kept) / (sd * math.Sqrt(1/float64(d)+1/float64(k-d)))
+	}
+	return tr
 }
 
 // MSER5 is MSER with batches of 5.

@@ -1,9 +1,12 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
+	"path/filepath"
 	"runtime"
 	"strconv"
 	"strings"
@@ -13,6 +16,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hoplore/experiments"
+	"hoplore/results"
 )
 
 // nominalEventsPerSecond is the engine speed check assumes per worker to
@@ -27,6 +31,7 @@ const nominalEventsPerSecond = 5e6
 type checkOptions struct {
 	arg     string
 	workers int
+	out     string // results of an earlier run, to check the warm-up against
 }
 
 func newCheckCmd(d *deps) *cobra.Command {
@@ -36,7 +41,9 @@ func newCheckCmd(d *deps) *cobra.Command {
 		Short: "Parse and validate an experiment without running it; print the grid size and an estimate of the work",
 		Long: "check reads an experiment file (or a bundled experiment by name), checks everything that can be\n" +
 			"checked before a run starts, and prints the grid: cells, runs, simulated time, an estimate of engine\n" +
-			"events and of wall time. A problem is reported as FILE:LINE:COL: what is wrong, with exit status 2.",
+			"events and of wall time. A problem is reported as FILE:LINE:COL: what is wrong, with exit status 2.\n" +
+			"When the results folder of an earlier run exists (--out, default results/<name>), check also warns\n" +
+			"about cells whose warm-up is shorter than the initial transient detected in those runs (MSER-5).",
 		Example: "  hoplore check sweep.yaml\n  hoplore check demo --workers 8",
 		Args:    cobra.ExactArgs(1),
 		ValidArgsFunction: func(*cobra.Command, []string, string) ([]string, cobra.ShellCompDirective) {
@@ -48,6 +55,7 @@ func newCheckCmd(d *deps) *cobra.Command {
 		},
 	}
 	cmd.Flags().IntVar(&o.workers, "workers", runtime.NumCPU(), "workers to estimate the wall time for")
+	cmd.Flags().StringVar(&o.out, "out", "", "results of an earlier run to check the warm-up against (default results/<name>)")
 	return cmd
 }
 
@@ -62,14 +70,65 @@ func runCheck(w io.Writer, o *checkOptions) error {
 	if err != nil {
 		return err
 	}
+	out := o.out
+	if out == "" {
+		out = filepath.Join("results", e.Name)
+	}
 	var b strings.Builder
-	writeCheck(&b, e, o.workers)
+	writeCheck(&b, e, o.workers, out)
 	_, err = io.WriteString(w, b.String())
 	return err
 }
 
-// writeCheck writes the grid summary of e.
-func writeCheck(w io.Writer, e *experiments.Experiment, workers int) {
+// writeWarmupCheck warns about the cells whose warm-up, as e now sets it,
+// is shorter than the initial transient detected in the runs.parquet of an
+// earlier run in dir, or whose runs there never settled. It writes nothing
+// when dir holds no runs of an experiment of that name.
+func writeWarmupCheck(w io.Writer, e *experiments.Experiment, dir string) {
+	path := filepath.Join(dir, results.RunsFile)
+	rows, err := results.ReadRuns(path)
+	if err != nil {
+		if !errors.Is(err, fs.ErrNotExist) {
+			fmt.Fprintf(w, "warm-up\tnot checked: %v\n", err)
+		}
+		return
+	}
+	var mine []results.RunRow
+	tried := 0
+	for _, r := range rows {
+		if r.Experiment == e.Name {
+			r.WarmupS = e.Warmup.Seconds()
+			mine = append(mine, r)
+			if r.WarmupDetection != results.WarmupTooFewBins && r.WarmupDetection != "" {
+				tried++
+			}
+		}
+	}
+	if len(mine) == 0 {
+		return
+	}
+	if tried == 0 {
+		fmt.Fprintf(w, "warm-up\tnot checked: the runs in %s have fewer than %d bins with a delivery time, too few to detect a transient (MSER-5)\n", path, results.WarmupMinBins)
+		return
+	}
+	short := results.ShortWarmups(mine)
+	if len(short) == 0 {
+		fmt.Fprintf(w, "warm-up\t%v covers the initial transient detected in every run of %s\n", time.Duration(e.Warmup), path)
+		return
+	}
+	fmt.Fprintf(w, "warning\twarm-up too short for %s run in %s (MSER-5 over each run's binned delivery times):\n", checkPlural(len(short), "cell"), path)
+	for i, s := range short {
+		if i == 5 {
+			fmt.Fprintf(w, "\t… and %d more\n", len(short)-i)
+			break
+		}
+		fmt.Fprintf(w, "\t%s\n", s)
+	}
+}
+
+// writeCheck writes the grid summary of e, with the warm-up checked
+// against the results of an earlier run in out.
+func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string) {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
 	loads := "absolute rates"
 	if e.Loads != nil {
@@ -110,6 +169,7 @@ func writeCheck(w io.Writer, e *experiments.Experiment, workers int) {
 	fmt.Fprintf(tw, "memory\tabout %s at peak with %s (rough upper estimate)\n",
 		checkBytes(e.EstimatePeakBytes(workers)), checkPlural(workers, "worker"))
 	fmt.Fprintf(tw, "hash\t%s\n", e.Hash)
+	writeWarmupCheck(tw, e, out)
 	tw.Flush()
 }
 
