@@ -34,7 +34,9 @@ type where struct {
 
 type failureWhere struct {
 	groupLinks [][]yamlx.Pos // each link of each group, in Failure.Groups order
+	groupOf    []yamlx.Pos   // each geographic group's node (zero for listed groups)
 	elements   []yamlx.Pos   // each event's node or link value
+	each       yamlx.Pos     // the each field
 }
 
 func (c *checker) errf(pos yamlx.Pos, format string, args ...any) error {

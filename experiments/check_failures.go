@@ -2,6 +2,7 @@ package experiments
 
 import (
 	"fmt"
+	"math"
 	"slices"
 	"sort"
 	"time"
@@ -45,27 +46,67 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, failu
 		return &Failure{Name: "none"}, at, nil
 	}
 	fl := &Failure{Detection: DefaultDetection}
-	if !f.Name.Set || f.Name.S == "" {
+	switch {
+	case f.Name.Set && f.Name.S == "none":
+		return nil, at, c.errf(f.Name.Pos, "failures[%d].name: \"none\" is reserved for the schedule without failures", i)
+	case f.Name.Set && f.Name.S != "":
+		fl.Name = f.Name.S
+	case f.Each.Set:
+		fl.Name = "each-" + f.Each.S
+	default:
 		return nil, at, c.errf(f.Pos, "failures[%d].name: required", i)
 	}
-	if f.Name.S == "none" {
-		return nil, at, c.errf(f.Name.Pos, "failures[%d].name: \"none\" is reserved for the schedule without failures", i)
-	}
-	fl.Name = f.Name.S
 	if f.Detection.Set {
 		if f.Detection.D < 0 {
 			return nil, at, c.errf(f.Detection.Pos, "failures[%d].detection: must not be negative, got %v", i, f.Detection.D)
 		}
 		fl.Detection = sim.Time(f.Detection.D)
 	}
-	if !f.Events.Set && !f.Random.Set {
-		return nil, at, c.errf(f.Pos, "failures[%d]: give events, random or both (or use `none`)", i)
+	if f.Each.Set {
+		if f.Events.Set || f.Random.Set {
+			return nil, at, c.errf(f.Each.Pos, "failures[%d].each: a family of single failures takes no events or random", i)
+		}
+		ea, err := c.each(e, i, f)
+		if err != nil {
+			return nil, at, err
+		}
+		fl.Each = ea
+		at.each = f.Each.Pos
+	} else {
+		for _, d := range []struct {
+			name string
+			set  bool
+			p    yamlx.Pos
+		}{{"at", f.At.Set, f.At.Pos}, {"until", f.Until.Set, f.Until.Pos}, {"sample", f.Sample.Set, f.Sample.Pos}, {"seed", f.Seed.Set, f.Seed.Pos}} {
+			if d.set {
+				return nil, at, c.errf(d.p, "failures[%d].%s: applies to a family (each: links, nodes or groups) only", i, d.name)
+			}
+		}
+	}
+	if !f.Events.Set && !f.Random.Set && !f.Each.Set {
+		return nil, at, c.errf(f.Pos, "failures[%d]: give events, random or both, or each (or use `none`)", i)
 	}
 	for _, g := range f.Groups.Groups {
 		if slices.ContainsFunc(fl.Groups, func(h Group) bool { return h.Name == g.Name }) {
 			return nil, at, c.errf(g.Pos, "failures[%d].groups: group %q is defined twice", i, g.Name)
 		}
 		gr := Group{Name: g.Name}
+		if geo := g.Geo; geo != nil {
+			if !geo.WithinKm.Set {
+				return nil, at, c.errf(geo.Pos, "failures[%d].groups.%s.within_km: required", i, g.Name)
+			}
+			if !(geo.WithinKm.V > 0) || math.IsInf(geo.WithinKm.V, 1) {
+				return nil, at, c.errf(geo.WithinKm.Pos, "failures[%d].groups.%s.within_km: must be positive, got %g", i, g.Name, geo.WithinKm.V)
+			}
+			if !geo.Of.Set || geo.Of.S == "" {
+				return nil, at, c.errf(geo.Pos, "failures[%d].groups.%s.of: required (a node name)", i, g.Name)
+			}
+			gr.WithinKm, gr.Of = geo.WithinKm.V, geo.Of.S
+			fl.Groups = append(fl.Groups, gr)
+			at.groupLinks = append(at.groupLinks, nil)
+			at.groupOf = append(at.groupOf, geo.Of.Pos)
+			continue
+		}
 		var links []yamlx.Pos
 		if len(g.Links) == 0 {
 			return nil, at, c.errf(g.Pos, "failures[%d].groups.%s: list at least one link [a, b]", i, g.Name)
@@ -79,6 +120,10 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, failu
 		}
 		fl.Groups = append(fl.Groups, gr)
 		at.groupLinks = append(at.groupLinks, links)
+		at.groupOf = append(at.groupOf, yamlx.Pos{})
+	}
+	if fl.Each != nil && fl.Each.Kind == "groups" && len(fl.Groups) == 0 {
+		return nil, at, c.errf(f.Each.Pos, "failures[%d].each: groups needs the schedule's groups", i)
 	}
 	if f.Events.Set && len(f.Events.Items) == 0 {
 		return nil, at, c.errf(f.Events.Pos, "failures[%d].events: list at least one event, or leave events out", i)
@@ -174,6 +219,45 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, failu
 		fl.Random = rf
 	}
 	return fl, at, nil
+}
+
+// each checks the family fields of schedule i.
+func (c *checker) each(e *Experiment, i int, f *failureYAML) (*Each, error) {
+	ea := &Each{Kind: f.Each.S, Seed: e.Seed}
+	switch ea.Kind {
+	case "links", "nodes", "groups":
+	default:
+		return nil, c.errf(f.Each.Pos, "failures[%d].each: %q is not links, nodes or groups", i, f.Each.S)
+	}
+	if !f.At.Set {
+		return nil, c.errf(f.Pos, "failures[%d].at: required with each", i)
+	}
+	if f.At.D < 0 || sim.Time(f.At.D) >= e.Duration {
+		return nil, c.errf(f.At.Pos, "failures[%d].at: %v is outside the run [0s, %v)", i, f.At.D, time.Duration(e.Duration))
+	}
+	ea.At = sim.Time(f.At.D)
+	if f.Until.Set {
+		if f.Until.D <= f.At.D {
+			return nil, c.errf(f.Until.Pos, "failures[%d].until: %v must be after at (%v)", i, f.Until.D, f.At.D)
+		}
+		ea.Until = sim.Time(f.Until.D)
+	}
+	if f.Sample.Set {
+		if f.Sample.V < 1 {
+			return nil, c.errf(f.Sample.Pos, "failures[%d].sample: must be at least 1, got %d", i, f.Sample.V)
+		}
+		ea.Sample = f.Sample.V
+	}
+	if f.Seed.Set {
+		if !f.Sample.Set {
+			return nil, c.errf(f.Seed.Pos, "failures[%d].seed: seeds a sample: give sample too", i)
+		}
+		if f.Seed.V < 0 {
+			return nil, c.errf(f.Seed.Pos, "failures[%d].seed: must not be negative, got %d", i, f.Seed.V)
+		}
+		ea.Seed = uint64(f.Seed.V)
+	}
+	return ea, nil
 }
 
 func (ev Event) key() string {

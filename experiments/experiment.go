@@ -70,8 +70,11 @@ type Topology struct {
 	Graph *sim.Graph
 	Net   *sim.Net
 
-	// scheduled[f] is failure schedule f's events resolved on this topology
-	// (nil for random-only or none schedules).
+	// failures are the experiment's failure schedules on this topology, a
+	// family (Failure.Each) expanded into one schedule per element, and
+	// scheduled[f] schedule f's events resolved on this topology (nil for
+	// random-only or none schedules).
+	failures  []*Failure
 	scheduled [][]sim.FailureEvent
 	hot       []int // hotspot nodes
 	pairs     [][]float64
@@ -144,6 +147,21 @@ type Failure struct {
 	Events    []Event
 	Groups    []Group
 	Random    *Random
+	// Each, when set, makes the schedule a family: one schedule per element,
+	// expanded on each topology (see Each).
+	Each *Each
+}
+
+// Each is a family of single failures: every element of a kind (or a
+// sample of them) goes down at At and, when Until > 0, back up at Until,
+// each in a schedule of its own named NAME/ELEMENT: "a-b" for a link (its
+// end nodes in the topology's order), the node's name, the group's name.
+type Each struct {
+	Kind   string // links, nodes or groups
+	At     sim.Time
+	Until  sim.Time // 0: stays down
+	Sample int      // 0: every element; else this many, drawn without replacement
+	Seed   uint64   // the sample's random stream
 }
 
 // Event is one scheduled failure event as written.
@@ -155,10 +173,14 @@ type Event struct {
 	Up    bool
 }
 
-// Group is a shared-risk group: links that fail together.
+// Group is a shared-risk group: links that fail together, listed, or every
+// link with an end within WithinKm kilometres of node Of (by the
+// topology's coordinates) when WithinKm > 0.
 type Group struct {
-	Name  string
-	Links [][2]string
+	Name     string
+	Links    [][2]string
+	WithinKm float64
+	Of       string
 }
 
 // Random describes random failures: every element of the scope alternates

@@ -68,6 +68,10 @@ func TestBadFiles(t *testing.T) {
 		{"no-connected-waxman", "3:21", "topologies[0]: no connected waxman graph"},
 		{"unknown-hotspot-node", "4:50", `traffic.hotspot.nodes[1]: topology "ring" has no node "n77"`},
 		{"bad-topology-file", "testdata/topofiles/broken-topology.yaml:4:15", `unknown node "c"`},
+		{"each-unknown-kind", "7:12", `failures[0].each: "edges" is not links, nodes or groups`},
+		{"each-until-before-at", "7:34", "failures[0].until: 5s must be after at (5s)"},
+		{"within-km-zero", "9:25", "failures[0].groups.zone.within_km: must be positive, got 0"},
+		{"geo-group-no-coordinates", "11:33", `failures[0].groups.zone.of: node "n3" of topology "ring" has no coordinates`},
 	}
 	files, err := filepath.Glob("testdata/bad/*.yaml")
 	if err != nil {

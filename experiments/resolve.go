@@ -2,6 +2,8 @@ package experiments
 
 import (
 	"fmt"
+	"math/rand/v2"
+	"slices"
 
 	"hoplore/internal/yamlx"
 	"hoplore/sim"
@@ -61,11 +63,20 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 	if err := t.prepare(e); err != nil {
 		return c.errf(c.at.traffic, "traffic: topology %q: %v", t.Label, err)
 	}
-	t.scheduled = make([][]sim.FailureEvent, len(e.Failures))
+	t.failures, t.scheduled = nil, nil
+	names := map[string]bool{}
 	for i, fl := range e.Failures {
 		at := c.at.failures[i]
 		groups := map[string][]int{}
 		for gi, gr := range fl.Groups {
+			if gr.WithinKm > 0 {
+				links, err := c.geoGroup(t, gr, at.groupOf[gi], fmt.Sprintf("failures[%d].groups.%s", i, gr.Name))
+				if err != nil {
+					return err
+				}
+				groups[gr.Name] = links
+				continue
+			}
 			for li, l := range gr.Links {
 				idx, err := c.link(t, l, at.groupLinks[gi][li], fmt.Sprintf("failures[%d].groups.%s", i, gr.Name))
 				if err != nil {
@@ -99,9 +110,118 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 			}
 			evs = append(evs, out)
 		}
-		t.scheduled[i] = evs
+		if fl.Each == nil {
+			t.failures = append(t.failures, fl)
+			t.scheduled = append(t.scheduled, evs)
+			names[fl.Name] = true
+			continue
+		}
+		for _, m := range expandEach(g, fl, groups) {
+			if names[m.f.Name] {
+				return c.errf(at.each, "failures[%d].each: schedule name %q is used twice on topology %q", i, m.f.Name, t.Label)
+			}
+			names[m.f.Name] = true
+			t.failures = append(t.failures, m.f)
+			t.scheduled = append(t.scheduled, m.evs)
+		}
 	}
 	return nil
+}
+
+type member struct {
+	f   *Failure
+	evs []sim.FailureEvent
+}
+
+// expandEach returns family fl's schedules on graph g, one per element in
+// index order (groups in file order), sampled when fl.Each.Sample is set.
+func expandEach(g *sim.Graph, fl *Failure, groups map[string][]int) []member {
+	ea := fl.Each
+	var evs []sim.FailureEvent
+	switch ea.Kind {
+	case "links":
+		for l, lk := range g.Links {
+			evs = append(evs, sim.FailureEvent{Links: []int{l}, Node: -1, Element: g.Nodes[lk.A].Name + "-" + g.Nodes[lk.B].Name})
+		}
+	case "nodes":
+		for v, n := range g.Nodes {
+			evs = append(evs, sim.FailureEvent{Node: v, Element: n.Name})
+		}
+	case "groups":
+		for _, gr := range fl.Groups {
+			evs = append(evs, sim.FailureEvent{Links: groups[gr.Name], Node: -1, Element: gr.Name})
+		}
+	}
+	if ea.Sample > 0 && ea.Sample < len(evs) {
+		evs = sampleEvents(evs, ea.Sample, ea.Seed)
+	}
+	out := make([]member, len(evs))
+	for k, ev := range evs {
+		down := ev
+		down.At = ea.At
+		s := []sim.FailureEvent{down}
+		if ea.Until > 0 {
+			up := ev
+			up.At, up.Up = ea.Until, true
+			up.Links = slices.Clone(ev.Links)
+			s = append(s, up)
+		}
+		out[k] = member{f: &Failure{Name: fl.Name + "/" + ev.Element, Detection: fl.Detection}, evs: s}
+	}
+	return out
+}
+
+// sampleEvents keeps n of evs drawn uniformly without replacement (a
+// partial Fisher–Yates shuffle, Knuth TAOCP vol. 2 Algorithm P) from a PCG
+// stream of seed, in their original order.
+func sampleEvents(evs []sim.FailureEvent, n int, seed uint64) []sim.FailureEvent {
+	idx := make([]int, len(evs))
+	for i := range idx {
+		idx[i] = i
+	}
+	r := rand.New(rand.NewPCG(seed, sampleStream))
+	for i := 0; i < n; i++ {
+		j := i + r.IntN(len(idx)-i)
+		idx[i], idx[j] = idx[j], idx[i]
+	}
+	keep := idx[:n]
+	slices.Sort(keep)
+	out := make([]sim.FailureEvent, n)
+	for k, i := range keep {
+		out[k] = evs[i]
+	}
+	return out
+}
+
+// sampleStream is the second PCG seed of a family's sample, keeping its
+// stream apart from other uses of the same seed.
+const sampleStream = 0xfa3117
+
+// geoGroup returns the links of a geographic group on t: every link with an
+// end within gr.WithinKm km of node gr.Of, by the topology's coordinates.
+func (c *checker) geoGroup(t *Topology, gr Group, at yamlx.Pos, field string) ([]int, error) {
+	g := t.Graph
+	v, ok := g.NodeIndex(gr.Of)
+	if !ok {
+		return nil, c.errf(at, "%s.of: topology %q has no node %q", field, t.Label, gr.Of)
+	}
+	if g.Nodes[v].Coord == sim.NoCoord {
+		return nil, c.errf(at, "%s.of: node %q of topology %q has no coordinates", field, gr.Of, t.Label)
+	}
+	within := func(u int) bool {
+		d, ok := sim.Distance(g.Nodes[v], g.Nodes[u])
+		return ok && d <= gr.WithinKm*1000
+	}
+	var links []int
+	for l, lk := range g.Links {
+		if within(lk.A) || within(lk.B) {
+			links = append(links, l)
+		}
+	}
+	if len(links) == 0 {
+		return nil, c.errf(at, "%s: no link of topology %q has an end within %g km of %q", field, t.Label, gr.WithinKm, gr.Of)
+	}
+	return links, nil
 }
 
 func (c *checker) link(t *Topology, l [2]string, at yamlx.Pos, field string) (int, error) {

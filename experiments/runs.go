@@ -32,7 +32,7 @@ type Run struct {
 	Failure  *Failure
 
 	load    float64 // requested normalised load; NaN for absolute rates
-	failure int     // index in Exp.Failures
+	failure int     // index in Topology's failure schedules
 }
 
 // Dims are the values that identify a run in the result tables: its cell
@@ -53,10 +53,19 @@ type Dims struct {
 }
 
 // Cells returns the number of cells: topologies × loads × failure
-// schedules × agents.
+// schedules × agents, a family of failures (each) counting one schedule per
+// element on each topology.
 func (e *Experiment) Cells() int {
-	return len(e.Topologies) * e.numLoads() * len(e.Failures) * len(e.Agents)
+	n := 0
+	for _, t := range e.Topologies {
+		n += e.numLoads() * len(t.failures) * len(e.Agents)
+	}
+	return n
 }
+
+// Schedules returns the number of failure schedules on topology i, a
+// family counting one per element.
+func (e *Experiment) Schedules(i int) int { return len(e.Topologies[i].failures) }
 
 func (e *Experiment) numLoads() int {
 	if e.Traffic.Absolute {
@@ -81,7 +90,7 @@ func (e *Experiment) Runs() []*Run {
 				if math.IsNaN(l) {
 					dimLoad = t.absoluteLoad()
 				}
-				for fi, f := range e.Failures {
+				for fi, f := range t.failures {
 					cell := cellKey(t.Label, l, f.Name)
 					for _, a := range e.Agents {
 						label := a.Canonical()

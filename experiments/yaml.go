@@ -576,6 +576,12 @@ type failureYAML struct {
 	Events    seq[eventYAML] `yaml:"events"`
 	Groups    groupsYAML     `yaml:"groups"`
 	Random    randomYAML     `yaml:"random"`
+	// a family of single failures: each element down at At, up at Until
+	Each   yamlx.String   `yaml:"each"`
+	At     yamlx.Duration `yaml:"at"`
+	Until  yamlx.Duration `yaml:"until"`
+	Sample yamlx.Int      `yaml:"sample"`
+	Seed   yamlx.Int      `yaml:"seed"`
 }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.
@@ -636,6 +642,14 @@ type groupYAML struct {
 	Name  string
 	Pos   yamlx.Pos
 	Links []seq[yamlx.String]
+	// a geographic group: {within_km: R, of: NODE}
+	Geo *geoGroupYAML
+}
+
+type geoGroupYAML struct {
+	Pos      yamlx.Pos    `yaml:"-"`
+	WithinKm yamlx.Float  `yaml:"within_km"`
+	Of       yamlx.String `yaml:"of"`
 }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.
@@ -643,10 +657,20 @@ func (g *groupsYAML) UnmarshalYAML(n ast.Node) error {
 	g.Pos, g.Set = nodePos(n), true
 	kv, ok := mappingPairs(n)
 	if !ok {
-		return yamlx.At(g.Pos, "groups is a mapping NAME: [[a, b], [c, d], ...]")
+		return yamlx.At(g.Pos, "groups is a mapping NAME: [[a, b], [c, d], ...] or NAME: {within_km: R, of: NODE}")
 	}
 	for _, p := range kv {
 		gr := groupYAML{Name: keyName(p.Key), Pos: yamlx.PosOf(p.Key)}
+		if _, isMap := mappingPairs(p.Value); isMap {
+			var geo geoGroupYAML
+			if err := yamlx.DecodeNode(p.Value, &geo); err != nil {
+				return err
+			}
+			geo.Pos = nodePos(p.Value)
+			gr.Geo = &geo
+			g.Groups = append(g.Groups, gr)
+			continue
+		}
 		var links seq[seq[yamlx.String]]
 		if err := links.UnmarshalYAML(p.Value); err != nil {
 			return err

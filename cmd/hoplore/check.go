@@ -139,8 +139,16 @@ func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string)
 	if e.Description != "" {
 		fmt.Fprintf(tw, "\t%s\n", e.Description)
 	}
+	// a family of failures (each) has one schedule per element of each
+	// topology
+	sched := checkPlural(e.Schedules(0), "failure schedule")
+	for i := range e.Topologies {
+		if e.Schedules(i) != e.Schedules(0) {
+			sched = "failure schedules (per topology)"
+		}
+	}
 	fmt.Fprintf(tw, "grid\t%s × %s × %s × %s = %s\n",
-		checkPlural(len(e.Topologies), "topology"), loads, checkPlural(len(e.Failures), "failure schedule"),
+		checkPlural(len(e.Topologies), "topology"), loads, sched,
 		checkPlural(len(e.Agents), "agent"), checkPlural(e.Cells(), "cell"))
 	fmt.Fprintf(tw, "runs\t%s × %s = %s\n", checkPlural(e.Cells(), "cell"), checkPlural(e.Replicates, "replicate"), checkPlural(len(runs), "run"))
 	fmt.Fprintf(tw, "simulated\t%v per run (warm-up %v, bins of %v)\n",
