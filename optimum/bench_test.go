@@ -1,0 +1,104 @@
+package optimum_test
+
+import (
+	"syscall"
+	"testing"
+	"time"
+
+	"hoplore/optimum"
+)
+
+// benchCases: 50-node topologies with demand on every ordered pair (2,450
+// commodities), at normalised loads where the least maximum utilisation is
+// moderate and high.
+var benchCases = []struct {
+	name   string
+	topo   string
+	params map[string]float64
+	load   float64
+}{
+	{"waxman50/load1", "waxman", map[string]float64{"nodes": 50}, 1},
+	{"waxman50/load2.5", "waxman", map[string]float64{"nodes": 50}, 2.5},
+	{"torus7x7/load1", "torus", map[string]float64{"rows": 7, "cols": 7}, 1},
+}
+
+// BenchmarkMinMaxUtil times one least-maximum-utilisation solve at ε = 1%
+// (demand set once) and reports the certified gap and the phases run.
+func BenchmarkMinMaxUtil(b *testing.B) {
+	for _, bc := range benchCases {
+		b.Run(bc.name, func(b *testing.B) {
+			s := uniformAt(b, bc.topo, bc.params, bc.load)
+			b.ReportAllocs()
+			var r optimum.MinMax
+			cpu := cpuTime()
+			for b.Loop() {
+				var err error
+				if r, err = s.MinMaxUtil(optimum.DefaultEpsilon); err != nil {
+					b.Fatal(err)
+				}
+			}
+			if r.Gap > optimum.DefaultEpsilon {
+				b.Fatalf("gap %v above ε", r.Gap)
+			}
+			b.ReportMetric((cpuTime()-cpu).Seconds()/float64(b.N), "cpu-s/op")
+			b.ReportMetric(r.Gap, "gap")
+			b.ReportMetric(float64(r.Phases), "phases")
+			b.ReportMetric(r.Util, "util")
+		})
+	}
+}
+
+// BenchmarkMinDelay times one least-mean-delay solve at ε = 1%, including
+// the min–max solve it starts from, and reports the certified gap and the
+// flow-deviation iterations.
+func BenchmarkMinDelay(b *testing.B) {
+	for _, bc := range benchCases {
+		b.Run(bc.name, func(b *testing.B) {
+			s := uniformAt(b, bc.topo, bc.params, bc.load)
+			b.ReportAllocs()
+			var r optimum.MinDelay
+			cpu := cpuTime()
+			for b.Loop() {
+				var err error
+				if r, err = s.MinDelay(optimum.DefaultEpsilon); err != nil {
+					b.Fatal(err)
+				}
+			}
+			if !r.Feasible || r.Gap > optimum.DefaultEpsilon {
+				b.Fatalf("feasible %v gap %v", r.Feasible, r.Gap)
+			}
+			b.ReportMetric((cpuTime()-cpu).Seconds()/float64(b.N), "cpu-s/op")
+			b.ReportMetric(r.Gap, "gap")
+			b.ReportMetric(float64(r.Iterations), "iterations")
+			b.ReportMetric(r.Mean*1e3, "mean_ms")
+		})
+	}
+}
+
+// BenchmarkSplits times turning a min-delay solution into loop-free
+// per-destination splits (cycle cancelling included).
+func BenchmarkSplits(b *testing.B) {
+	s := uniformAt(b, "waxman", map[string]float64{"nodes": 50}, 1)
+	if _, err := s.MinDelay(optimum.DefaultEpsilon); err != nil {
+		b.Fatal(err)
+	}
+	var sp optimum.Splits
+	s.Splits(&sp)
+	b.ReportAllocs()
+	for b.Loop() {
+		s.Splits(&sp)
+	}
+	if len(sp.At(1, 0)) == 0 {
+		b.Fatal("no next hop")
+	}
+}
+
+// cpuTime returns the process's user+system CPU time: on a shared machine
+// the wall-clock ns/op counts time spent waiting for a core, this does not.
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}

@@ -1,0 +1,37 @@
+package optimum_test
+
+import (
+	"fmt"
+
+	"hoplore/optimum"
+)
+
+// Two sites joined by a fast and a slow channel (10 and 4 packets/s, 2 ms
+// propagation each), 9 packets/s to carry: the least maximum utilisation,
+// the least mean delay, and how the source should split its traffic.
+func ExampleSolver() {
+	s, err := optimum.NewSolver(optimum.Network{Nodes: 2, Channels: []optimum.Channel{
+		{From: 0, To: 1, Capacity: 10, Delay: 0.002},
+		{From: 0, To: 1, Capacity: 4, Delay: 0.002},
+	}})
+	if err != nil {
+		panic(err)
+	}
+	if err := s.SetDemand([][]float64{{0, 9}}); err != nil {
+		panic(err)
+	}
+	mm, _ := s.MinMaxUtil(optimum.DefaultEpsilon)
+	fmt.Printf("least max utilisation %.3f (gap %.3f)\n", mm.Util, mm.Gap)
+	d, _ := s.MinDelay(0.0001)
+	fmt.Printf("least mean delay %.4f s (gap below %v: %v)\n", d.Mean, 0.0001, d.Gap <= 0.0001)
+	var sp optimum.Splits
+	s.Splits(&sp)
+	for _, x := range sp.At(0, 1) {
+		fmt.Printf("channel %d carries %.3f\n", x.Channel, x.Weight)
+	}
+	// Output:
+	// least max utilisation 0.643 (gap 0.000)
+	// least mean delay 0.3720 s (gap below 0.0001: true)
+	// channel 0 carries 0.771
+	// channel 1 carries 0.229
+}
