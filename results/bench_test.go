@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"testing"
 	"time"
+
+	"hoplore/internal/atomicfile"
 )
 
 // synthTables builds run i of a synthetic sweep sized like a typical run: 120
@@ -35,7 +37,7 @@ func BenchmarkFinalize(b *testing.B) {
 	order := make([]string, 1000)
 	for i := range order {
 		t := synthTables(i)
-		if err := writePart(dir, t, false); err != nil {
+		if err := writePartNoSync(dir, t); err != nil {
 			b.Fatal(err)
 		}
 		order[i] = t.Run.RunID
@@ -43,8 +45,8 @@ func BenchmarkFinalize(b *testing.B) {
 	meta := Meta{Version: "bench", Experiment: "bench", ExperimentHash: "h"}
 	for _, sync := range []bool{true, false} {
 		b.Run(fmt.Sprintf("sync=%v", sync), func(b *testing.B) {
-			testNoSync = !sync
-			defer func() { testNoSync = false }()
+			atomicfile.SkipSync = !sync
+			defer func() { atomicfile.SkipSync = false }()
 			b.ReportAllocs()
 			for b.Loop() {
 				if err := Finalize(dir, order, meta); err != nil {
@@ -66,7 +68,7 @@ func BenchmarkListParts(b *testing.B) {
 	dir := b.TempDir()
 	for i := 0; i < 1000; i++ {
 		t := &RunTables{Run: RunRow{Dims: Dims{RunID: fmt.Sprintf("run-%05d", i)}}}
-		if err := writePart(dir, t, false); err != nil {
+		if err := writePartNoSync(dir, t); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -97,4 +99,11 @@ func BenchmarkWritePart(b *testing.B) {
 		}
 	}
 	b.ReportMetric(time.Since(start).Seconds()*1e3/float64(b.N), "ms/part")
+}
+
+// writePartNoSync writes a benchmark's fixture part without syncing it.
+func writePartNoSync(dir string, t *RunTables) error {
+	atomicfile.SkipSync = true
+	defer func() { atomicfile.SkipSync = false }()
+	return WritePart(dir, t)
 }

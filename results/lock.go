@@ -113,7 +113,7 @@ func (l *Lock) Unlock() {
 }
 
 // isTemp reports whether name is a temporary file of ours: a dot-file with
-// ".tmp-" in its name (see writeTemp).
+// ".tmp-" in its name (see atomicfile.Create).
 func isTemp(name string) bool {
 	return strings.HasPrefix(name, ".") && strings.Contains(name, ".tmp-")
 }

@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"hoplore/internal/atomicfile"
 )
 
 // Two writers of one folder exclude each other, within one process as
@@ -128,13 +130,13 @@ func TestTablesReplacedAsASet(t *testing.T) {
 	}
 
 	// Interrupt the next Finalize after two of its five renames.
-	testHookTables = func(ps []pending) bool {
-		for _, p := range ps[:2] {
-			if err := os.Rename(p.tmp, p.path); err != nil {
-				t.Fatal(err)
-			}
+	testHookTables = func(files []*atomicfile.File) bool {
+		if err := atomicfile.Commit(files[:2]...); err != nil {
+			t.Fatal(err)
 		}
-		discard(ps[2:])
+		for _, f := range files[2:] {
+			f.Abort()
+		}
 		return true
 	}
 	err = func() error {

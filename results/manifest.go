@@ -10,6 +10,8 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+
+	"hoplore/internal/atomicfile"
 )
 
 // ManifestFile lists, in a result folder, the tables of its last complete
@@ -118,30 +120,36 @@ func hashFile(path string) (int64, string, error) {
 }
 
 // commitTables replaces a set of tables: it removes DIR's manifest (durably),
-// renames every pending table into place, then writes the new manifest.
-func commitTables(dir string, ps []pending, m Manifest) error {
-	m.Tables = m.Tables[:0]
-	for _, p := range ps {
-		size, sum, err := hashFile(p.tmp)
-		if err != nil {
-			discard(ps)
-			return fmt.Errorf("results: %w", err)
+// puts every table file into place, then writes the new manifest.
+func commitTables(dir string, files []*atomicfile.File, m Manifest) error {
+	abort := func(err error) error {
+		for _, f := range files {
+			f.Abort()
 		}
-		m.Tables = append(m.Tables, ManifestTable{File: filepath.Base(p.path), Bytes: size, SHA256: sum})
+		return err
+	}
+	m.Tables = m.Tables[:0]
+	for _, f := range files {
+		if err := f.Close(); err != nil {
+			return abort(fmt.Errorf("results: %w", err))
+		}
+		size, sum, err := hashFile(f.TempName())
+		if err != nil {
+			return abort(fmt.Errorf("results: %w", err))
+		}
+		m.Tables = append(m.Tables, ManifestTable{File: filepath.Base(f.Path()), Bytes: size, SHA256: sum})
 	}
 	mpath := filepath.Join(dir, ManifestFile)
 	if err := os.Remove(mpath); err != nil && !errors.Is(err, fs.ErrNotExist) {
-		discard(ps)
-		return fmt.Errorf("results: %w", err)
+		return abort(fmt.Errorf("results: %w", err))
 	}
-	if err := syncDir(dir); err != nil {
-		discard(ps)
-		return err
+	if err := atomicfile.SyncDir(dir); err != nil {
+		return abort(fmt.Errorf("results: %w", err))
 	}
-	if testHookTables != nil && testHookTables(ps) {
+	if testHookTables != nil && testHookTables(files) {
 		return errors.New("results: stopped by a test")
 	}
-	if err := commit(ps); err != nil {
+	if err := commit(files...); err != nil {
 		return err
 	}
 	b, err := json.MarshalIndent(m, "", "  ")
@@ -157,4 +165,4 @@ func commitTables(dir string, ps []pending, m Manifest) error {
 // testHookTables, when set by a test, runs after the old manifest is gone and
 // before the first table is renamed into place; returning true stops the
 // commit there, as a kill would.
-var testHookTables func(ps []pending) bool
+var testHookTables func(files []*atomicfile.File) bool

@@ -1,16 +1,16 @@
 package results
 
 import (
-	"bufio"
 	"bytes"
 	"errors"
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 
 	"github.com/parquet-go/parquet-go"
 	"github.com/parquet-go/parquet-go/compress/zstd"
+
+	"hoplore/internal/atomicfile"
 )
 
 // Meta describes the experiment a result folder belongs to. Every table file
@@ -218,106 +218,30 @@ func ReadSummary(path string) ([]SummaryRow, error) {
 	return readFile(path, func(r io.ReaderAt, size int64) ([]SummaryRow, error) { return readSummary(r, size, path) })
 }
 
-// writeFileAtomic writes path through a temporary file in the same folder
-// (named with a leading dot), synced and then renamed over path, so that
-// path is either absent, its old content or complete.
+// writeFileAtomic writes path atomically (internal/atomicfile): path is
+// either absent, its old content or complete, and readable by others like
+// any file written with os.WriteFile(…, 0o644).
 func writeFileAtomic(path string, write func(io.Writer) error) error {
-	p, err := writeTemp(path, write)
-	if err != nil {
-		return err
-	}
-	return commit([]pending{p})
-}
-
-// pending is a complete, synced temporary file waiting to be renamed to path.
-type pending struct{ tmp, path string }
-
-// writeTemp writes a synced temporary file for path in path's folder.
-func writeTemp(path string, write func(io.Writer) error) (p pending, err error) {
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return p, fmt.Errorf("results: %w", err)
-	}
-	// results are for sharing: readable by others, like any file written with
-	// os.WriteFile(…, 0o644) (temp files start at 0600)
-	if err := f.Chmod(0o644); err != nil {
-		f.Close()
-		os.Remove(f.Name())
-		return p, fmt.Errorf("results: %w", err)
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	bw := bufio.NewWriterSize(f, 1<<16)
-	if err := write(bw); err != nil {
-		return p, fmt.Errorf("results: writing %s: %w", path, err)
-	}
-	if err := bw.Flush(); err != nil {
-		return p, fmt.Errorf("results: %w", err)
-	}
-	if err := fsync(f); err != nil {
-		return p, fmt.Errorf("results: %w", err)
-	}
-	if err := f.Close(); err != nil {
-		return p, fmt.Errorf("results: %w", err)
-	}
-	return pending{tmp: f.Name(), path: path}, nil
-}
-
-// commit renames every pending file into place, in order, and makes the
-// renames durable.
-func commit(ps []pending) error {
-	for i, p := range ps {
-		if err := os.Rename(p.tmp, p.path); err != nil {
-			discard(ps[i:])
-			return fmt.Errorf("results: %w", err)
-		}
-	}
-	done := map[string]bool{}
-	for _, p := range ps {
-		if d := filepath.Dir(p.path); !done[d] {
-			done[d] = true
-			if err := syncDir(d); err != nil {
-				return err
-			}
-		}
+	if err := atomicfile.Write(path, 0o644, write); err != nil {
+		return fmt.Errorf("results: %w", err)
 	}
 	return nil
 }
 
-// discard removes pending files.
-func discard(ps []pending) {
-	for _, p := range ps {
-		os.Remove(p.tmp)
-	}
-}
-
-// testNoSync, set by benchmarks only, skips every sync to measure the rest.
-var testNoSync bool
-
-func fsync(f *os.File) error {
-	if testNoSync {
-		return nil
-	}
-	return f.Sync()
-}
-
-// syncDir makes a rename in dir durable.
-func syncDir(dir string) error {
-	if testNoSync {
-		return nil
-	}
-	d, err := os.Open(dir)
+// createFile starts a file that replaces path atomically when committed
+// (commit).
+func createFile(path string) (*atomicfile.File, error) {
+	f, err := atomicfile.Create(path, 0o644)
 	if err != nil {
-		return fmt.Errorf("results: %w", err)
+		return nil, fmt.Errorf("results: %w", err)
 	}
-	defer d.Close()
-	if err := d.Sync(); err != nil && !errors.Is(err, os.ErrInvalid) {
-		return fmt.Errorf("results: sync %s: %w", dir, err)
+	return f, nil
+}
+
+// commit puts files in place together (atomicfile.Commit).
+func commit(files ...*atomicfile.File) error {
+	if err := atomicfile.Commit(files...); err != nil {
+		return fmt.Errorf("results: %w", err)
 	}
 	return nil
 }

@@ -1,17 +1,17 @@
 package results
 
 import (
-	"bufio"
 	"cmp"
 	"errors"
 	"fmt"
-	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
+
+	"hoplore/internal/atomicfile"
 )
 
 // PartsDir is the folder, inside a result folder, that holds one part per
@@ -30,12 +30,7 @@ const PartsDir = "parts"
 // ASCII letters, digits, '-', '_' and inner '.' are escaped as %XX in the
 // file name. Rewriting a finished run replaces its part. Safe for concurrent
 // use on different runs. Cost: one file write, two syncs.
-func WritePart(dir string, t *RunTables) error { return writePart(dir, t, true) }
-
-// PartExt is the file name extension of parts.
-const PartExt = ".part"
-
-func writePart(dir string, t *RunTables, sync bool) error {
+func WritePart(dir string, t *RunTables) error {
 	id := t.Run.RunID
 	if id == "" {
 		return errors.New("results: run has no run id")
@@ -61,26 +56,29 @@ func writePart(dir string, t *RunTables, sync bool) error {
 		return fmt.Errorf("results: %w", err)
 	}
 	b := encodePart(t)
-	write := func(w io.Writer) error {
-		_, err := w.Write(b)
-		return err
-	}
 	path := partPath(dir, id)
-	if !sync {
-		return os.WriteFile(path, b, 0o644)
-	}
-	p, err := writeTemp(path, write)
+	f, err := createFile(path)
 	if err != nil {
 		return err
 	}
+	if _, err := f.Write(b); err != nil {
+		f.Abort()
+		return fmt.Errorf("results: writing %s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("results: %w", err)
+	}
 	if testHookInstall != nil {
-		if err := testHookInstall(p.tmp); err != nil {
-			discard([]pending{p})
+		if err := testHookInstall(f.TempName()); err != nil {
+			f.Abort()
 			return err
 		}
 	}
-	return commit([]pending{p})
+	return commit(f)
 }
+
+// PartExt is the file name extension of parts.
+const PartExt = ".part"
 
 // testHookInstall, when set by a test, runs when a part is complete in its
 // temporary file, just before the rename that makes it visible.
@@ -162,45 +160,28 @@ func Finalize(dir string, order []string, meta Meta) error {
 		seen[id] = true
 	}
 
-	var ps []pending
+	var files []*atomicfile.File // series, links, recoveries, runs, summary
 	fail := func(err error) error {
-		discard(ps)
+		for _, f := range files {
+			f.Abort()
+		}
 		return err
 	}
-	type stream struct {
-		f   *os.File
-		bw  *bufio.Writer
-		tmp string
+	create := func(name string) (*atomicfile.File, error) {
+		f, err := createFile(filepath.Join(dir, name))
+		if err == nil {
+			files = append(files, f)
+		}
+		return f, err
 	}
-	open := func(name string) (*stream, error) {
-		f, err := os.CreateTemp(dir, "."+name+".tmp-*")
-		if err != nil {
-			return nil, fmt.Errorf("results: %w", err)
-		}
-		if err := f.Chmod(0o644); err != nil {
-			f.Close()
-			os.Remove(f.Name())
-			return nil, fmt.Errorf("results: %w", err)
-		}
-		ps = append(ps, pending{tmp: f.Name(), path: filepath.Join(dir, name)})
-		return &stream{f: f, bw: bufio.NewWriterSize(f, 1<<16), tmp: f.Name()}, nil
-	}
-	var streams []*stream
-	defer func() {
-		for _, s := range streams {
-			s.f.Close()
-		}
-	}()
 	for _, name := range []string{SeriesFile, LinksFile, RecoveriesFile} {
-		s, err := open(name)
-		if err != nil {
+		if _, err := create(name); err != nil {
 			return fail(err)
 		}
-		streams = append(streams, s)
 	}
-	sw := newTableWriter[SeriesRow](streams[0].bw, meta.kv(tableSeries))
-	lw := newTableWriter[LinkRow](streams[1].bw, meta.kv(tableLinks))
-	cw := newTableWriter[RecoveryRow](streams[2].bw, meta.kv(tableRecoveries))
+	sw := newTableWriter[SeriesRow](files[0], meta.kv(tableSeries))
+	lw := newTableWriter[LinkRow](files[1], meta.kv(tableLinks))
+	cw := newTableWriter[RecoveryRow](files[2], meta.kv(tableRecoveries))
 	runs := make([]RunRow, len(order))
 	for i, id := range order {
 		t, err := ReadPart(dir, id)
@@ -219,39 +200,28 @@ func Finalize(dir string, order []string, meta Meta) error {
 		}
 	}
 	for i, c := range []interface{ close() error }{sw, lw, cw} {
-		s := streams[i]
 		if err := c.close(); err != nil {
-			return fail(fmt.Errorf("results: writing %s: %w", s.tmp, err))
+			return fail(fmt.Errorf("results: writing %s: %w", files[i].Path(), err))
 		}
-		if err := s.bw.Flush(); err != nil {
-			return fail(fmt.Errorf("results: %w", err))
-		}
-		if err := fsync(s.f); err != nil {
+		if err := files[i].Close(); err != nil {
 			return fail(fmt.Errorf("results: %w", err))
 		}
 	}
-	p, err := writeTemp(filepath.Join(dir, RunsFile), func(w io.Writer) error {
-		return writeTable(w, runs, meta.kv(tableRuns))
-	})
+	rf, err := create(RunsFile)
 	if err != nil {
 		return fail(err)
 	}
-	ps = append(ps, p)
-	sum := Summarize(runs)
-	p, err = writeTemp(filepath.Join(dir, SummaryFile), func(w io.Writer) error {
-		return writeSummary(w, sum, meta.kv(tableSummary))
-	})
+	if err := writeTable(rf, runs, meta.kv(tableRuns)); err != nil {
+		return fail(fmt.Errorf("results: writing %s: %w", rf.Path(), err))
+	}
+	sf, err := create(SummaryFile)
 	if err != nil {
 		return fail(err)
 	}
-	ps = append(ps, p)
-	for _, s := range streams {
-		if err := s.f.Close(); err != nil {
-			return fail(fmt.Errorf("results: %w", err))
-		}
+	if err := writeSummary(sf, Summarize(runs), meta.kv(tableSummary)); err != nil {
+		return fail(fmt.Errorf("results: writing %s: %w", sf.Path(), err))
 	}
-	streams = nil
-	return commitTables(dir, ps, Manifest{
+	return commitTables(dir, files, Manifest{
 		Experiment: meta.Experiment, ExperimentHash: meta.ExperimentHash,
 		Runs: len(runs), ExpectedRuns: meta.Runs,
 	})

@@ -5,6 +5,8 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
+
+	"hoplore/internal/atomicfile"
 )
 
 // RejectedDir is the folder, inside a result folder, where RejectBadParts
@@ -45,8 +47,8 @@ func RejectBadParts(dir, experiment string) ([]string, error) {
 		moved = append(moved, dst)
 	}
 	if len(moved) > 0 {
-		if err := syncDir(filepath.Join(dir, PartsDir)); err != nil {
-			return moved, err
+		if err := atomicfile.SyncDir(filepath.Join(dir, PartsDir)); err != nil {
+			return moved, fmt.Errorf("results: %w", err)
 		}
 	}
 	return moved, nil

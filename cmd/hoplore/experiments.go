@@ -13,6 +13,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hoplore/experiments"
+	"hoplore/internal/atomicfile"
 )
 
 func newExperimentsCmd(d *deps) *cobra.Command {
@@ -111,38 +112,10 @@ func showExperiment(stdout, stderr io.Writer, o *showExperimentOptions) error {
 		if err := os.MkdirAll(filepath.Dir(p), 0o755); err != nil {
 			return err
 		}
-		if err := writeNewFile(p, f.Data); err != nil {
-			return err
+		if err := atomicfile.WriteBytes(p, f.Data, 0o644); err != nil {
+			return fmt.Errorf("experiments: %w", err)
 		}
 		fmt.Fprintln(stdout, p)
-	}
-	return nil
-}
-
-// writeNewFile writes data to a temporary file beside p and renames it
-// into place, so p is either absent or complete.
-func writeNewFile(p string, data []byte) error {
-	tmp, err := os.CreateTemp(filepath.Dir(p), "."+filepath.Base(p)+".tmp*")
-	if err != nil {
-		return err
-	}
-	if err := tmp.Chmod(0o644); err != nil {
-		tmp.Close()
-		os.Remove(tmp.Name())
-		return err
-	}
-	if _, err := tmp.Write(data); err != nil {
-		tmp.Close()
-		os.Remove(tmp.Name())
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(tmp.Name())
-		return err
-	}
-	if err := os.Rename(tmp.Name(), p); err != nil {
-		os.Remove(tmp.Name())
-		return err
 	}
 	return nil
 }
