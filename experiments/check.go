@@ -3,6 +3,7 @@ package experiments
 import (
 	"regexp"
 	"strings"
+	"time"
 
 	"hoplore/agents"
 	"hoplore/internal/yamlx"
@@ -33,6 +34,7 @@ type where struct {
 }
 
 type failureWhere struct {
+	random     yamlx.Pos     // the random: mapping
 	groupLinks [][]yamlx.Pos // each link of each group, in Failure.Groups order
 	groupOf    []yamlx.Pos   // each geographic group's node (zero for listed groups)
 	elements   []yamlx.Pos   // each event's node or link value
@@ -88,10 +90,16 @@ func (c *checker) experiment() (*Experiment, error) {
 	if e.Bin <= 0 {
 		e.Bin = e.Duration
 	}
+	if bins := (e.Duration + e.Bin - 1) / e.Bin; bins > MaxBins {
+		return nil, c.errf(pos(orPos(r.Bin.Pos, r.Duration.Pos)), "bin: %v makes %d bins of a %v run; at most %d", time.Duration(e.Bin), bins, time.Duration(e.Duration), MaxBins)
+	}
 	e.Replicates = DefaultReplicates
 	if r.Replicates.Set {
 		if r.Replicates.V < 1 {
 			return nil, c.errf(r.Replicates.Pos, "replicates: must be at least 1, got %d", r.Replicates.V)
+		}
+		if r.Replicates.V > MaxRuns {
+			return nil, c.errf(r.Replicates.Pos, "replicates: at most %d (runs in all), got %d", MaxRuns, r.Replicates.V)
 		}
 		e.Replicates = r.Replicates.V
 	}
@@ -119,7 +127,19 @@ func (c *checker) experiment() (*Experiment, error) {
 	if err := c.failures(e); err != nil {
 		return nil, err
 	}
+	cells := 0
 	for _, t := range e.Topologies {
+		cells += e.numLoads() * schedulesOn(e, t.Graph) * len(e.Agents)
+	}
+	if runs := cells * e.Replicates; runs > MaxRuns {
+		return nil, c.errf(pos(r.Replicates.Pos), "replicates: %d cells (topologies × loads × failure schedules × agents) × %d replicates = %d runs; at most %d",
+			cells, e.Replicates, runs, MaxRuns)
+	}
+	for _, t := range e.Topologies {
+		if err := c.bounded(e, t); err != nil {
+			return nil, err
+		}
+		t.Net = sim.Compile(t.Graph)
 		if err := c.resolve(e, t); err != nil {
 			return nil, err
 		}
@@ -142,4 +162,56 @@ func pos(p yamlx.Pos) yamlx.Pos {
 		return top
 	}
 	return p
+}
+
+// bounded checks the sizes that depend on topology t as well as on the
+// file: random failure events per run and the agents' tables.
+func (c *checker) bounded(e *Experiment, t *Topology) error {
+	for i, f := range e.Failures {
+		if f.Random == nil {
+			continue
+		}
+		elements, what := len(t.Graph.Links), "links"
+		if f.Random.Scope == "nodes" {
+			elements, what = len(t.Graph.Nodes), "nodes"
+		}
+		events := 2 * float64(elements) * e.Duration.Seconds() / (f.Random.MTBF + f.Random.MTTR).Seconds()
+		if events > MaxFailureEvents {
+			return c.errf(c.at.failures[i].random, "failures[%d].random: about %.3g failure events per run on topology %q (%d %s, each down and up every mtbf + mttr); at most %d: raise mtbf",
+				i, events, t.Label, elements, what, MaxFailureEvents)
+		}
+	}
+	size := agents.RunSize{Nodes: len(t.Graph.Nodes), Links: len(t.Graph.Links), Channels: 2 * len(t.Graph.Links), Seconds: e.Duration.Seconds()}
+	for i, p := range e.Agents {
+		if b := p.Estimate(size).Bytes; b > MaxAgentBytes {
+			return c.errf(c.at.agents[i], "agents[%d]: on topology %q its tables would take about %.3g GB; at most %.3g GB", i, t.Label, b/1e9, MaxAgentBytes/1e9)
+		}
+	}
+	return nil
+}
+
+// schedulesOn returns the number of failure schedules e's failures make on
+// g: one each, a family one per element (or its sample).
+func schedulesOn(e *Experiment, g *sim.Graph) int {
+	n := 0
+	for _, f := range e.Failures {
+		if f.Each == nil {
+			n++
+			continue
+		}
+		k := 0
+		switch f.Each.Kind {
+		case "links":
+			k = len(g.Links)
+		case "nodes":
+			k = len(g.Nodes)
+		case "groups":
+			k = len(f.Groups)
+		}
+		if f.Each.Sample > 0 && f.Each.Sample < k {
+			k = f.Each.Sample
+		}
+		n += k
+	}
+	return n
 }

@@ -196,6 +196,7 @@ func (c *checker) failure(e *Experiment, i int, f *failureYAML) (*Failure, failu
 	}
 	if f.Random.Set {
 		rd := f.Random
+		at.random = rd.Pos
 		rf := &Random{Scope: "links"}
 		if rd.Scope.Set {
 			if rd.Scope.S != "links" && rd.Scope.S != "nodes" {

@@ -30,6 +30,12 @@ func (c *checker) topologies(e *Experiment) error {
 			label = t.Label.S
 			g.Name = label
 		}
+		if n := len(g.Nodes); n > MaxNodes {
+			return c.errf(t.Pos, "topologies[%d]: %d nodes; at most %d (validation and runs keep tables over every pair of nodes)", i, n, MaxNodes)
+		}
+		if l := len(g.Links); l > MaxLinks {
+			return c.errf(t.Pos, "topologies[%d]: %d links; at most %d", i, l, MaxLinks)
+		}
 		if err := g.Validate(); err != nil {
 			var ye *yamlx.Error
 			if errors.As(err, &ye) {
@@ -41,7 +47,8 @@ func (c *checker) topologies(e *Experiment) error {
 			return c.errf(t.Pos, "topologies[%d]: topology %q is listed twice; give one a label:", i, label)
 		}
 		seen[label] = true
-		e.Topologies = append(e.Topologies, &Topology{Label: label, Graph: g, Net: sim.Compile(g)})
+		// compiled once the grid is known to be within bounds
+		e.Topologies = append(e.Topologies, &Topology{Label: label, Graph: g})
 	}
 	return nil
 }

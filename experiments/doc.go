@@ -109,6 +109,10 @@
 // label. A run's id is the first 12 hex digits of the SHA-256 of the
 // experiment name, the cell key, the agent label and the replicate.
 //
+// Sizes the file controls are bounded before the work they drive starts:
+// MaxNodes and MaxLinks per topology, MaxRuns in the grid, MaxBins per run,
+// MaxFailureEvents expected per run, MaxAgentBytes per agent and topology.
+//
 // Bundled experiments (demo, load-sweep, link-failure, single-queue) are
 // embedded in the binary with the topology files they use; Resolve finds a
 // file path or a bundled name.
