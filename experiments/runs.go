@@ -437,21 +437,11 @@ func (r *Run) EstimateBytes() float64 {
 	return b
 }
 
-// EstimatePeakBytes returns a rough peak memory estimate for running the
-// experiment with the given number of workers: the largest runs at once,
-// plus a fixed allowance for the process.
+// EstimatePeakBytes returns a rough upper estimate of the peak memory of
+// running the experiment with the given number of workers, bytes: the total
+// of EstimateMemory.
 func (e *Experiment) EstimatePeakBytes(workers int) float64 {
-	var sizes []float64
-	for _, r := range e.Runs() {
-		sizes = append(sizes, r.EstimateBytes())
-	}
-	slices.Sort(sizes)
-	slices.Reverse(sizes)
-	total := 30e6 // runtime, parsed experiment, parquet writers
-	for i := 0; i < workers && i < len(sizes); i++ {
-		total += sizes[i]
-	}
-	return total
+	return e.EstimateMemory(workers).Total
 }
 
 func fmtLoad(l float64) string {

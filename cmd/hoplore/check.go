@@ -29,9 +29,10 @@ import (
 const nominalEventsPerSecond = 5e6
 
 type checkOptions struct {
-	arg     string
-	workers int
-	out     string // results of an earlier run, to check the warm-up against
+	arg         string
+	workers     int
+	out         string // results of an earlier run, to check the warm-up against
+	memoryLimit string
 }
 
 func newCheckCmd(d *deps) *cobra.Command {
@@ -54,8 +55,9 @@ func newCheckCmd(d *deps) *cobra.Command {
 			return runCheck(d.stdout, o)
 		},
 	}
-	cmd.Flags().IntVar(&o.workers, "workers", runtime.NumCPU(), "workers to estimate the wall time for")
+	cmd.Flags().IntVar(&o.workers, "workers", runtime.NumCPU(), "workers to estimate the wall time and memory for")
 	cmd.Flags().StringVar(&o.out, "out", "", "results of an earlier run to check the warm-up against (default results/<name>)")
+	cmd.Flags().StringVar(&o.memoryLimit, "memory-limit", "", memoryFlagHelp)
 	return cmd
 }
 
@@ -63,8 +65,8 @@ func newCheckCmd(d *deps) *cobra.Command {
 // input comes back as an error the caller maps to exit status 2; nothing is
 // written then.
 func runCheck(w io.Writer, o *checkOptions) error {
-	if o.workers < 1 {
-		return badInput(fmt.Errorf("check: --workers must be at least 1, got %d", o.workers))
+	if o.workers < 1 || o.workers > maxWorkers {
+		return badInput(fmt.Errorf("check: --workers %d: want 1 to %d", o.workers, maxWorkers))
 	}
 	e, err := experiments.Resolve(o.arg)
 	if err != nil {
@@ -74,8 +76,12 @@ func runCheck(w io.Writer, o *checkOptions) error {
 	if out == "" {
 		out = filepath.Join("results", e.Name)
 	}
+	mb, err := checkMemory("check", e, o.workers, o.memoryLimit)
+	if err != nil {
+		return err
+	}
 	var b strings.Builder
-	writeCheck(&b, e, o.workers, out)
+	writeCheck(&b, e, o.workers, out, mb)
 	_, err = io.WriteString(w, b.String())
 	return err
 }
@@ -128,7 +134,7 @@ func writeWarmupCheck(w io.Writer, e *experiments.Experiment, dir string) {
 
 // writeCheck writes the grid summary of e, with the warm-up checked
 // against the results of an earlier run in out.
-func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string) {
+func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string, mb memoryBudget) {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
 	loads := "absolute rates"
 	if e.Loads != nil {
@@ -174,8 +180,18 @@ func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string)
 	par := single / float64(min(workers, len(runs)))
 	fmt.Fprintf(tw, "wall time\tabout %s with %s (%s on one), at a nominal %s events/s per worker\n",
 		checkRoughDuration(par), checkPlural(workers, "worker"), checkRoughDuration(single), checkSci(nominalEventsPerSecond))
-	fmt.Fprintf(tw, "memory\tabout %s at peak with %s (rough upper estimate)\n",
-		checkBytes(e.EstimatePeakBytes(workers)), checkPlural(workers, "worker"))
+	fmt.Fprintf(tw, "memory\tabout %s at peak with %s (rough upper estimate)",
+		checkBytes(mb.est.Total), checkPlural(workers, "worker"))
+	if !math.IsInf(mb.limit, 1) {
+		fmt.Fprintf(tw, "; %s may be used (%s)", checkBytes(mb.limit), mb.source)
+	}
+	fmt.Fprintln(tw)
+	for i, p := range mb.est.Parts {
+		if i == 3 {
+			break
+		}
+		fmt.Fprintf(tw, "	  %s: %s\n", checkBytes(p.Bytes), p.Setting)
+	}
 	fmt.Fprintf(tw, "hash\t%s\n", e.Hash)
 	writeWarmupCheck(tw, e, out)
 	tw.Flush()

@@ -5,11 +5,13 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
+	"runtime"
 	"strings"
 
 	"github.com/spf13/cobra"
 
 	"hoplore/experiments"
+	"hoplore/internal/memguard"
 	"hoplore/report"
 	"hoplore/results"
 	"hoplore/sweep"
@@ -22,6 +24,7 @@ type runOptions struct {
 	quiet   bool
 	shard   string
 	report  bool
+	memory  string
 }
 
 func newRunCmd(d *deps) *cobra.Command {
@@ -63,6 +66,7 @@ hoplore merge. See also hoplore slurm.`,
 	f.IntVar(&o.workers, "workers", 0, "runs executed at once (default: the cores this process may use)")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing but errors: no progress, no summary")
 	f.StringVar(&o.shard, "shard", "", "run only share I of N (0-based, written I/N); default from a Slurm job array")
+	f.StringVar(&o.memory, "memory-limit", "", memoryFlagHelp)
 	f.BoolVar(&o.report, "report", false, "also write the HTML report (DIR/report/index.html) when the sweep is complete")
 	return cmd
 }
@@ -92,6 +96,15 @@ func runRun(d *deps, arg string, o *runOptions) error {
 	if out == "" {
 		out = filepath.Join("results", e.Name)
 	}
+	workers := o.workers
+	if workers == 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	mb, err := checkMemory("run", e, workers, o.memory)
+	if err != nil {
+		return err
+	}
+	memguard.SetSoftLimit(mb.limit)
 	lock, err := lockOut(out, "run", true)
 	if err != nil {
 		return err
