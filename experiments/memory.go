@@ -40,11 +40,16 @@ const (
 	seriesRowBytes   = 200  // a series row and a bin's counters
 	channelBytes     = 300  // channel state and its links row
 	perBinHistSpread = 1e3  // delivery times of one bin span three decades
+	// GCFactor turns live heap into resident memory: with the garbage
+	// collector's default pacing (GOGC=100) the heap grows to about twice
+	// its live part before a collection.
+	GCFactor = 2
 )
 
 // EstimateMemory returns a rough upper estimate of the peak memory of
-// running the experiment with the given number of workers, by the setting
-// that drives each part: the process itself, every run of the grid
+// running the experiment with the given number of workers (resident
+// memory: live heap × GCFactor), by the setting that drives each part: the
+// process itself, every run of the grid
 // (replicates × cells), and the largest runs held at once by the workers —
 // their time series (bin), their queues with every buffer full (buffer),
 // their topology, their agents' tables (as each kind estimates them) and
@@ -90,9 +95,13 @@ func (e *Experiment) EstimateMemory(workers int) MemoryEstimate {
 		}
 	}
 	var m MemoryEstimate
-	for _, s := range order {
-		m.Parts = append(m.Parts, MemoryPart{Setting: s, Bytes: agg[s]})
-		m.Total += agg[s]
+	for i, s := range order {
+		b := agg[s]
+		if i > 0 { // the live heap of everything but the process allowance
+			b *= GCFactor
+		}
+		m.Parts = append(m.Parts, MemoryPart{Setting: s, Bytes: b})
+		m.Total += b
 	}
 	slices.SortStableFunc(m.Parts, func(a, b MemoryPart) int { return cmp.Compare(b.Bytes, a.Bytes) })
 	return m

@@ -62,7 +62,7 @@ func TestPerRunMemoryBound(t *testing.T) {
 	var perRun float64
 	for _, part := range est {
 		if strings.HasPrefix(part.Setting, "replicates:") {
-			perRun = part.Bytes / float64(len(runs))
+			perRun = part.Bytes / experiments.GCFactor / float64(len(runs))
 		}
 	}
 	t.Logf("%d runs: %.0f bytes held per run; estimate %.0f", len(runs), per, perRun)
@@ -135,7 +135,7 @@ failures: [none]
 			t.Fatal(err)
 		}
 	})
-	want := est.Total - 30e6 // the process allowance is not part of a run
+	want := (est.Total - 30e6) / experiments.GCFactor // live heap; the process allowance is not part of a run
 	t.Logf("peak heap of the run %.1f MB, estimate %.1f MB (largest term %q)", got/1e6, want/1e6, est.Largest().Setting)
 	if got > want || want > 2*got {
 		t.Errorf("estimate %.1f MB, measured %.1f MB: want within [1×, 2×]", want/1e6, got/1e6)
@@ -178,7 +178,7 @@ failures: [` + fail + `]
 	var term float64
 	for _, p := range est.Parts {
 		if strings.HasPrefix(p.Setting, "failures flaps") {
-			term = p.Bytes
+			term = p.Bytes / experiments.GCFactor
 		}
 	}
 	got := flapping - base
