@@ -174,7 +174,7 @@ failures: [` + fail + `]
 		}), e.EstimateMemory(1)
 	}
 	base, _ := heap("none")
-	flapping, est := heap("{name: flaps, random: {scope: links, mtbf: 20ms, mttr: 20ms}}")
+	flapping, est := heap("{name: flaps, random: {scope: links, mtbf: 4ms, mttr: 4ms}}")
 	var term float64
 	for _, p := range est.Parts {
 		if strings.HasPrefix(p.Setting, "failures flaps") {
