@@ -81,6 +81,7 @@ type engine struct {
 	now      Time
 	seq      uint64
 	heap     eventHeap
+	topDone  bool // the event at the top of heap has been handled: the next schedule replaces it
 	hopLimit int
 	flows    int
 	bin      Time
@@ -94,7 +95,8 @@ type engine struct {
 	live int64 // measured data packets in the network
 
 	ch       []chanState
-	linkDown []int // reasons a link is down (its own failure, a failed end node)
+	chFrom   []int32 // sending node of each channel, compact for the views' checks
+	linkDown []int   // reasons a link is down (its own failure, a failed end node)
 	nodes    []nodeState
 	src      []source
 
@@ -174,6 +176,10 @@ func newEngine(cfg *Config) (*engine, error) {
 		e.peak = math.Max(e.peak, ph.Factor)
 	}
 	e.ch = make([]chanState, len(net.Channels))
+	e.chFrom = make([]int32, len(net.Channels))
+	for i := range net.Channels {
+		e.chFrom[i] = int32(net.Channels[i].From)
+	}
 	for i := range e.ch {
 		e.ch[i].up, e.ch[i].seenUp = true, true
 		e.ch[i].bw, e.ch[i].delay = net.Channels[i].Bandwidth, net.Channels[i].Delay
@@ -299,7 +305,7 @@ func newEngine(cfg *Config) (*engine, error) {
 		e.ls = make([]LinkStater, N)
 		e.timed = make([]Timed, N)
 		for v := 0; v < N; v++ {
-			view := &NodeView{e: e, node: v, rng: Stream(cfg.AgentSeed, StreamAgent, uint64(v))}
+			view := &NodeView{e: e, node: v, out: net.Out[v], rng: Stream(cfg.AgentSeed, StreamAgent, uint64(v))}
 			r := a.Node(view)
 			e.routers[v] = r
 			e.arr[v], _ = r.(Arrivals)
@@ -380,9 +386,19 @@ func checkTraffic(cfg *Config, N int) error {
 	return nil
 }
 
+// schedule adds an event. The first event scheduled while the current one
+// is handled takes its place at the top of the heap (replaceTop) instead of
+// a pop and a push: the heap holds the same events either way, so the order
+// of events is unchanged.
 func (e *engine) schedule(at Time, kind uint8, a, b int32, c uint32) {
 	e.seq++
-	e.heap.push(event{at: at, seq: e.seq, kind: kind, a: a, b: b, c: c})
+	ev := event{at: at, seq: e.seq, kind: kind, a: a, b: b, c: c}
+	if e.topDone {
+		e.topDone = false
+		e.heap.replaceTop(ev)
+		return
+	}
+	e.heap.push(ev)
 }
 
 func (e *engine) loop(ctx context.Context) error {
@@ -399,7 +415,8 @@ func (e *engine) loop(ctx context.Context) error {
 			default:
 			}
 		}
-		ev := e.heap.pop()
+		ev := e.heap.ev[0] // removed by the first schedule, or below
+		e.topDone = true
 		e.now = ev.at
 		e.res.Events++
 		switch ev.kind {
@@ -427,6 +444,10 @@ func (e *engine) loop(ctx context.Context) error {
 			e.central.Telemetry(s)
 		case evCondition:
 			e.applyCondition(int(ev.a))
+		}
+		if e.topDone {
+			e.topDone = false
+			e.heap.pop()
 		}
 	}
 	e.now = end

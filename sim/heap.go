@@ -65,6 +65,19 @@ func (h *eventHeap) pop() event {
 	if n == 0 {
 		return top
 	}
+	h.down(x)
+	return top
+}
+
+// replaceTop removes the earliest event and adds e, which must not come
+// before it, in one pass down the tree: a pop and a push for the price of a
+// pop.
+func (h *eventHeap) replaceTop(e event) { h.down(e) }
+
+// down places x by moving the hole at the root down the tree.
+func (h *eventHeap) down(x event) {
+	ev := h.ev
+	n := len(ev)
 	i := 0
 	for {
 		c := 4*i + 1
@@ -85,7 +98,6 @@ func (h *eventHeap) pop() event {
 		i = m
 	}
 	ev[i] = x
-	return top
 }
 
 // pktQueue is a growable ring buffer of packet indices.

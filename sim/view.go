@@ -12,6 +12,7 @@ import (
 type NodeView struct {
 	e    *engine
 	node int
+	out  []int // net.Out[node]
 	rng  *rand.Rand
 }
 
@@ -26,13 +27,13 @@ func (v *NodeView) Net() *Net { return v.e.net }
 
 // Out returns this node's outgoing channel IDs in tie-break order. The slice
 // is shared; do not modify it.
-func (v *NodeView) Out() []int { return v.e.net.Out[v.node] }
+func (v *NodeView) Out() []int { return v.out }
 
 // Rand returns this node's own random stream for the agent's use.
 func (v *NodeView) Rand() *rand.Rand { return v.rng }
 
 func (v *NodeView) own(c int) *chanState {
-	if c < 0 || c >= len(v.e.ch) || v.e.net.Channels[c].From != v.node {
+	if from := v.e.chFrom; uint(c) >= uint(len(from)) || int(from[c]) != v.node {
 		panic(fmt.Sprintf("sim: node %d asked about channel %d, which does not leave it", v.node, c))
 	}
 	return &v.e.ch[c]
