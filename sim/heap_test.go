@@ -27,6 +27,35 @@ func TestEventHeapOrder(t *testing.T) {
 	}
 }
 
+// Replacing the top by an event that does not come before it leaves the
+// heap popping exactly what a pop followed by a push leaves.
+func TestEventHeapReplaceTop(t *testing.T) {
+	r := rand.New(rand.NewPCG(3, 4))
+	var a, b eventHeap
+	seq := uint64(0)
+	for i := 0; i < 200; i++ {
+		seq++
+		e := event{at: Time(r.IntN(1000)), seq: seq}
+		a.push(e)
+		b.push(e)
+	}
+	for i := 0; i < 5000; i++ {
+		top := a.ev[0]
+		seq++
+		e := event{at: top.at + Time(r.IntN(50)), seq: seq}
+		a.replaceTop(e)
+		if got := b.pop(); got != top {
+			t.Fatalf("step %d: popped %+v, top was %+v", i, got, top)
+		}
+		b.push(e)
+	}
+	for a.len() > 0 {
+		if x, y := a.pop(), b.pop(); x != y {
+			t.Fatalf("drained %+v and %+v", x, y)
+		}
+	}
+}
+
 // BenchmarkEventHeap measures a push and a pop at a steady heap size.
 func BenchmarkEventHeap(b *testing.B) {
 	for _, size := range []int{64, 1024, 16384} {
