@@ -130,6 +130,12 @@ type Recovery struct {
 	Action    string
 	Lost      int64
 	Recovery  float64 // s after At; NaN when the run never recovered
+	// The exact per-event measures (NaN when the tables predate them or the
+	// value is null): see the README's "Recovery".
+	LostReachable float64
+	Reconnect     float64 // s
+	Settle        float64 // s; NaN when it did not settle
+	DelayRatio    float64
 }
 
 // Data holds the result tables of one experiment folder.
@@ -221,7 +227,7 @@ func Load(dir string) (*Data, error) {
 	}
 	vt, err := readTable(filepath.Join(dir, "recoveries.parquet"),
 		append(slices.Clone(dimCols), "at_s", "element", "action", "recovery_s"),
-		[]string{"lost_packets"})
+		[]string{"lost_packets", "lost_reachable", "reconnect_s", "settle_s", "delay_ratio"})
 	if err != nil && !errors.Is(err, errNoFile) {
 		return nil, err
 	}
@@ -231,6 +237,8 @@ func Load(dir string) (*Data, error) {
 				Cell: cellOf(vt, i), Replicate: int(vt.i("replicate", i)),
 				At: vt.f("at_s", i), Element: vt.s("element", i), Action: vt.s("action", i),
 				Lost: vt.i("lost_packets", i), Recovery: vt.f("recovery_s", i),
+				LostReachable: vt.f("lost_reachable", i), Reconnect: vt.f("reconnect_s", i),
+				Settle: vt.f("settle_s", i), DelayRatio: vt.f("delay_ratio", i),
 			})
 		}
 	}

@@ -100,6 +100,8 @@ func ExampleWrite() {
 	// links.svg
 	// loss.png
 	// loss.svg
+	// resilience.png
+	// resilience.svg
 	// util-time.png
 	// util-time.svg
 }

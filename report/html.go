@@ -56,6 +56,7 @@ td.clear { font-weight: bold; color: var(--accent); }
 {{if .Glance}}<li><a href="#glance">At a glance: the fastest agent in each cell</a></li>
 {{end}}{{range .Charts}}<li><a href="#{{.ID}}">{{.Title}}</a></li>
 {{end}}{{if .Events}}<li><a href="#recovery">Recovery after each failure event</a></li>
+{{end}}{{if .Worst}}<li><a href="#worst">The worst single failures of each agent</a></li>
 {{end}}{{range .Tables}}<li><a href="#{{.ID}}">Table: {{.Title}}</a></li>
 {{end}}</ol></nav>
 {{range .Notes}}<p class="note">{{.}}</p>
@@ -84,6 +85,14 @@ td.clear { font-weight: bold; color: var(--accent); }
 <table class="recovery"><thead><tr><th>agent</th><th>recovery time</th><th>never recovered</th><th>packets lost (mean)</th></tr></thead><tbody>
 {{range .Rows}}<tr><td class="dim">{{.Agent}}</td><td>{{.Recovery}}</td><td>{{.NotRecovered}}</td><td>{{.Lost}}</td></tr>
 {{end}}</tbody></table>
+{{end}}</section>
+{{end}}{{if .Worst}}<section id="worst">
+<h2>The worst single failures of each agent</h2>
+<p class="note">Up to {{.WorstShown}} per agent, worst first: most reachable packets lost, then the longest reconnect time, then the largest delay ratio; each a mean over the replicates in which the failure happened. Reconnect: from the failure to the last drop of a reachable packet it caused (exact). Settle: until delivery time is stable at its new level. Delay ratio: new level over the level before.</p>
+{{range .Worst}}<h3>{{.Agent}}</h3>
+<div class="scroll"><table class="worst" data-table="worst"><thead><tr><th>topology</th><th>schedule</th><th>element</th><th>reachable lost</th><th>reconnect</th><th>settle</th><th>delay ratio</th><th>replicates</th></tr></thead><tbody>
+{{range .Rows}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td class="dim">{{.Element}}</td><td>{{.LostReachable}}</td><td>{{.Reconnect}}</td><td>{{.Settle}}</td><td>{{.DelayRatio}}</td><td>{{.Of}}</td></tr>
+{{end}}</tbody></table></div>
 {{end}}</section>
 {{end}}{{range .Tables}}<section class="table-section">
 <h2 id="{{.ID}}">{{.Title}} ({{.Unit}}), mean ± 95% CI</h2>

@@ -67,13 +67,21 @@ func (o Options) withDefaults(dir string) Options {
 type Report struct {
 	Data   *Data
 	Events []EventPanel // the failure events drawn, with recovery times
+	// Resilience is every agent's outcome of every single failure at the
+	// events' load (see Resilience).
+	Resilience []AgentResilience
 	Glance []GlanceRow  // the fastest agent per cell against the runner-up
 	Notes  []string     // what the page leaves out and why
 
 	charts  []*chart
 	tables  []htmlTable
+	worst   []worstTable
 	options Options
 }
+
+// WorstShown is how many of each agent's worst single failures the page
+// lists.
+const WorstShown = 5
 
 // ChartIDs returns the ids of the charts, in page order: the element id in
 // index.html and the stem of the SVG and PNG files.
@@ -145,6 +153,11 @@ func Build(d *Data, o Options) (*Report, error) {
 				"Delivery time and loss per time bin, aligned on each failure event, mean across the replicates in which the event happened.",
 				eps[i:j], agents))
 			i = j
+		}
+		if res := Resilience(d, load); len(res) > 0 {
+			r.Resilience = res
+			r.charts = append(r.charts, resilienceChart(res, agents, load))
+			r.worst = worstTables(res, WorstShown)
 		}
 	} else {
 		r.Notes = append(r.Notes, "No failure events in this experiment (recoveries.parquet is absent or empty).")
@@ -427,6 +440,8 @@ func (r *Report) HTML(w io.Writer) error {
 		"Charts":     charts,
 		"Tables":     r.tables,
 		"Events":     events,
+		"Worst":      r.worst,
+		"WorstShown": WorstShown,
 		"Notes":      r.Notes,
 		"Glance":     glance,
 		"GlanceUnit": unit,
