@@ -70,8 +70,8 @@ type Report struct {
 	// Resilience is every agent's outcome of every single failure at the
 	// events' load (see Resilience).
 	Resilience []AgentResilience
-	Glance []GlanceRow  // the fastest agent per cell against the runner-up
-	Notes  []string     // what the page leaves out and why
+	Glance     []GlanceRow // the fastest agent per cell against the runner-up
+	Notes      []string    // what the page leaves out and why
 
 	charts  []*chart
 	tables  []htmlTable
