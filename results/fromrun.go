@@ -31,6 +31,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.InFlight = r.InFlight
 	run.DroppedQueueFull = r.Dropped[sim.QueueFull]
 	run.DroppedLinkDown = r.Dropped[sim.LinkDown]
+	run.DroppedLinkLoss = r.Dropped[sim.LinkLoss]
 	run.DroppedNoRoute = r.Dropped[sim.NoRouteDrop]
 	run.DroppedHopLimit = r.Dropped[sim.HopLimit]
 	run.DroppedNodeDown = r.Dropped[sim.NodeDown]
@@ -104,6 +105,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 			Packets:          cr.Packets,
 			DroppedQueueFull: cr.DroppedQueueFull,
 			DroppedLinkDown:  cr.DroppedLinkDown,
+			DroppedLinkLoss:  cr.DroppedLinkLoss,
 			DownS:            cr.Down.Seconds(),
 		}
 	}

@@ -62,6 +62,7 @@ type RunRow struct {
 	DroppedNoRoute   int64 `parquet:"dropped_no_route"`
 	DroppedHopLimit  int64 `parquet:"dropped_hop_limit"`
 	DroppedNodeDown  int64 `parquet:"dropped_node_down"`
+	DroppedLinkLoss  int64 `parquet:"dropped_link_loss"`
 	// DroppedUnreachable counts the dropped packets (any reason, also
 	// counted there) whose destination was down or cut off from them: see
 	// sim.Result.Unreachable.
@@ -135,6 +136,7 @@ type LinkRow struct {
 	Packets          int64   `parquet:"packets"`
 	DroppedQueueFull int64   `parquet:"dropped_queue_full"`
 	DroppedLinkDown  int64   `parquet:"dropped_link_down"`
+	DroppedLinkLoss  int64   `parquet:"dropped_link_loss"`
 	DownS            float64 `parquet:"down_s"`
 }
 

@@ -215,6 +215,7 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "dropped_no_route", Unit: "packets", Label: "dropped, no route", Doc: "measured packets the agent had no channel for"},
 	{Name: "dropped_hop_limit", Unit: "packets", Label: "dropped, hop limit", Doc: "measured packets dropped at the hop limit"},
 	{Name: "dropped_node_down", Unit: "packets", Label: "dropped, node down", Doc: "measured packets lost at or sent to a failed node"},
+	{Name: "dropped_link_loss", Unit: "packets", Label: "dropped, link loss", Doc: "measured packets lost on a channel with a loss probability (link conditions)"},
 	{Name: "dropped_unreachable", Unit: "packets", Label: "dropped, unreachable", Doc: "dropped packets (also counted under their reason) whose destination was down or cut off from them"},
 	{Name: "loss_rate_reachable", Unit: "1", Label: "loss, reachable", Doc: "(dropped − dropped_unreachable) / (generated − dropped_unreachable): the loss routing could have avoided; null if nothing reachable was generated"},
 	{Name: "delivery_p50_s", Unit: "s", Label: "delivery p50", Doc: "median delivery time (histogram, relative error ≤ 0.1%); null if none"},
@@ -265,6 +266,7 @@ var Links = &Table{Name: "links", File: LinksFile, Doc: "one directed channel of
 	{Name: "packets", Unit: "packets", Label: "packets", Doc: "packets transmitted"},
 	{Name: "dropped_queue_full", Unit: "packets", Label: "dropped, queue full", Doc: "packets dropped at its full queue"},
 	{Name: "dropped_link_down", Unit: "packets", Label: "dropped, link down", Doc: "packets lost on it while down"},
+	{Name: "dropped_link_loss", Unit: "packets", Label: "dropped, link loss", Doc: "packets lost on it by its loss probability (link conditions)"},
 	{Name: "down_s", Unit: "s", Label: "down", Doc: "time it spent down"},
 }}
 
