@@ -145,10 +145,8 @@ func (t *Table) Errorf(r Row, format string, args ...any) error {
 // files that give none (nil: none).
 func Read(path string, data []byte, def *Unit) (*Table, error) {
 	switch strings.ToLower(filepath.Ext(path)) {
-	case ".csv":
-		return readCSV(path, data, def)
-	case ".parquet":
-		return readParquet(path, data, def)
+	case ".csv", ".parquet":
+		return readTable(path, data, def)
 	case ".xml":
 		return readXML(path, data, def)
 	}
@@ -304,11 +302,31 @@ func (t *Table) row(c *columns, cells func(i int) field, r Row, def *Unit) error
 	return nil
 }
 
-func readCSV(path string, data []byte, def *Unit) (*Table, error) {
+// rawTable is a CSV or Parquet file's header and cells.
+type rawTable struct {
+	header   []string
+	headerAt func(col int) error // an error at a header cell, by format
+	rows     []rawRow
+}
+
+type rawRow struct {
+	cells []field
+	pos   yamlx.Pos // CSV: where the row starts
+	row   int       // Parquet: 1-based row
+}
+
+// readRaw reads a CSV (by extension) or Parquet file's header and cells.
+func readRaw(path string, data []byte, hint string) (*rawTable, func(col int, format string, args ...any) error, error) {
+	if strings.ToLower(filepath.Ext(path)) == ".parquet" {
+		return readRawParquet(path, data)
+	}
+	return readRawCSV(path, data, hint)
+}
+
+func readRawCSV(path string, data []byte, hint string) (*rawTable, func(col int, format string, args ...any) error, error) {
 	rd := csv.NewReader(bytes.NewReader(bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))))
 	rd.TrimLeadingSpace = true
 	rd.Comment = '#'
-	t := &Table{Path: path}
 	csvErr := func(err error) error {
 		var pe *csv.ParseError
 		if errors.As(err, &pe) {
@@ -318,63 +336,56 @@ func readCSV(path string, data []byte, def *Unit) (*Table, error) {
 	}
 	head, err := rd.Read()
 	if err == io.EOF {
-		return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "empty file: a header row source,target,rate is required")
+		return nil, nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "empty file: a header row %s is required", hint)
 	}
 	if err != nil {
-		return nil, csvErr(err)
+		return nil, nil, csvErr(err)
 	}
 	posOf := func(i int) yamlx.Pos {
 		l, c := rd.FieldPos(i)
 		return yamlx.Pos{Line: l, Col: c}
 	}
-	c, err := findColumns(head, func(col int, format string, args ...any) error {
-		return yamlx.Errorf(path, posOf(col), format, args...)
-	})
-	if err != nil {
-		return nil, err
+	headPos := make([]yamlx.Pos, len(head))
+	for i := range head {
+		headPos[i] = posOf(i)
 	}
-	t.HasT = c.t >= 0
+	at := func(col int, format string, args ...any) error {
+		return yamlx.Errorf(path, headPos[min(col, len(headPos)-1)], format, args...)
+	}
+	t := &rawTable{header: head}
 	for {
 		rec, err := rd.Read()
 		if err == io.EOF {
 			break
 		}
 		if err != nil {
-			return nil, csvErr(err)
+			return nil, nil, csvErr(err)
 		}
-		r := Row{Pos: posOf(0)}
-		cells := func(i int) field { return field{s: rec[i], pos: posOf(i)} }
-		if err := t.row(c, cells, r, def); err != nil {
-			return nil, err
+		r := rawRow{pos: posOf(0), cells: make([]field, len(rec))}
+		for i, s := range rec {
+			r.cells[i] = field{s: s, pos: posOf(i)}
 		}
+		t.rows = append(t.rows, r)
 	}
-	if len(t.Rows) == 0 {
-		return nil, yamlx.Errorf(path, yamlx.Pos{Line: 1, Col: 1}, "no demands: the file has a header and no rows")
-	}
-	return t, nil
+	return t, at, nil
 }
 
-func readParquet(path string, data []byte, def *Unit) (*Table, error) {
-	t := &Table{Path: path}
+func readRawParquet(path string, data []byte) (*rawTable, func(col int, format string, args ...any) error, error) {
 	pf, err := parquet.OpenFile(bytes.NewReader(data), int64(len(data)))
 	if err != nil {
-		return nil, &RowError{File: path, Msg: fmt.Sprintf("not a readable Parquet file: %v", err)}
+		return nil, nil, &RowError{File: path, Msg: fmt.Sprintf("not a readable Parquet file: %v", err)}
 	}
 	fields := pf.Schema().Fields()
-	names := make([]string, len(fields))
+	t := &rawTable{header: make([]string, len(fields))}
 	for i, f := range fields {
-		names[i] = f.Name()
+		t.header[i] = f.Name()
 		if !f.Leaf() {
-			return nil, &RowError{File: path, Msg: fmt.Sprintf("column %q is nested; give flat columns", f.Name())}
+			return nil, nil, &RowError{File: path, Msg: fmt.Sprintf("column %q is nested; give flat columns", f.Name())}
 		}
 	}
-	c, err := findColumns(names, func(col int, format string, args ...any) error {
+	at := func(col int, format string, args ...any) error {
 		return &RowError{File: path, Msg: fmt.Sprintf(format, args...)}
-	})
-	if err != nil {
-		return nil, err
 	}
-	t.HasT = c.t >= 0
 	rd := parquet.NewReader(pf)
 	defer rd.Close()
 	buf := make([]parquet.Row, 256)
@@ -383,41 +394,55 @@ func readParquet(path string, data []byte, def *Unit) (*Table, error) {
 		k, err := rd.ReadRows(buf)
 		for _, row := range buf[:k] {
 			n++
-			vals := make([]parquet.Value, len(fields))
+			r := rawRow{row: n, cells: make([]field, len(fields))}
 			for _, v := range row {
-				if ci := v.Column(); ci >= 0 && ci < len(vals) {
-					vals[ci] = v
+				ci := v.Column()
+				if ci < 0 || ci >= len(fields) {
+					continue
 				}
-			}
-			cells := func(i int) field {
-				v := vals[i]
 				switch v.Kind() {
 				case parquet.ByteArray, parquet.FixedLenByteArray:
-					return field{s: string(v.ByteArray())}
+					r.cells[ci] = field{s: string(v.ByteArray())}
 				case parquet.Double:
-					return field{f: v.Double(), num: true}
+					r.cells[ci] = field{f: v.Double(), num: true}
 				case parquet.Float:
-					return field{f: float64(v.Float()), num: true}
+					r.cells[ci] = field{f: float64(v.Float()), num: true}
 				case parquet.Int32:
-					return field{f: float64(v.Int32()), num: true}
+					r.cells[ci] = field{f: float64(v.Int32()), num: true}
 				case parquet.Int64:
-					return field{f: float64(v.Int64()), num: true}
+					r.cells[ci] = field{f: float64(v.Int64()), num: true}
 				}
-				return field{}
 			}
-			if err := t.row(c, cells, Row{Row: n}, def); err != nil {
-				return nil, err
-			}
+			t.rows = append(t.rows, r)
 		}
 		if err == io.EOF {
 			break
 		}
 		if err != nil {
-			return nil, &RowError{File: path, Row: n + 1, Msg: fmt.Sprintf("cannot read: %v", err)}
+			return nil, nil, &RowError{File: path, Row: n + 1, Msg: fmt.Sprintf("cannot read: %v", err)}
 		}
 	}
-	if len(t.Rows) == 0 {
-		return nil, &RowError{File: path, Msg: "no demands: the file has no rows"}
+	return t, at, nil
+}
+
+func readTable(path string, data []byte, def *Unit) (*Table, error) {
+	raw, at, err := readRaw(path, data, "source,target,rate")
+	if err != nil {
+		return nil, err
+	}
+	c, err := findColumns(raw.header, at)
+	if err != nil {
+		return nil, err
+	}
+	if len(raw.rows) == 0 {
+		return nil, at(0, "no demands: the file has no rows")
+	}
+	t := &Table{Path: path, HasT: c.t >= 0}
+	for _, r := range raw.rows {
+		cells := func(i int) field { return r.cells[i] }
+		if err := t.row(c, cells, Row{Pos: r.pos, Row: r.row}, def); err != nil {
+			return nil, err
+		}
 	}
 	return t, nil
 }

@@ -127,6 +127,9 @@ func (c *checker) experiment() (*Experiment, error) {
 	if err := c.failures(e); err != nil {
 		return nil, err
 	}
+	if err := c.conditions(e); err != nil {
+		return nil, err
+	}
 	cells := 0
 	for _, t := range e.Topologies {
 		cells += e.numLoads() * schedulesOn(e, t.Graph) * len(e.Agents)

@@ -96,6 +96,13 @@
 //	               (mean mttr) for the whole run, drawn from the run's seed
 //	             a mapping needs events, random or both. Event and group names must exist
 //	             in every topology of the file (checked before anything runs)
+//	conditions   optional {file: PATH, bandwidth_scale: F (default 1)}: link conditions
+//	             over time for every run, a CSV or Parquet table of t, a, b and
+//	             bandwidth, delay or loss (package demands): from t on the link a–b
+//	             takes the values given, piecewise constant; loss is an independent
+//	             per-packet loss probability (drop reason link_loss, column
+//	             dropped_link_loss). A row naming a link a topology lacks is an error
+//	             at its row
 //
 // # Grid order and seeds
 //

@@ -58,6 +58,9 @@ type Experiment struct {
 	Loads    []float64
 	Agents   []agents.Params
 	Failures []*Failure
+	// Conditions set links' bandwidth, delay or loss from given times on,
+	// in every run (the conditions: file's rows, in file order).
+	Conditions []Condition
 
 	runsOnce sync.Once
 	runs     []*Run
@@ -84,6 +87,7 @@ type Topology struct {
 	// shapeTotal and shapeHops are the sums of shape and of shape × hop
 	// count over all pairs, for estimates.
 	shapeTotal, shapeHops float64
+	conditions            []sim.LinkCondition // Experiment.Conditions resolved on this topology
 	// periods are the matrices of a replay before scaling, in
 	// Traffic.Periods order; scale then makes the busiest one's busiest
 	// channel saturated at load 1
@@ -126,6 +130,19 @@ type Demand struct {
 	Rate     float64 // packets per second
 	// at reports a problem with the source (target false) or target
 	at func(target bool, format string, args ...any) error
+}
+
+// Condition is one row of the conditions file: from At on, the link A–B
+// takes the parameters given (see sim.LinkCondition).
+type Condition struct {
+	At        sim.Time
+	A, B      string
+	Bandwidth float64 // bit/s, × bandwidth_scale; 0 leaves it
+	Delay     sim.Time
+	SetDelay  bool
+	Loss      float64
+	SetLoss   bool
+	at        func(format string, args ...any) error
 }
 
 // Pair is one explicit source–destination flow.

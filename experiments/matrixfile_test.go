@@ -182,3 +182,38 @@ func TestTopologyFileOptions(t *testing.T) {
 		}
 	}
 }
+
+// A conditions file sets loss 0.1 on Bellcaster–Corlund from the start:
+// of the packets that cross it, the number lost is Binomial(n, 0.1),
+// checked at z = 3.29; and a row naming a link the topology lacks is an
+// error at its row.
+func TestConditionsFile(t *testing.T) {
+	head := "name: lossy\nduration: 60s\nwarmup: 5s\n" + lineTopology +
+		"traffic:\n  matrix: {file: m.csv}\n"
+	exp := writeFiles(t, "e.yaml", head+"conditions: {file: c.csv}\n",
+		"m.csv", "source,target,rate_pps\nArvenport,Dunmere,50\n",
+		"c.csv", "t,a,b,loss\n0,Corlund,Bellcaster,0.1\n")
+	e, err := Load(exp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg, err := e.Runs()[0].Config()
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := sim.Run(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lost := float64(res.Dropped[sim.LinkLoss])
+	n := float64(res.Delivered) + lost
+	if tol := 3.29 * math.Sqrt(n*0.1*0.9); math.Abs(lost-0.1*n) > tol || res.DroppedTotal() != res.Dropped[sim.LinkLoss] {
+		t.Errorf("lost %g of %g (drops %v), want %g ± %.0f, all link_loss", lost, n, res.Dropped, 0.1*n, tol)
+	}
+	exp = writeFiles(t, "e.yaml", head+"conditions: {file: c.csv}\n",
+		"m.csv", "source,target,rate_pps\nArvenport,Dunmere,50\n",
+		"c.csv", "t,a,b,bandwidth\n0,Corlund,Bellcaster,1Mbps\n30,Arvenport,Corlund,2Mbps\n")
+	if _, err := Load(exp); err == nil || !strings.HasSuffix(err.Error(), `c.csv:3:4: topology "line" has no link Arvenport-Corlund`) {
+		t.Errorf("got %v", err)
+	}
+}

@@ -63,6 +63,17 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 	if err := t.prepare(e); err != nil {
 		return c.errf(c.at.traffic, "traffic: topology %q: %v", t.Label, err)
 	}
+	t.conditions = nil
+	for _, cd := range e.Conditions {
+		a, okA := g.NodeIndex(cd.A)
+		b, okB := g.NodeIndex(cd.B)
+		idx, okL := g.LinkIndex(a, b)
+		if !okA || !okB || !okL {
+			return cd.at("topology %q has no link %s-%s", t.Label, cd.A, cd.B)
+		}
+		t.conditions = append(t.conditions, sim.LinkCondition{At: cd.At, Link: idx, Bandwidth: cd.Bandwidth,
+			Delay: cd.Delay, SetDelay: cd.SetDelay, Loss: cd.Loss, SetLoss: cd.SetLoss})
+	}
 	t.failures, t.scheduled = nil, nil
 	names := map[string]bool{}
 	for i, fl := range e.Failures {

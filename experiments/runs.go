@@ -292,10 +292,11 @@ func (r *Run) Config() (*sim.Config, error) {
 			Flows:   e.Traffic.Flows,
 			Phases:  e.Traffic.Phases,
 		},
-		Failures:  r.Failures(),
-		Agent:     agent,
-		Seed:      r.Dims.Seed,
-		AgentSeed: r.AgentSeed,
+		Failures:   r.Failures(),
+		Conditions: t.conditions,
+		Agent:      agent,
+		Seed:       r.Dims.Seed,
+		AgentSeed:  r.AgentSeed,
 	}
 	if k, _ := agents.Lookup(r.Agent.Kind); k.Central {
 		cfg.ControlDelay = r.Agent.ControlDelay

@@ -143,6 +143,30 @@ type fileYAML struct {
 	Traffic     trafficYAML      `yaml:"traffic"`
 	Agents      seq[agentYAML]   `yaml:"agents"`
 	Failures    seq[failureYAML] `yaml:"failures"`
+	Conditions  conditionsYAML   `yaml:"conditions"`
+}
+
+// conditionsYAML is the conditions section: a link-conditions file.
+type conditionsYAML struct {
+	Pos            yamlx.Pos    `yaml:"-"`
+	Set            bool         `yaml:"-"`
+	File           yamlx.String `yaml:"file"`
+	BandwidthScale yamlx.Float  `yaml:"bandwidth_scale"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (c *conditionsYAML) UnmarshalYAML(n ast.Node) error {
+	if _, ok := mappingPairs(n); !ok {
+		return yamlx.At(nodePos(n), "conditions: a mapping {file: PATH}")
+	}
+	type plain conditionsYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*c = conditionsYAML(p)
+	c.Pos, c.Set = nodePos(n), true
+	return nil
 }
 
 // topoYAML is one entry of topologies: a bundled generator's name, a mapping
