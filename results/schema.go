@@ -48,6 +48,11 @@ type Column struct {
 	// Charted columns are drawn against load by the report and tested by
 	// compare (runs.parquet columns only).
 	Charted bool
+	// OneRunCI names the runs.parquet column holding the half-width of a
+	// 95% interval for this column from one run alone (a steady-state
+	// interval by batch means); summary.parquet's <name>_ci95 takes it for
+	// a cell of one replicate instead of leaving it null.
+	OneRunCI string
 	// Label is a short name for table heads and chart axes, without unit.
 	Label string
 	// Doc says what the column holds, in one sentence.
@@ -196,7 +201,7 @@ var CellColumns = DimColumns[:5]
 var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Column{
 	// summarised and charted columns first: their order here is the order
 	// of summary.parquet's columns and of the report's charts
-	{Name: "delivery_mean_s", Unit: "s", Summary: MeanCI95, Charted: true, Label: "delivery mean", Doc: "exact mean delivery time of the measured delivered packets; null if none"},
+	{Name: "delivery_mean_s", Unit: "s", Summary: MeanCI95, Charted: true, OneRunCI: "delivery_mean_s_ci95", Label: "delivery mean", Doc: "exact mean delivery time of the measured delivered packets; null if none"},
 	{Name: "delivery_p95_s", Unit: "s", Summary: MeanCI95, Charted: true, Label: "delivery p95", Doc: "95th percentile of delivery time (histogram, relative error ≤ 0.1%); null if none"},
 	{Name: "loss_rate", Unit: "1", Summary: MeanCI95, Charted: true, Label: "loss", Doc: "dropped / generated over the measured window; null if nothing was generated"},
 	{Name: "throughput_bps", Unit: "bit/s", Summary: MeanCI95, Label: "throughput", Doc: "delivered measured bits over the measured window (duration − warmup)"},
@@ -317,6 +322,9 @@ func init() {
 				doc += "mean over the replicates' non-null values"
 			case "_ci95":
 				doc += "half-width of the mean's 95% Student t confidence interval; null for fewer than two values"
+				if c.OneRunCI != "" {
+					doc += ", but for one replicate the run's own interval (" + c.OneRunCI + ")"
+				}
 			case "_sum":
 				doc += "total over the replicates' non-null values"
 			}

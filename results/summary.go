@@ -61,7 +61,9 @@ func (r *SummaryRow) MeanCI95(name string) (mean, half *float64) {
 // skipped, so a mean counts the runs holding the value; a mean is null
 // when no run holds one and a half-width when fewer than two do (one
 // replicate says nothing about the spread; a null keeps a plot from
-// drawing a spuriously certain band). The mean and half-width are those of
+// drawing a spuriously certain band), except for a column with a one-run
+// interval (Column.OneRunCI) in a cell of one replicate: its half-width
+// is then the run's own steady-state interval. The mean and half-width are those of
 // stats.MeanCI95; a non-finite result is null.
 func Summarize(runs []RunRow) []SummaryRow {
 	index := make(map[CellDims]int)
@@ -96,7 +98,11 @@ func Summarize(runs []RunRow) []SummaryRow {
 			switch c.Summary {
 			case MeanCI95:
 				e := stats.MeanCI95(buf)
-				s.Values = append(s.Values, finite(e.Mean), finite(e.CI95))
+				half := finite(e.CI95)
+				if len(rs) == 1 && len(buf) == 1 && c.OneRunCI != "" {
+					half = oneRunCI(rs[0], c.OneRunCI)
+				}
+				s.Values = append(s.Values, finite(e.Mean), half)
 			case Sum:
 				var sum *float64
 				if len(buf) > 0 {
@@ -111,6 +117,19 @@ func Summarize(runs []RunRow) []SummaryRow {
 		}
 	}
 	return out
+}
+
+// oneRunCI returns the value of r's column name, the half-width of an
+// interval from r alone; nil when null.
+func oneRunCI(r *RunRow, name string) *float64 {
+	c, ok := Runs.Column(name)
+	if !ok {
+		panic("results: no runs column " + name)
+	}
+	if v, ok := c.Float(r); ok {
+		return finite(v)
+	}
+	return nil
 }
 
 // summaryType is the Go struct type that summary.parquet's schema is built

@@ -23,10 +23,20 @@ func TestSummarize(t *testing.T) {
 		cell("a", 1, 1, v(3), 3),
 		cell("a", 2, 0, nil, 5),
 		cell("b", 1, 2, v(4), 30),
+		cell("c", 1, 0, v(7), 1),
 	}
+	// One replicate with its own steady-state interval: the summary takes
+	// it for delivery_mean_s (the column with a one-run interval) only.
+	runs[len(runs)-1].DeliveryMeanSCI95 = v(0.25)
 	got := results.Summarize(runs)
-	if len(got) != 3 {
-		t.Fatalf("got %d cells, want 3", len(got))
+	if len(got) != 4 {
+		t.Fatalf("got %d cells, want 4", len(got))
+	}
+	if dm, dh := got[3].MeanCI95("delivery_mean_s"); *dm != 7 || dh == nil || *dh != 0.25 {
+		t.Errorf("one replicate with a run interval: got %v ± %v, want 7 ± 0.25", dm, dh)
+	}
+	if _, th := got[3].MeanCI95("throughput_bps"); th != nil {
+		t.Errorf("one replicate, throughput: half-width %v, want null", *th)
 	}
 	// first-appearance order: (b,1), (a,1), (a,2)
 	if got[0].Agent != "b" || got[1].Agent != "a" || got[1].Load != 1 || got[2].Load != 2 {

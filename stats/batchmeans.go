@@ -31,8 +31,9 @@ type Interval struct {
 	Size    int     // values per batch, m
 	Dropped int     // values left out at the start (n − k·m)
 	// Lag1 is the lag-1 autocorrelation of the batch means: near zero when
-	// batches are long enough to be nearly independent. A value above about
-	// 0.2 says the interval is likely too narrow (Law & Kelton 2000, §9.5.3).
+	// batches are long enough to be nearly independent. A value above
+	// Lag1Limit says the interval is likely too narrow (Law & Kelton 2000,
+	// §9.5.3).
 	Lag1 float64
 }
 
@@ -107,18 +108,24 @@ func lag1(x []float64, mean float64) float64 {
 	return num / den
 }
 
-// MaxLag1 is the largest lag-1 autocorrelation of batch means that
-// RunInterval accepts before making batches longer (Law & Kelton 2000,
-// §9.5.3, suggest batches long enough that it is near zero; 0.2 is about
-// one standard error of the estimate with 20 batches).
-const MaxLag1 = 0.2
+// Lag1Limit returns the largest lag-1 autocorrelation of k batch means
+// that RunInterval accepts before making batches longer: 1.645/√k, a
+// one-sided 5% test of zero autocorrelation with Bartlett's standard error
+// 1/√k of a sample autocorrelation of independent values (Bartlett, "On
+// the theoretical specification and sampling properties of autocorrelated
+// time-series", J. Royal Statistical Society B 8, 1946; Box & Jenkins, Time
+// Series Analysis, 1970, §2.1.6). Law & Kelton (2000, §9.5.3) ask for
+// batches long enough that the batch means' correlation is near zero; a
+// fixed limit such as 0.2 would refuse a fifth of the intervals of
+// independent batch means at k = 15 by chance alone.
+func Lag1Limit(k int) float64 { return 1.645 / math.Sqrt(float64(k)) }
 
 // RunInterval returns a steady-state confidence interval at the given
 // level for the mean of a run's series, from means, the means of n equal
 // consecutive batches of it (as sim.Batches keeps them): BatchMeans over
 // BatchCount(n) batches, halving the number of batches (doubling their
 // length) while the lag-1 autocorrelation of the batch means exceeds
-// MaxLag1 and at least MinBatches would remain. It returns an error when n
+// Lag1Limit and at least MinBatches would remain. It returns an error when n
 // < MinBatches or the batch means stay correlated at MinBatches batches:
 // then the run is too short for an interval of its own.
 func RunInterval(means []float64, level float64) (Interval, error) {
@@ -131,7 +138,7 @@ func RunInterval(means []float64, level float64) (Interval, error) {
 		if err != nil {
 			return Interval{}, err
 		}
-		if !(iv.Lag1 > MaxLag1) {
+		if !(iv.Lag1 > Lag1Limit(k)) {
 			return iv, nil
 		}
 		if k/2 < MinBatches {

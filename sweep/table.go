@@ -16,8 +16,10 @@ import (
 // for every column summary.parquet summarises with a mean (results.Summarized,
 // results.MeanCI95), the mean ± 95% confidence half-width (Student t) in
 // display units (DisplayUnit), rounded as stats.PlusMinus does. A
-// half-width is left out when there is a single replicate; a statistic
-// with no value prints as stats.None.
+// half-width is left out when there is a single replicate, except for a
+// column with a one-run interval (results.Column.OneRunCI: the mean
+// delivery time's batch-means interval); a statistic with no value prints
+// as stats.None.
 func WriteSummary(w io.Writer, rows []results.SummaryRow) error {
 	var cols []*results.Column
 	for _, c := range results.Summarized() {

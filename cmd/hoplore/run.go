@@ -166,4 +166,26 @@ func printOutcome(w io.Writer, name string, oc *sweep.Outcome) {
 	}
 	fmt.Fprintf(w, "results: %s\n\n", oc.Out)
 	sweep.WriteSummary(w, oc.Summary)
+	writeShortWarmups(w, oc.Out)
+}
+
+// writeShortWarmups warns, after the summary, about the cells whose warm-up
+// is shorter than the initial transient detected in their runs in dir.
+func writeShortWarmups(w io.Writer, dir string) {
+	rows, err := results.ReadRuns(filepath.Join(dir, results.RunsFile))
+	if err != nil {
+		return
+	}
+	short := results.ShortWarmups(rows)
+	if len(short) == 0 {
+		return
+	}
+	fmt.Fprintf(w, "\nwarning: warm-up too short for %s (MSER-5 over each run's binned delivery times; `hoplore report` draws the learning curves):\n", checkPlural(len(short), "cell"))
+	for i, s := range short {
+		if i == 5 {
+			fmt.Fprintf(w, "  … and %d more\n", len(short)-i)
+			break
+		}
+		fmt.Fprintf(w, "  %s\n", s)
+	}
 }
