@@ -49,6 +49,10 @@ type Params struct {
 	// once per GiveUpAfter; 0 (the default) forwards every packet, the
 	// published behaviour.
 	GiveUpAfter sim.Time
+	// Learning (q-routing, q-network): "on" (the default) or "frozen": the
+	// tables or parameters never change during the run (no feedback, no
+	// consensus, no reset of a returning channel's column); see StartFrom.
+	Learning string
 
 	// central-adaptive, central-q
 	Every        sim.Time // interval between recomputations

@@ -33,6 +33,7 @@ func init() {
 			NewField("target_sync", func(p *Params) *int { return &p.TargetSync }, 200, atLeastOne),
 			consensusField(false),
 			giveUpField(),
+			learningField(),
 		},
 		New: newQNetwork,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -110,6 +111,7 @@ type QNetwork struct {
 	p      Params
 	shared *qnShared
 	nodes  []*qnNode // for tests and inspection only
+	start  *State    // set by StartFrom: the parameters every node starts from
 }
 
 type qnShared struct {
@@ -174,6 +176,10 @@ func (a *QNetwork) Name() string { return a.p.Canonical() }
 // Node builds the router of the node behind v.
 func (a *QNetwork) Node(v *sim.NodeView) sim.Router {
 	r := newQNNode(a.shared, v)
+	if a.start != nil {
+		copy(r.theta, a.start.Params[r.id])
+		copy(r.target, a.start.Target[r.id])
+	}
 	a.nodes = append(a.nodes, r)
 	return r
 }
@@ -227,7 +233,7 @@ func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
 	r.pref = newPrefs(s.n)
 	R := s.p.Replay
 	r.rd, r.rk, r.rq, r.rt = make([]int32, R), make([]int16, R), make([]float64, R), make([]float64, R)
-	if s.p.Consensus != nil {
+	if s.p.Consensus != nil && !s.p.frozen() {
 		r.cons = newConsensusState(s.p.Consensus)
 		r.sent = make([]float64, s.nParam)
 		v.After(s.p.Consensus.Every, tagConsensus)
@@ -401,6 +407,9 @@ func (r *qnNode) value(d int) float64 {
 
 // Arrived returns the Q-routing feedback for the hop just made.
 func (r *qnNode) Arrived(p *sim.Packet, in int) {
+	if r.s.p.frozen() {
+		return // no feedback: nothing learns
+	}
 	qs := (p.LastWait + p.LastTx).Seconds()
 	t := r.value(p.Dst)
 	r.v.Tell(in^1, sim.Message{Type: msgNetFeedback, Dst: p.Dst, Value: qs + t, Aux: p.Aux[1]})
@@ -408,6 +417,9 @@ func (r *qnNode) Arrived(p *sim.Packet, in int) {
 
 // Receive trains on feedback and mixes in neighbours' parameters.
 func (r *qnNode) Receive(m *sim.Message, in int) {
+	if r.s.p.frozen() {
+		return
+	}
 	k := -1
 	for i, c := range r.out {
 		if c == in^1 {

@@ -47,6 +47,7 @@ func init() {
 			exploreField(0),
 			consensusField(true),
 			giveUpField(),
+			learningField(),
 		},
 		New: newQRouting,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -125,6 +126,9 @@ type QRouting struct {
 	// a run that continues another under different traffic.
 	warm      *QRouting
 	warmShift sim.Time
+	// start, when set (StartFrom), is the learned state every node starts
+	// from.
+	start *State
 }
 
 // qrShared is the static, read-only knowledge every node starts with.
@@ -189,6 +193,11 @@ func (a *QRouting) Name() string { return a.p.Canonical() }
 // Node builds the router of the node behind v.
 func (a *QRouting) Node(v *sim.NodeView) sim.Router {
 	r := newQRNode(a.shared, v)
+	if a.start != nil {
+		if err := r.load(a.start); err != nil {
+			panic(err) // StartFrom checked the state against the topology
+		}
+	}
 	if a.warm != nil {
 		r.continueFrom(a.warm.nodes[r.id], a.warmShift)
 	}
@@ -253,7 +262,7 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	for k := range out {
 		r.resetColumn(k)
 	}
-	if s.p.Consensus != nil {
+	if s.p.Consensus != nil && !s.p.frozen() {
 		r.cons = newConsensusState(s.p.Consensus)
 		v.After(s.p.Consensus.Every, tagConsensus)
 	}
@@ -414,6 +423,9 @@ const (
 // Arrived runs at y when a data packet comes in from x: it returns the
 // feedback to x and, for dual, applies the backward update.
 func (r *qrNode) Arrived(p *sim.Packet, in int) {
+	if r.s.p.frozen() {
+		return // no feedback: nothing learns
+	}
 	back := in ^ 1 // this node → previous node
 	d := p.Dst
 	qs := (p.LastWait + p.LastTx).Seconds()
@@ -447,6 +459,9 @@ func (r *qrNode) Arrived(p *sim.Packet, in int) {
 
 // Receive handles feedback and consensus messages from a neighbour.
 func (r *qrNode) Receive(m *sim.Message, in int) {
+	if r.s.p.frozen() {
+		return
+	}
 	k := r.localIndex(in ^ 1)
 	if k < 0 {
 		return
@@ -501,7 +516,7 @@ func (r *qrNode) update(d, k int, target, conf float64) {
 // Detected resets a channel's column when its link comes back; a channel
 // going down is skipped by decisions from now on (NodeView.Up).
 func (r *qrNode) Detected(out int, up bool) {
-	if !up {
+	if !up || r.s.p.frozen() {
 		return
 	}
 	if k := r.localIndex(out); k >= 0 {

@@ -1,0 +1,134 @@
+package agents
+
+import (
+	"fmt"
+
+	"hoplore/sim"
+)
+
+// learningField is the per-node learners' learning: on (the default) or
+// frozen.
+func learningField() Field {
+	return NewField("learning", func(p *Params) *string { return &p.Learning }, "on", oneOf("learning", "on", "frozen"))
+}
+
+// frozen reports whether p's learner keeps its tables as they are.
+func (p *Params) frozen() bool { return p.Learning == "frozen" }
+
+// QEntry is one learned estimate of a tabular learner: at Node, for
+// Destination, via the channel Channel (towards Neighbour), Q = Value
+// seconds. Confidence is the confidence variant's, Best and Rate the
+// predictive variant's best value and recovery rate (0 otherwise).
+type QEntry struct {
+	Node, Destination, Neighbour, Channel int
+	Value, Confidence, Best, Rate         float64
+}
+
+// State is a per-node learner's learned state at the end of a run: what
+// `hoplore run` stores and start_from loads (see the README, "Train on
+// failures, test on others").
+type State struct {
+	Kind    string   // QRoutingKind or QNetworkKind
+	Variant string   // q-routing's variant
+	Q       []QEntry // q-routing: every (node, destination ≠ node, channel) in that order
+	// q-network: Sizes are the layer widths (input, hidden..., 1); Params[v]
+	// and Target[v] node v's online and target parameters, laid out layer
+	// by layer, each layer's weights (row-major, output by input) then its
+	// biases.
+	Sizes          []int
+	Params, Target [][]float64
+}
+
+// ExportState returns the learned state of a per-node learner after its
+// run, and false for any other agent.
+func ExportState(a sim.Agent) (*State, bool) {
+	switch x := a.(type) {
+	case *QRouting:
+		st := &State{Kind: QRoutingKind, Variant: x.p.Variant}
+		for _, r := range x.nodes {
+			for d := 0; d < r.s.n; d++ {
+				if d == r.id {
+					continue
+				}
+				for k, c := range r.out {
+					i := d*r.deg + k
+					e := QEntry{Node: r.id, Destination: d, Neighbour: r.net.Channels[c].To, Channel: c, Value: r.q[i]}
+					switch r.s.variant {
+					case variantConfidence:
+						e.Confidence = r.confidenceOf(d, i)
+					case variantPredictive:
+						e.Best, e.Rate = r.b[i], r.r[i]
+					}
+					st.Q = append(st.Q, e)
+				}
+			}
+		}
+		return st, true
+	case *QNetwork:
+		st := &State{Kind: QNetworkKind, Sizes: append([]int(nil), x.shared.sizes...)}
+		for _, r := range x.nodes {
+			st.Params = append(st.Params, append([]float64(nil), r.theta...))
+			st.Target = append(st.Target, append([]float64(nil), r.target...))
+		}
+		return st, true
+	}
+	return nil, false
+}
+
+// StartFrom makes learner a start its run from st instead of its zero-load
+// or random initial state: tables (q-routing) or parameters (q-network) are
+// copied as each node is built; the predictive variant's clocks restart at
+// 0. It refuses a state of another kind, variant or shape (another
+// topology, other hidden layers).
+func StartFrom(a sim.Agent, st *State) error {
+	switch x := a.(type) {
+	case *QRouting:
+		if st.Kind != QRoutingKind || st.Variant != x.p.Variant {
+			return fmt.Errorf("agents: start state of %s %s, not q-routing %s", st.Kind, st.Variant, x.p.Variant)
+		}
+		for _, e := range st.Q {
+			if e.Node < 0 || e.Node >= x.shared.n || e.Destination < 0 || e.Destination >= x.shared.n || e.Channel < 0 ||
+				e.Channel >= len(x.shared.zl) {
+				return fmt.Errorf("agents: start state entry %+v is outside the topology", e)
+			}
+		}
+		x.start = st
+		return nil
+	case *QNetwork:
+		s := x.shared
+		if st.Kind != QNetworkKind || fmt.Sprint(st.Sizes) != fmt.Sprint(s.sizes) || len(st.Params) != s.n || len(st.Target) != s.n {
+			return fmt.Errorf("agents: start state of %s with layers %v for %d nodes, not q-network with layers %v for %d nodes",
+				st.Kind, st.Sizes, len(st.Params), s.sizes, s.n)
+		}
+		for v := range st.Params {
+			if len(st.Params[v]) != s.nParam || len(st.Target[v]) != s.nParam {
+				return fmt.Errorf("agents: start state of node %d has %d parameters, want %d", v, len(st.Params[v]), s.nParam)
+			}
+		}
+		x.start = st
+		return nil
+	}
+	return fmt.Errorf("agents: %s has no learned state to start from", a.Name())
+}
+
+// load copies this node's entries of st into its tables.
+func (r *qrNode) load(st *State) error {
+	for _, e := range st.Q {
+		if e.Node != r.id {
+			continue
+		}
+		k := r.localIndex(e.Channel)
+		if k < 0 || e.Destination == r.id {
+			return fmt.Errorf("agents: start state names channel %d at node %d, which does not leave it", e.Channel, r.id)
+		}
+		i := e.Destination*r.deg + k
+		r.q[i] = e.Value
+		switch r.s.variant {
+		case variantConfidence:
+			r.c[i], r.stamp[i] = e.Confidence, r.rowN[e.Destination]
+		case variantPredictive:
+			r.b[i], r.r[i], r.u[i] = e.Best, e.Rate, 0
+		}
+	}
+	return nil
+}
