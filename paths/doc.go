@@ -18,7 +18,7 @@
 // a graph, repeated searches allocate nothing. A Search is not safe for
 // concurrent use; give each goroutine its own.
 //
-// Weights are per arc, in any unit, non-negative; math.Inf(1) marks an arc
-// unusable. An optional usable mask (nil: every arc) excludes arcs without
+// Weights are per arc, in any unit, non-negative (a negative weight met by a
+// search panics); math.Inf(1) marks an arc unusable. An optional usable mask (nil: every arc) excludes arcs without
 // touching the weights.
 package paths

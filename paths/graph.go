@@ -6,10 +6,10 @@ import (
 )
 
 // Graph is a directed graph on nodes 0…N−1 with arcs 0…M−1 in compressed
-// sparse row form. Node u's out-arcs are the slots OutStart[u]…OutStart[u+1]
-// of the out arrays, ordered by head node, then by arc index; its in-arcs
-// are likewise ordered by tail node, then arc index. A Graph is immutable
-// and may be shared between goroutines.
+// sparse row form: each node's out-arcs lie side by side in one array
+// (its out-slots 0, 1, …), ordered by head node, then by arc index, and
+// likewise its in-arcs, ordered by tail node, then arc index. A Graph is
+// immutable and may be shared between goroutines.
 type Graph struct {
 	tail, head []int32 // per arc
 

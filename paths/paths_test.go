@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/graph"
@@ -491,7 +492,11 @@ func TestHeapOrder(t *testing.T) {
 		all = append(all, x)
 		h.Push(x.k, x.v)
 		if i%3 == 0 {
+			mk, mv := h.Min()
 			k, v := h.Pop()
+			if mk != k || mv != v {
+				t.Fatalf("Min gave (%g, %d), Pop (%g, %d)", mk, mv, k, v)
+			}
 			got = append(got, kv{k, v})
 		}
 	}
@@ -619,5 +624,32 @@ func TestSearchComponentsMatchGonum(t *testing.T) {
 		if fmt.Sprint(got) != fmt.Sprint(want) {
 			t.Fatalf("rep %d: components %v, gonum %v", rep, got, want)
 		}
+	}
+}
+
+// Programming mistakes panic with a message naming the package.
+func TestPanics(t *testing.T) {
+	g := paths.NewGraph(2, []int{0}, []int{1})
+	var s paths.Search
+	var f paths.FirstHops
+	for _, c := range []struct {
+		name string
+		fn   func()
+	}{
+		{"lengths", func() { paths.NewGraph(2, []int{0, 1}, []int{1}) }},
+		{"node out of range", func() { paths.NewGraph(2, []int{0}, []int{2}) }},
+		{"negative weight From", func() { s.From(g, 0, []float64{-1}, nil) }},
+		{"negative weight To", func() { s.To(g, 1, []float64{-1}, nil) }},
+		{"negative weight FirstHops", func() { f.Compute(g, 0, []float64{-1}, nil) }},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			defer func() {
+				r := recover()
+				if msg, ok := r.(string); !ok || !strings.HasPrefix(msg, "paths: ") {
+					t.Errorf("recovered %v, want a panic starting \"paths: \"", r)
+				}
+			}()
+			c.fn()
+		})
 	}
 }
