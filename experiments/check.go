@@ -7,6 +7,7 @@ import (
 
 	"hoplore/agents"
 	"hoplore/internal/yamlx"
+	"hoplore/optimum"
 	"hoplore/sim"
 )
 
@@ -113,6 +114,19 @@ func (c *checker) experiment() (*Experiment, error) {
 			return nil, c.errf(r.HopLimit.Pos, "hop_limit: must be in 1..65535, got %d", r.HopLimit.V)
 		}
 		e.HopLimit = r.HopLimit.V
+	}
+
+	e.Optimum = Optimum{Compute: true, Epsilon: optimum.DefaultEpsilon}
+	if o := r.Optimum; o.Set {
+		if o.Compute.Set {
+			e.Optimum.Compute = o.Compute.V
+		}
+		if o.Epsilon.Set {
+			if err := optimum.CheckEpsilon(o.Epsilon.V); err != nil {
+				return nil, c.errf(o.Epsilon.Pos, "optimum: epsilon: %v is outside (0, 0.5]", o.Epsilon.V)
+			}
+			e.Optimum.Epsilon = o.Epsilon.V
+		}
 	}
 
 	if err := c.topologies(e); err != nil {

@@ -103,6 +103,10 @@
 //	             per-packet loss probability (drop reason link_loss, column
 //	             dropped_link_loss). A row naming a link a topology lacks is an error
 //	             at its row
+//	optimum      default {epsilon: 0.01, compute: true}: the model optimum of every
+//	             cell's offered matrix (package optimum, the opt_* columns); epsilon in
+//	             (0, 0.5] is the certified relative gap the solvers stop at; compute:
+//	             false leaves the columns null (for topologies too large to solve)
 //
 // # Grid order and seeds
 //

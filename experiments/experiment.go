@@ -61,9 +61,21 @@ type Experiment struct {
 	// Conditions set links' bandwidth, delay or loss from given times on,
 	// in every run (the conditions: file's rows, in file order).
 	Conditions []Condition
+	// Optimum says whether and how precisely the model optimum of every
+	// cell is computed (the opt_* columns).
+	Optimum Optimum
 
 	runsOnce sync.Once
 	runs     []*Run
+}
+
+// Optimum is the optimum section of an experiment file.
+type Optimum struct {
+	// Compute is false when the file turns the model optimum off (its
+	// columns are then null).
+	Compute bool
+	// Epsilon is the relative gap at which the solvers stop, in (0, 0.5].
+	Epsilon float64
 }
 
 // Topology is one topology of the grid, built and compiled once and shared

@@ -78,6 +78,8 @@ func TestBadFiles(t *testing.T) {
 		{"each-until-before-at", "7:34", "failures[0].until: 5s must be after at (5s)"},
 		{"within-km-zero", "9:25", "failures[0].groups.zone.within_km: must be positive, got 0"},
 		{"geo-group-no-coordinates", "11:33", `failures[0].groups.zone.of: node "n3" of topology "ring" has no coordinates`},
+		{"optimum-epsilon", "6:20", "optimum: epsilon: 0.6 is outside (0, 0.5]"},
+		{"optimum-compute", "6:20", `"maybe" is not true or false`},
 	}
 	files, err := filepath.Glob("testdata/bad/*.yaml")
 	if err != nil {
@@ -493,6 +495,7 @@ traffic:
   flows: 4
 hop_limit: 12
 agents: [q-routing]
+optimum: {epsilon: 0.05}
 `
 
 // TestDefaultsAndExtras checks the documented defaults and the optional
@@ -511,6 +514,12 @@ func TestDefaultsAndExtras(t *testing.T) {
 	}
 	if len(e.Failures) != 1 || e.Failures[0].Name != "none" {
 		t.Errorf("failures %v, want [none] by default", e.Failures)
+	}
+	if e.Optimum != (Optimum{Compute: true, Epsilon: 0.05}) {
+		t.Errorf("optimum %+v, want computed at epsilon 0.05", e.Optimum)
+	}
+	if d, _ := Parse("d.yaml", []byte(strings.Replace(features, "optimum: {epsilon: 0.05}\n", "", 1))); d == nil || d.Optimum != (Optimum{Compute: true, Epsilon: 0.01}) {
+		t.Errorf("default optimum section wrong: %+v", d)
 	}
 	if got := []string{e.Topologies[0].Label, e.Topologies[1].Label}; got[0] != "little-ring" || got[1] != "inline-1" {
 		t.Errorf("labels %v, want [little-ring inline-1]", got)

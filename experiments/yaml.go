@@ -144,6 +144,7 @@ type fileYAML struct {
 	Agents      seq[agentYAML]   `yaml:"agents"`
 	Failures    seq[failureYAML] `yaml:"failures"`
 	Conditions  conditionsYAML   `yaml:"conditions"`
+	Optimum     optimumYAML      `yaml:"optimum"`
 }
 
 // conditionsYAML is the conditions section: a link-conditions file.
@@ -166,6 +167,29 @@ func (c *conditionsYAML) UnmarshalYAML(n ast.Node) error {
 	}
 	*c = conditionsYAML(p)
 	c.Pos, c.Set = nodePos(n), true
+	return nil
+}
+
+// optimumYAML is the optimum section: {epsilon, compute}.
+type optimumYAML struct {
+	Pos     yamlx.Pos   `yaml:"-"`
+	Set     bool        `yaml:"-"`
+	Epsilon yamlx.Float `yaml:"epsilon"`
+	Compute boolYAML    `yaml:"compute"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (o *optimumYAML) UnmarshalYAML(n ast.Node) error {
+	if _, ok := mappingPairs(n); !ok {
+		return yamlx.At(nodePos(n), "optimum: a mapping {epsilon: E, compute: true|false}")
+	}
+	type plain optimumYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*o = optimumYAML(p)
+	o.Pos, o.Set = nodePos(n), true
 	return nil
 }
 

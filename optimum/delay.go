@@ -45,12 +45,16 @@ const maxIterations = 20000
 // certifies a lower bound T(f) − g at every iteration; it stops when
 // Mean/Lower − 1 ≤ eps, or after a bounded number of iterations.
 //
-// The routing found stays in the solver (for Splits). Allocation-free once
-// the solver exists.
+// When the last solve was MinMaxUtil at the same eps for the current
+// demand, its routing is the start and it is not solved again. The routing
+// found stays in the solver (for Splits). Allocation-free once the solver
+// exists.
 func (s *Solver) MinDelay(eps float64) (MinDelay, error) {
-	start, err := s.MinMaxUtil(eps)
-	if err != nil {
-		return MinDelay{}, err
+	start, err := s.mm, error(nil)
+	if s.solved != 1 || s.mmEps != eps {
+		if start, err = s.MinMaxUtil(eps); err != nil {
+			return MinDelay{}, err
+		}
 	}
 	res := MinDelay{Start: start, Mean: math.NaN(), Lower: math.NaN(), Gap: math.NaN()}
 	if s.total == 0 {

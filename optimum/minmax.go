@@ -60,7 +60,7 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 	}
 	clear(s.flow)
 	clear(s.tot)
-	s.solved = 1
+	s.solved, s.mm, s.mmEps = 1, MinMax{}, eps
 	if s.total == 0 {
 		return MinMax{}, nil
 	}
@@ -122,6 +122,7 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 	}
 	res.Phases--
 	res.Gap = res.Util/res.Lower - 1
+	s.mm, s.mmEps = res, eps
 	return res, nil
 }
 

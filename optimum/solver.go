@@ -21,6 +21,8 @@ type Solver struct {
 	total      float64 // Σ dem
 	unroutable float64 // demand between nodes with no path, packets/s
 	solved     int     // 0 none, 1 min-max flow held in flow, 2 min-delay flow held in flow
+	mm         MinMax  // the last MinMaxUtil result (solved == 1)
+	mmEps      float64 // and its eps
 
 	// Shortest-path workspace; dist and next alias the search's results.
 	search paths.Search

@@ -95,8 +95,17 @@ type RunRow struct {
 	ControlBytes   int64 `parquet:"control_bytes"`
 	ControlDropped int64 `parquet:"control_dropped"`
 	RouteChanges   int64 `parquet:"route_changes"` // route changes after the warm-up; meaning per agent kind in the README
-	FailureEvents  int   `parquet:"failure_events"`
-	Events         int64 `parquet:"events"`
+	// The model optimum of the cell's offered matrix on the intact
+	// topology (package optimum), the same for every run of the cell; null
+	// when not computed. OptDelayMeanS and OptDelayGap are null when no
+	// routing keeps every channel below saturation.
+	OptUtilMax    *float64 `parquet:"opt_util_max,optional"`
+	OptLoadLimit  *float64 `parquet:"opt_load_limit,optional"`
+	OptDelayMeanS *float64 `parquet:"opt_delay_mean_s,optional"`
+	OptUtilGap    *float64 `parquet:"opt_util_gap,optional"`
+	OptDelayGap   *float64 `parquet:"opt_delay_gap,optional"`
+	FailureEvents int      `parquet:"failure_events"`
+	Events        int64    `parquet:"events"`
 	// WallS is the run's wall-clock time in seconds: the one column that
 	// differs between two executions of the same run. Compare tables with
 	// it masked.

@@ -21,6 +21,10 @@ const (
 	// Sum gives <name>_sum, the total of the replicates' non-null values;
 	// null when there is none.
 	Sum
+	// Same is for a value of the cell, the same in every replicate (the
+	// model optimum): summary.parquet holds it under the column's own name,
+	// from the first replicate that holds one; null when none does.
+	Same
 )
 
 // Suffixes returns the suffixes of the summary.parquet columns that s makes
@@ -31,6 +35,8 @@ func (s Summary) Suffixes() []string {
 		return []string{"_mean", "_ci95"}
 	case Sum:
 		return []string{"_sum"}
+	case Same:
+		return []string{""}
 	}
 	return nil
 }
@@ -238,6 +244,11 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "control_bytes", Unit: "B", Label: "control bytes", Doc: "bytes of the control packets sent"},
 	{Name: "control_dropped", Unit: "packets", Label: "control dropped", Doc: "control packets lost"},
 	{Name: "route_changes", Label: "route changes", Doc: "route changes made at or after the warm-up (what one is depends on the agent kind: README, Results)"},
+	{Name: "opt_util_max", Unit: "1", Summary: Same, Label: "optimum: max utilisation", Doc: "least maximum channel utilisation of any splittable routing of the cell's offered matrix on the intact topology (maximum concurrent flow; README, Model optimum); null when not computed"},
+	{Name: "opt_load_limit", Unit: "1", Summary: Same, Label: "optimum: load limit", Doc: "load / opt_util_max: the highest normalised load of this matrix any routing could carry; null when not computed or the matrix offers nothing"},
+	{Name: "opt_delay_mean_s", Unit: "s", Summary: Same, Label: "optimum: delivery mean", Doc: "least mean delivery time of any splittable routing under the model of M/M/1 channels with propagation; null when no routing keeps every channel below saturation, or not computed"},
+	{Name: "opt_util_gap", Unit: "1", Summary: Same, Label: "optimum: max utilisation gap", Doc: "certified relative gap of opt_util_max: opt_util_max / (its proven lower bound) − 1"},
+	{Name: "opt_delay_gap", Unit: "1", Summary: Same, Label: "optimum: delivery mean gap", Doc: "certified relative gap of opt_delay_mean_s: opt_delay_mean_s / (its proven lower bound) − 1; null with opt_delay_mean_s"},
 	{Name: "failure_events", Label: "failure events", Doc: "failure events in the run"},
 	{Name: "events", Unit: "events", Label: "events", Doc: "simulation events processed"},
 	{Name: "wall_s", Unit: "s", Label: "wall time", Doc: "wall-clock time of the run: the one column that differs between two executions"},
@@ -327,6 +338,8 @@ func init() {
 				}
 			case "_sum":
 				doc += "total over the replicates' non-null values"
+			case "":
+				doc = c.Doc
 			}
 			Summaries.Columns = append(Summaries.Columns, Column{Name: c.Name + suf, Unit: c.Unit, Label: c.Label, Doc: doc, number: true})
 		}

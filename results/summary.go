@@ -14,8 +14,8 @@ import (
 // SummaryRow is one row of summary.parquet: one cell, over its replicates.
 // Values holds the columns that follow replicates, one per entry of
 // Summaries.Columns[1:] and in that order: for each Summarized column of
-// Runs, <name>_mean and <name>_ci95 (MeanCI95) or <name>_sum (Sum). A nil
-// value is null. See Summarize.
+// Runs, <name>_mean and <name>_ci95 (MeanCI95), <name>_sum (Sum) or <name>
+// (Same). A nil value is null. See Summarize.
 type SummaryRow struct {
 	CellDims
 	Replicates int
@@ -113,6 +113,12 @@ func Summarize(runs []RunRow) []SummaryRow {
 					sum = finite(t)
 				}
 				s.Values = append(s.Values, sum)
+			case Same:
+				var v *float64
+				if len(buf) > 0 {
+					v = finite(buf[0])
+				}
+				s.Values = append(s.Values, v)
 			}
 		}
 	}

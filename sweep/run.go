@@ -12,8 +12,14 @@ import (
 
 // ExecuteRun builds run r's configuration, runs it and returns its result
 // tables, with the wall-clock time it took and version in them. It stops
-// soon after ctx is done, returning ctx's error (wrapped).
+// soon after ctx is done, returning ctx's error (wrapped). The model
+// optimum of the run's cell (the opt_* columns) is computed for this run
+// alone; a sweep computes it once per cell.
 func ExecuteRun(ctx context.Context, r *experiments.Run, version string) (*results.RunTables, error) {
+	return executeRun(ctx, r, version, nil)
+}
+
+func executeRun(ctx context.Context, r *experiments.Run, version string, opt *optima) (*results.RunTables, error) {
 	cfg, err := r.Config()
 	if err != nil {
 		return nil, err
@@ -24,5 +30,11 @@ func ExecuteRun(ctx context.Context, r *experiments.Run, version string) (*resul
 		return nil, fmt.Errorf("sweep: run %s: %w", r.Dims.RunID, err)
 	}
 	wall := time.Since(start).Seconds()
-	return results.FromRun(results.Dims(r.Dims), cfg.Net, cfg, res, wall, version), nil
+	t := results.FromRun(results.Dims(r.Dims), cfg.Net, cfg, res, wall, version)
+	o, err := opt.of(r)
+	if err != nil {
+		return nil, err
+	}
+	o.fill(&t.Run)
+	return t, nil
 }

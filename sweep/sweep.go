@@ -76,8 +76,9 @@ type Outcome struct {
 func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Outcome, error) {
 	runs := e.Runs()
 	units := make([]unit[*results.RunTables], len(runs))
+	opt := &optima{}
 	for i, r := range runs {
-		units[i] = &expUnit{r: r, version: opts.Version}
+		units[i] = &expUnit{r: r, version: opts.Version, opt: opt}
 	}
 	meta := results.Meta{Version: opts.Version, Experiment: e.Name, ExperimentHash: e.Hash, Runs: len(runs)}
 	return executeTables(ctx, meta, units, opts)
@@ -156,13 +157,14 @@ func isTerminal(w io.Writer) bool {
 type expUnit struct {
 	r       *experiments.Run
 	version string
+	opt     *optima // the model optimum, once per cell
 }
 
 func (u *expUnit) ID() string    { return u.r.Dims.RunID }
 func (u *expUnit) Cost() float64 { return u.r.EstimateEvents() }
 
 func (u *expUnit) Execute(ctx context.Context) (*results.RunTables, int64, error) {
-	t, err := ExecuteRun(ctx, u.r, u.version)
+	t, err := executeRun(ctx, u.r, u.version, u.opt)
 	if err != nil {
 		return nil, 0, err
 	}
