@@ -145,6 +145,7 @@ func TestExamples(t *testing.T) {
 		{"load-sweep", 2, 4, 1, 7, 3},
 		{"link-failure", 1, 1, 3, 4, 3},
 		{"single-queue", 1, 1, 1, 1, 4},
+		{"measured-day", 1, 2, 1, 2, 2},
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {

@@ -626,5 +626,5 @@ func describeComponents(g *sim.Graph, comps [][]int) string {
 		}
 		parts[i] = "{" + strings.Join(names, " ") + "}"
 	}
-	return fmt.Sprintf("%d components %s", len(comps), strings.Join(parts, ", "))
+	return fmt.Sprintf("%s %s", plural(len(comps), "component"), strings.Join(parts, ", "))
 }
