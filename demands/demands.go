@@ -43,6 +43,7 @@ import (
 
 	"github.com/parquet-go/parquet-go"
 
+	"hoplore/internal/inputerr"
 	"hoplore/internal/yamlx"
 	"hoplore/topologies"
 )
@@ -116,8 +117,8 @@ func (e *RowError) Error() string {
 	return fmt.Sprintf("%s: row %d: %s", e.File, e.Row, e.Msg)
 }
 
-// InputError marks the error as bad input.
-func (e *RowError) InputError() bool { return true }
+// Is marks the error as bad input (inputerr.ErrBadInput).
+func (e *RowError) Is(target error) bool { return target == inputerr.ErrBadInput }
 
 // FieldErrorf returns the input error for the source (target false) or
 // target cell of row r of table t, at the cell when its place is known.

@@ -9,6 +9,7 @@ import (
 
 	"github.com/parquet-go/parquet-go"
 
+	"hoplore/internal/inputerr"
 	"hoplore/internal/yamlx"
 )
 
@@ -87,9 +88,7 @@ func TestReadErrors(t *testing.T) {
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			_, err := Read(c.file, []byte(c.text), nil)
-			var marked interface{ InputError() bool }
-			var ye *yamlx.Error
-			if err == nil || err.Error() != c.want || !errors.As(err, &ye) && !(errors.As(err, &marked) && marked.InputError()) {
+			if err == nil || err.Error() != c.want || !errors.Is(err, inputerr.ErrBadInput) {
 				t.Errorf("got  %v\nwant %s (an input error)", err, c.want)
 			}
 		})

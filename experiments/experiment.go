@@ -13,6 +13,7 @@ import (
 
 	"hoplore/agents"
 	"hoplore/demands"
+	"hoplore/internal/inputerr"
 	"hoplore/internal/yamlx"
 	"hoplore/sim"
 )
@@ -288,8 +289,8 @@ func (e *ReadError) Error() string {
 
 func (e *ReadError) Unwrap() error { return e.Err }
 
-// InputError marks the error as bad input for the command line.
-func (e *ReadError) InputError() bool { return true }
+// Is marks the error as bad input (inputerr.ErrBadInput).
+func (e *ReadError) Is(target error) bool { return target == inputerr.ErrBadInput }
 
 // looksLikeTopology reports whether data is a YAML mapping with top-level
 // nodes and links and no agents: a topology file given where an experiment

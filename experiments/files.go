@@ -11,6 +11,7 @@ import (
 	"sort"
 	"strings"
 
+	"hoplore/internal/inputerr"
 	"hoplore/internal/yamlx"
 	"hoplore/sim"
 	"hoplore/topologies"
@@ -198,5 +199,5 @@ func (e *NotFoundError) Error() string {
 	return fmt.Sprintf("experiments: %q is neither a file nor a bundled experiment (bundled: %s)", e.Arg, strings.Join(Bundled(), ", "))
 }
 
-// InputError marks the error as bad input for the command line.
-func (e *NotFoundError) InputError() bool { return true }
+// Is marks the error as bad input (inputerr.ErrBadInput).
+func (e *NotFoundError) Is(target error) bool { return target == inputerr.ErrBadInput }

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"errors"
 	"math"
 	"os"
 	"path/filepath"
@@ -10,6 +11,7 @@ import (
 
 	"github.com/parquet-go/parquet-go"
 
+	"hoplore/internal/inputerr"
 	"hoplore/results"
 )
 
@@ -109,8 +111,7 @@ func TestCompareErrors(t *testing.T) {
 		{"drug-1", "drug-1", "both"},
 	} {
 		_, err := Compare(d, tc.a, tc.b)
-		var ie *InputError
-		if err == nil || !strings.Contains(err.Error(), tc.want) || !asInput(err, &ie) {
+		if err == nil || !strings.Contains(err.Error(), tc.want) || !errors.Is(err, inputerr.ErrBadInput) {
 			t.Errorf("Compare(%q, %q): got %v, want an input error naming %q", tc.a, tc.b, err, tc.want)
 		}
 	}
@@ -119,14 +120,6 @@ func TestCompareErrors(t *testing.T) {
 	if _, err := Compare(d, "drug-3", "drug-1"); err == nil {
 		t.Error("agents without a common cell: no error")
 	}
-}
-
-func asInput(err error, target **InputError) bool {
-	ie, ok := err.(*InputError)
-	if ok {
-		*target = ie
-	}
-	return ok
 }
 
 func TestWriteComparisonsRoundTrip(t *testing.T) {
@@ -248,16 +241,15 @@ func TestGlance(t *testing.T) {
 // any numeric runs.parquet column can be compared.
 func TestCompareMetricNames(t *testing.T) {
 	d := sleepData()
-	var ie *InputError
 	for _, name := range []string{"delivery_mean", "version"} {
 		_, err := Compare(d, "drug-2", "drug-1", name)
-		if err == nil || !asInput(err, &ie) || !strings.Contains(err.Error(), "known: ") || !strings.Contains(err.Error(), "delivery_mean_s") {
+		if err == nil || !errors.Is(err, inputerr.ErrBadInput) || !strings.Contains(err.Error(), "known: ") || !strings.Contains(err.Error(), "delivery_mean_s") {
 			t.Errorf("metric %q: got %v, want an input error listing the known metrics", name, err)
 		}
-		if _, err := LoadCurves(d, name); err == nil || !asInput(err, &ie) {
+		if _, err := LoadCurves(d, name); err == nil || !errors.Is(err, inputerr.ErrBadInput) {
 			t.Errorf("LoadCurves(%q): got %v, want an input error", name, err)
 		}
-		if _, err := CellTable(d, name); err == nil || !asInput(err, &ie) {
+		if _, err := CellTable(d, name); err == nil || !errors.Is(err, inputerr.ErrBadInput) {
 			t.Errorf("CellTable(%q): got %v, want an input error", name, err)
 		}
 	}

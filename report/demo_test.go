@@ -1,12 +1,15 @@
 package report
 
 import (
+	"errors"
 	"flag"
 	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
+
+	"hoplore/internal/inputerr"
 )
 
 var demoOut = flag.String("out", "", "TestWriteDemoReport: write the synthetic result tables and their report into this folder")
@@ -89,8 +92,7 @@ func TestBuildRefusesOptionsNamingNothing(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			_, err := Build(d, tc.o)
-			var ie *InputError
-			if err == nil || !strings.Contains(err.Error(), tc.want) || !asInput(err, &ie) {
+			if err == nil || !strings.Contains(err.Error(), tc.want) || !errors.Is(err, inputerr.ErrBadInput) {
 				t.Errorf("got %v, want an input error naming %q", err, tc.want)
 			}
 		})

@@ -9,6 +9,8 @@ import (
 	"os"
 
 	"github.com/parquet-go/parquet-go"
+
+	"hoplore/internal/inputerr"
 )
 
 // table is a Parquet file read column by column, by name, with every
@@ -40,7 +42,7 @@ func readTable(path string, required, optional []string) (*table, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
-			return nil, &InputError{fmt.Errorf("report: %s: %w", path, errNoFile)}
+			return nil, inputErr("report: %s: %w", path, errNoFile)
 		}
 		return nil, fmt.Errorf("report: %w", err)
 	}
@@ -202,17 +204,6 @@ func (t *table) s(name string, i int) string {
 	return fmt.Sprint(c.num[i])
 }
 
-// InputError marks an error caused by the user's input (a folder without
-// results, an unknown agent label, an option naming nothing): the command
-// line maps it to exit status 2.
-type InputError struct{ Err error }
-
-func (e *InputError) Error() string { return e.Err.Error() }
-func (e *InputError) Unwrap() error { return e.Err }
-
-// InputError reports true.
-func (e *InputError) InputError() bool { return true }
-
 func inputErr(format string, args ...any) error {
-	return &InputError{fmt.Errorf(format, args...)}
+	return inputerr.Errorf(format, args...)
 }

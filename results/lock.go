@@ -10,6 +10,8 @@ import (
 	"strings"
 	"syscall"
 	"time"
+
+	"hoplore/internal/inputerr"
 )
 
 // LockFile is the lock file of a result folder: whoever writes to the folder
@@ -42,9 +44,9 @@ func (e *LockedError) Error() string {
 		e.Dir, h.Command, h.PID, h.Host, h.Since.Local().Format("2006-01-02 15:04:05"))
 }
 
-// InputError marks a refused lock as a usage problem (exit status 2): the
-// folder is in use, nothing went wrong in this process.
-func (e *LockedError) InputError() bool { return true }
+// Is marks a refused lock as bad input (inputerr.ErrBadInput): the folder
+// is in use, nothing went wrong in this process.
+func (e *LockedError) Is(target error) bool { return target == inputerr.ErrBadInput }
 
 // Lock is an exclusive lock on a result folder; Unlock releases it.
 type Lock struct {

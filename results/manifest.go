@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 
 	"hoplore/internal/atomicfile"
+	"hoplore/internal/inputerr"
 )
 
 // ManifestFile lists, in a result folder, the tables of its last complete
@@ -55,9 +56,11 @@ var ErrTables = errors.New("tables not usable")
 // counts as bad input (exit status 2).
 type TablesError struct{ msg string }
 
-func (e *TablesError) Error() string    { return e.msg }
-func (e *TablesError) Unwrap() error    { return ErrTables }
-func (e *TablesError) InputError() bool { return true }
+func (e *TablesError) Error() string { return e.msg }
+func (e *TablesError) Unwrap() error { return ErrTables }
+
+// Is marks the refusal as bad input (inputerr.ErrBadInput).
+func (e *TablesError) Is(target error) bool { return target == inputerr.ErrBadInput }
 
 func tablesErrorf(format string, a ...any) error {
 	return &TablesError{msg: fmt.Sprintf(format, a...)}

@@ -8,11 +8,12 @@ import (
 	"os"
 	"os/signal"
 	"runtime/debug"
+	"strings"
 	"syscall"
 
 	"github.com/spf13/cobra"
 
-	"hoplore/internal/yamlx"
+	"hoplore/internal/inputerr"
 )
 
 // deps is what commands need from the outside world; tests replace it.
@@ -34,28 +35,8 @@ func toolVersion() string {
 	return "0.1.0-devel"
 }
 
-// inputError marks an error caused by bad input (exit status 2).
-type inputError struct{ err error }
-
-func (e *inputError) Error() string { return e.err.Error() }
-func (e *inputError) Unwrap() error { return e.err }
-
-// badInput wraps err as bad input.
-func badInput(err error) error {
-	if err == nil {
-		return nil
-	}
-	return &inputError{err}
-}
-
-// isInput reports whether err was caused by bad input: a file position
-// error, or anything marked with badInput or an InputError method.
-func isInput(err error) bool {
-	var ie *inputError
-	var ye *yamlx.Error
-	var marked interface{ InputError() bool }
-	return errors.As(err, &ie) || errors.As(err, &ye) || (errors.As(err, &marked) && marked.InputError())
-}
+// badInput marks err as bad input (exit status 2); nil stays nil.
+func badInput(err error) error { return inputerr.Wrap(err) }
 
 func newRootCmd(d *deps) *cobra.Command {
 	root := &cobra.Command{
@@ -66,8 +47,24 @@ func newRootCmd(d *deps) *cobra.Command {
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}
+	// hoplore alone prints its help; a word that names no command is bad
+	// input, with cobra's suggestions
+	root.RunE = func(cmd *cobra.Command, _ []string) error { return cmd.Help() }
+	root.SuggestionsMinimumDistance = 2
+	root.Args = func(cmd *cobra.Command, args []string) error {
+		if len(args) == 0 {
+			return nil
+		}
+		msg := fmt.Sprintf("unknown command %q for %q", args[0], cmd.CommandPath())
+		if s := cmd.SuggestionsFor(args[0]); len(s) > 0 {
+			msg += "; did you mean " + strings.Join(s, " or ") + "?"
+		}
+		return inputerr.Errorf("%s", msg)
+	}
 	root.SetOut(d.stdout)
 	root.SetErr(d.stderr)
+	// flag errors (unknown flag, bad value, missing value) are bad input
+	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return inputerr.Wrap(err) })
 	root.AddCommand(
 		newRunCmd(d),
 		newCheckCmd(d),
@@ -78,7 +75,44 @@ func newRootCmd(d *deps) *cobra.Command {
 		newReportCmd(d),
 		newCompareCmd(d),
 	)
+	// the commands cobra adds itself (help, completion) get the same marking
+	root.InitDefaultHelpCmd()
+	root.InitDefaultCompletionCmd()
+	markInputErrors(root)
 	return root
+}
+
+// markInputErrors marks as bad input, in c and every command below it, the
+// errors of the argument validators and of the checks of required and
+// grouped flags (cobra returns them unmarked): the validators are wrapped,
+// and the flag checks run first in PreRunE, so that cobra's own later
+// call finds nothing wrong.
+func markInputErrors(c *cobra.Command) {
+	if v := c.Args; v != nil {
+		c.Args = func(cmd *cobra.Command, args []string) error { return inputerr.Wrap(v(cmd, args)) }
+	}
+	if c.Runnable() {
+		pre, preE := c.PreRun, c.PreRunE
+		c.PreRun = nil
+		c.PreRunE = func(cmd *cobra.Command, args []string) error {
+			if err := cmd.ValidateRequiredFlags(); err != nil {
+				return inputerr.Wrap(err)
+			}
+			if err := cmd.ValidateFlagGroups(); err != nil {
+				return inputerr.Wrap(err)
+			}
+			switch {
+			case preE != nil:
+				return preE(cmd, args)
+			case pre != nil:
+				pre(cmd, args)
+			}
+			return nil
+		}
+	}
+	for _, sub := range c.Commands() {
+		markInputErrors(sub)
+	}
 }
 
 // run executes the command line args and returns the exit status: 0 on
@@ -94,32 +128,8 @@ func run(args []string, d *deps) int {
 		return 0
 	}
 	fmt.Fprintln(d.stderr, "hoplore:", err)
-	if isInput(err) || isUsage(err) {
+	if errors.Is(err, inputerr.ErrBadInput) {
 		return 2
 	}
 	return 1
-}
-
-// isUsage reports errors cobra raises for bad flags or arguments.
-func isUsage(err error) bool {
-	var ue interface{ UsageError() bool }
-	if errors.As(err, &ue) {
-		return ue.UsageError()
-	}
-	s := err.Error()
-	for _, p := range []string{"unknown command", "unknown flag", "unknown shorthand flag", "accepts ", "requires at least", "invalid argument", "flag needs an argument", "required flag"} {
-		if len(s) >= len(p) && containsWord(s, p) {
-			return true
-		}
-	}
-	return false
-}
-
-func containsWord(s, sub string) bool {
-	for i := 0; i+len(sub) <= len(s); i++ {
-		if s[i:i+len(sub)] == sub {
-			return true
-		}
-	}
-	return false
 }

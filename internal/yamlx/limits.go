@@ -7,6 +7,8 @@ import (
 	"io"
 	"os"
 	"syscall"
+
+	"hoplore/internal/inputerr"
 )
 
 // Limits on what an input file may make hoplore do before any check of its
@@ -29,8 +31,8 @@ var bom = []byte{0xEF, 0xBB, 0xBF}
 
 // ReadFile reads an input file: it must be a regular file (not a folder,
 // device or FIFO: opening never blocks) of at most MaxFileBytes. A leading
-// UTF-8 byte order mark is dropped. Errors name the file and implement
-// InputError (exit status 2).
+// UTF-8 byte order mark is dropped. Errors name the file and are bad input
+// (inputerr.ErrBadInput).
 func ReadFile(path string) ([]byte, error) {
 	f, err := os.OpenFile(path, os.O_RDONLY|syscall.O_NONBLOCK, 0)
 	if err != nil {
@@ -75,8 +77,8 @@ func (e *FileError) Error() string {
 
 func (e *FileError) Unwrap() error { return e.Err }
 
-// InputError marks the error as bad input (exit status 2).
-func (e *FileError) InputError() bool { return true }
+// Is marks the error as bad input (inputerr.ErrBadInput).
+func (e *FileError) Is(target error) bool { return target == inputerr.ErrBadInput }
 
 // CheckShape refuses YAML nested deeper than MaxDepth (flow brackets or
 // block indentation levels) or with more than MaxAliases alias uses, in one

@@ -7,6 +7,8 @@ import (
 	"strings"
 	"syscall"
 	"testing"
+
+	"hoplore/internal/inputerr"
 )
 
 // Hostile shapes are refused before the YAML library parses them, at the
@@ -80,7 +82,7 @@ func TestReadFileRefuses(t *testing.T) {
 	} {
 		_, err := ReadFile(tc.path)
 		var fe *FileError
-		if !errors.As(err, &fe) || !fe.InputError() || !strings.Contains(err.Error(), tc.want) || !strings.Contains(err.Error(), tc.path) {
+		if !errors.As(err, &fe) || !errors.Is(err, inputerr.ErrBadInput) || !strings.Contains(err.Error(), tc.want) || !strings.Contains(err.Error(), tc.path) {
 			t.Errorf("%s: got %v, want a *FileError naming the file and %q", tc.path, err, tc.want)
 		}
 	}

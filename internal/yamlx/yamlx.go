@@ -16,6 +16,8 @@ import (
 
 	"github.com/goccy/go-yaml"
 	"github.com/goccy/go-yaml/ast"
+
+	"hoplore/internal/inputerr"
 )
 
 // Pos is a position in a YAML file (1-based line and column; zero when unknown).
@@ -58,6 +60,9 @@ func (e *Error) Error() string {
 	}
 	return fmt.Sprintf("%s:%d:%d: %s", e.File, line, col, e.Msg)
 }
+
+// Is marks the error as bad input (inputerr.ErrBadInput).
+func (e *Error) Is(target error) bool { return target == inputerr.ErrBadInput }
 
 // Errorf returns an *Error at pos in file.
 func Errorf(file string, pos Pos, format string, args ...any) error {
