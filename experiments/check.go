@@ -18,7 +18,6 @@ type checker struct {
 	file  string
 	files fileSource
 	raw   *fileYAML
-	extra [][]byte // bytes of referenced topology files, for the hash
 	names []string // their paths as written
 	at    where
 }

@@ -58,7 +58,6 @@ func (c *checker) matrixFile(e *Experiment) error {
 		if err != nil {
 			return nil, c.errf(name.Pos, "%s: cannot read %q: %v", field, name.S, unwrapPathErr(err))
 		}
-		c.extra = append(c.extra, data)
 		tb, err := demands.Read(p, data, def)
 		if err != nil {
 			return nil, err

@@ -103,7 +103,6 @@ func (c *checker) topology(i int, t *topoYAML) (*sim.Graph, string, error) {
 		if err != nil {
 			return nil, "", c.errf(t.File.Pos, "topologies[%d]: file: cannot read %q: %v", i, t.File.S, unwrapPathErr(err))
 		}
-		c.extra = append(c.extra, data)
 		c.names = append(c.names, t.File.S)
 		o := topologies.ReadOptions{Keep: t.Keep.S, BandwidthScale: t.BandwidthScale.V, CapacityUnit: t.CapacityUnit.S}
 		if t.BandwidthScale.Set && !(t.BandwidthScale.V > 0) {

@@ -1,9 +1,6 @@
 package experiments
 
 import (
-	"crypto/sha256"
-	"encoding/binary"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"path/filepath"
@@ -39,9 +36,11 @@ type Experiment struct {
 	Name        string
 	Description string
 	Path        string // the file as named to Parse
-	// Hash is the hex SHA-256 of the file's bytes followed by the bytes of
-	// every topology file it references, in order: two experiments with the
-	// same Hash describe the same runs.
+	// Hash is the hex SHA-256 of the parsed experiment's canonical form:
+	// everything that decides its runs, including the contents of the
+	// topology and matrix files it reads, and nothing else (comments,
+	// formatting, key order and the description do not count). Two
+	// experiments with the same Hash describe the same runs.
 	Hash string
 	// TopologyFiles are the topology files the experiment references, as
 	// written in it (relative to its directory unless absolute).
@@ -265,14 +264,7 @@ func parse(path string, data []byte, files fileSource) (e *Experiment, err error
 		}
 		return nil, yamlx.Convert(path, err)
 	}
-	h := sha256.New()
-	for _, b := range append([][]byte{data}, c.extra...) {
-		var n [8]byte
-		binary.BigEndian.PutUint64(n[:], uint64(len(b)))
-		h.Write(n[:])
-		h.Write(b)
-	}
-	e.Hash = hex.EncodeToString(h.Sum(nil))
+	e.Hash = canonicalHash(e)
 	e.Path = path
 	return e, nil
 }
