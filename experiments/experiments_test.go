@@ -70,7 +70,7 @@ func TestBadFiles(t *testing.T) {
 		{"huge-ring", "3:20", "topologies[1]: 100000 nodes; at most 8000"},
 		{"too-many-replicates", "3:13", "replicates: at most 100000 (runs in all), got 10000000"},
 		{"too-many-runs", "3:13", "replicates: 6 cells (topologies × loads × failure schedules × agents) × 20000 replicates = 120000 runs; at most 100000"},
-		{"tiny-bin", "3:6", "bin: 1ns makes 100000000000 bins of a 1m40s run; at most 100000"},
+		{"tiny-bin", "3:6", "bin: 1ns makes 100000000000 bins of a 1m40s run; at most 10000000"},
 		{"failure-storm", "8:13", "failures[0].random: about 8e+11 failure events per run"},
 		{"huge-q-network", "5:25", `agents[1]: on topology "ring(nodes=2000)" its tables would take about 36.9 GB; at most 8 GB`},
 		{"bad-topology-file", "testdata/topofiles/broken-topology.yaml:4:15", `unknown node "c"`},

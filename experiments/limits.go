@@ -15,8 +15,9 @@ const (
 	// MaxRuns bounds the grid: topologies × loads × failure schedules ×
 	// agents × replicates.
 	MaxRuns = 100_000
-	// MaxBins bounds the time-series bins of one run (duration / bin).
-	MaxBins = 100_000
+	// MaxBins bounds the time-series bins of one run (duration / bin);
+	// below it the memory guard weighs what the bins cost.
+	MaxBins = 10_000_000
 	// MaxFailureEvents bounds the expected random failure events of one run
 	// (2 × elements × duration / (mtbf + mttr)).
 	MaxFailureEvents = 10_000_000

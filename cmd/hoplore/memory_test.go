@@ -42,7 +42,8 @@ failures: [` + failure + `]
 	}{
 		{"10us bins", []string{"check", write("fine-bins", "10us", "none"), "--memory-limit", "2GB"}, 2, "driven by bin: 10µs (1e+07 bins per run)"},
 		{"1ns bins", []string{"check", write("finest-bins", "1ns", "none"), "--memory-limit", "16GB"}, 2, "bin: 1ns"},
-		{"1ns mtbf", []string{"check", write("flapping", "1s", "{name: flap, random: {scope: links, mtbf: 1ns, mttr: 1ns}}"), "--memory-limit", "16GB"}, 2, "driven by failures flap: mtbf 1ns"},
+		{"1ns mtbf", []string{"check", write("flapping", "1s", "{name: flap, random: {scope: links, mtbf: 1ns, mttr: 1ns}}"), "--memory-limit", "16GB"}, 2, "failures[0].random: about 6e+11 failure events per run"},
+		{"100us mtbf", []string{"check", write("flapping2", "1s", "{name: flap, random: {scope: links, mtbf: 100us, mttr: 100us}}"), "--memory-limit", "2GB"}, 2, "driven by failures flap: mtbf 100µs"},
 		{"run refused too", []string{"run", write("fine-bins-run", "10us", "none"), "--memory-limit", "2GB", "--out", filepath.Join(dir, "out")}, 2, "estimated peak memory"},
 		{"small budget", []string{"check", tiny, "--memory-limit", "10MB"}, 2, "the process itself"},
 		{"budget lifted", []string{"check", write("fine-bins2", "10us", "none"), "--memory-limit", "none"}, 0, "memory"},
