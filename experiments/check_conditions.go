@@ -28,7 +28,6 @@ func (c *checker) conditions(e *Experiment) error {
 	if err != nil {
 		return c.errf(r.File.Pos, "conditions.file: cannot read %q: %v", r.File.S, unwrapPathErr(err))
 	}
-	c.extra = append(c.extra, data)
 	tab, err := demands.ReadConditions(p, data)
 	if err != nil {
 		return err

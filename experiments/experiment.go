@@ -33,18 +33,19 @@ const (
 
 // Experiment is a parsed and checked experiment file.
 type Experiment struct {
-	Name        string
-	Description string
-	Path        string // the file as named to Parse
+	Name string
+	// Fields tagged hash:"-" do not decide runs and are left out of Hash.
+	Description string `hash:"-"`
+	Path        string `hash:"-"` // the file as named to Parse
 	// Hash is the hex SHA-256 of the parsed experiment's canonical form:
 	// everything that decides its runs, including the contents of the
 	// topology and matrix files it reads, and nothing else (comments,
 	// formatting, key order and the description do not count). Two
 	// experiments with the same Hash describe the same runs.
-	Hash string
+	Hash string `hash:"-"`
 	// TopologyFiles are the topology files the experiment references, as
 	// written in it (relative to its directory unless absolute).
-	TopologyFiles []string
+	TopologyFiles []string `hash:"-"`
 
 	Duration, Warmup, Bin sim.Time
 	Replicates            int
@@ -83,7 +84,7 @@ type Optimum struct {
 type Topology struct {
 	Label string // the topology column's value
 	Graph *sim.Graph
-	Net   *sim.Net
+	Net   *sim.Net `hash:"-"` // compiled from Graph
 
 	// failures are the experiment's failure schedules on this topology, a
 	// family (Failure.Each) expanded into one schedule per element, and

@@ -14,36 +14,18 @@ import (
 // does, so that a hash never means two things.
 const hashVersion = "hoplore-experiment-1"
 
-// canonicalHash returns the hex SHA-256 of e's canonical form: everything
-// that decides its runs (name, times, replicates, seed, hop limit, every
-// topology's label and graph, the traffic model with any matrix file's
-// demands, the loads, every agent's kind, label and parameters, every
-// failure schedule), and nothing else: not comments, formatting, the order
-// of keys in a mapping, the description, nor how a topology or matrix file
-// spelled its contents.
+// canonicalHash returns the hex SHA-256 of e's canonical form: every
+// exported field of the checked experiment that decides its runs (name,
+// times, replicates, seed, hop limit, every topology's label and graph, the
+// traffic model with any matrix file's demands, the loads, every agent's
+// parameters, every failure schedule, the conditions), and nothing else:
+// not comments, formatting, the order of keys in a mapping, the description
+// (fields tagged hash:"-"), nor how a topology or matrix file spelled its
+// contents. A field added to Experiment is covered unless tagged.
 func canonicalHash(e *Experiment) string {
-	type topology struct {
-		Label string
-		Graph any
-	}
-	tops := make([]topology, len(e.Topologies))
-	for i, t := range e.Topologies {
-		tops[i] = topology{t.Label, t.Graph}
-	}
-	form := struct {
-		Version               string
-		Name                  string
-		Duration, Warmup, Bin int64
-		Replicates, HopLimit  int
-		Seed                  uint64
-		Topologies            []topology
-		Traffic               Traffic
-		Loads                 []float64
-		Agents, Failures      any
-	}{hashVersion, e.Name, int64(e.Duration), int64(e.Warmup), int64(e.Bin), e.Replicates, e.HopLimit, e.Seed,
-		tops, e.Traffic, e.Loads, e.Agents, e.Failures}
 	h := sha256.New()
-	writeCanonical(h, reflect.ValueOf(form))
+	io.WriteString(h, hashVersion)
+	writeCanonical(h, reflect.ValueOf(e))
 	return hex.EncodeToString(h.Sum(nil))
 }
 
@@ -64,7 +46,7 @@ func writeCanonical(w io.Writer, v reflect.Value) {
 		t := v.Type()
 		io.WriteString(w, "{")
 		for i := range t.NumField() {
-			if !t.Field(i).IsExported() {
+			if f := t.Field(i); !f.IsExported() || f.Tag.Get("hash") == "-" {
 				continue
 			}
 			io.WriteString(w, t.Field(i).Name+":")
