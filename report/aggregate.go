@@ -443,7 +443,9 @@ type GlanceRow struct {
 	Best, Second         string
 	BestMean, SecondMean stats.Estimate // delivery_mean_s, s
 	BestLoss, SecondLoss stats.Estimate // loss_rate
-	Diff                 Comparison     // Best − Second on delivery_mean_s
+	// Diff is Best − Second on delivery_mean_s, its p-values adjusted
+	// (Holm) across the rows of the table.
+	Diff Comparison
 }
 
 // Glance returns a GlanceRow for every panel in which at least two agents
@@ -480,6 +482,16 @@ func Glance(d *Data) []GlanceRow {
 		}
 		g.Diff = cs[0]
 		out = append(out, g)
+	}
+	// one family: every test the table makes (Holm 1979)
+	diffs := make([]Comparison, len(out))
+	for i := range out {
+		diffs[i] = out[i].Diff
+	}
+	adjustHolm(diffs, func(*Comparison) bool { return true })
+	for i := range out {
+		out[i].Diff = diffs[i]
+		out[i].Diff.Verdict = verdict(&out[i].Diff)
 	}
 	return out
 }

@@ -13,6 +13,7 @@ import (
 
 	"hoplore/internal/inputerr"
 	"hoplore/results"
+	"hoplore/stats"
 )
 
 // Drug 1 and drug 2 hours of additional sleep for ten patients, Student
@@ -107,8 +108,9 @@ func TestComparePairsByReplicate(t *testing.T) {
 func TestCompareErrors(t *testing.T) {
 	d := sleepData()
 	for _, tc := range []struct{ a, b, want string }{
-		{"drug-3", "drug-1", `no agent "drug-3"`},
-		{"drug-1", "drug-1", "both"},
+		{"drug-3", "drug-1", `no agent "drug-3" in sleep; its agents are "drug-1", "drug-2"`},
+		{"drug-3", "drug-4", `no agent "drug-3" or "drug-4"`},
+		{"drug-1", "drug-1", `both "drug-1": compare two different agents of sleep ("drug-1", "drug-2")`},
 	} {
 		_, err := Compare(d, tc.a, tc.b)
 		if err == nil || !strings.Contains(err.Error(), tc.want) || !errors.Is(err, inputerr.ErrBadInput) {
@@ -139,7 +141,8 @@ func TestWriteComparisonsRoundTrip(t *testing.T) {
 	}
 	// read back through the column reader (not the typed writer's struct)
 	tb, err := readTable(path, []string{"experiment", "topology", "load", "failure", "agent_a", "agent_b", "metric", "n",
-		"mean_a", "mean_b", "mean_diff", "ci95", "ci95_low", "ci95_high", "t", "df", "p_t", "w_plus", "n_wilcoxon", "p_wilcoxon", "wilcoxon_method"}, nil)
+		"mean_a", "mean_b", "mean_diff", "rel_diff", "ci95", "ci95_low", "ci95_high", "t", "df", "p_t", "p_t_holm", "w_plus", "n_wilcoxon",
+		"p_wilcoxon", "p_wilcoxon_holm", "wilcoxon_method", "note", "verdict"}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -170,6 +173,136 @@ func TestWriteComparisonsRoundTrip(t *testing.T) {
 	}
 }
 
+// compare.parquet never holds NaN: a statistic that does not exist (here:
+// no test from two pairs) is null.
+func TestWriteComparisonsNull(t *testing.T) {
+	d := sleepData()
+	var runs []Run
+	for _, r := range d.Runs {
+		if r.Replicate < 2 {
+			runs = append(runs, r)
+		}
+	}
+	d.Runs = runs
+	rows, err := Compare(d, "drug-2", "drug-1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "compare.parquet")
+	if err := WriteComparisons(path, rows, results.Meta{Experiment: "sleep"}); err != nil {
+		t.Fatal(err)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	st, _ := f.Stat()
+	pf, err := parquet.OpenFile(f, st.Size())
+	if err != nil {
+		t.Fatal(err)
+	}
+	cols := pf.Schema().Columns()
+	name := func(v parquet.Value) string { return strings.Join(cols[v.Column()], ".") }
+	buf := make([]parquet.Row, pf.NumRows())
+	rr := pf.RowGroups()[0].Rows()
+	n, _ := rr.ReadRows(buf)
+	rr.Close()
+	if n != len(rows) {
+		t.Fatalf("read %d rows, want %d", n, len(rows))
+	}
+	for i, row := range buf[:n] {
+		get := map[string]parquet.Value{}
+		for _, v := range row {
+			get[name(v)] = v
+			if v.Kind() == parquet.Double && (math.IsNaN(v.Double()) || math.IsInf(v.Double(), 0)) {
+				t.Errorf("row %d: %s = %v, want null", i, name(v), v.Double())
+			}
+		}
+		if !get["p_t"].IsNull() || !get["ci95"].IsNull() || !get["p_t_holm"].IsNull() ||
+			string(get["note"].ByteArray()) != NoteFewPairs || string(get["verdict"].ByteArray()) != VerdictUntested {
+			t.Errorf("row %d: p_t %v, ci95 %v, p_t_holm %v, note %v, verdict %v; want nulls, %q, %q", i, get["p_t"], get["ci95"], get["p_t_holm"], get["note"], get["verdict"], NoteFewPairs, VerdictUntested)
+		}
+		if get["mean_diff"].IsNull() {
+			t.Errorf("row %d: mean_diff null, want the mean of the two differences", i)
+		}
+	}
+}
+
+// No interval or p-value from fewer than 3 pairs or from differences
+// without spread; the note says why.
+func TestCompareUntested(t *testing.T) {
+	mk := func(a, b []float64) *Data {
+		d := &Data{Dir: "x", Experiment: "x"}
+		for i := range a {
+			d.Runs = append(d.Runs,
+				NewRun(Cell{Topology: "ring", Agent: "a", Load: 1, Failure: "none"}, i, map[string]float64{"delivery_mean_s": a[i]}),
+				NewRun(Cell{Topology: "ring", Agent: "b", Load: 1, Failure: "none"}, i, map[string]float64{"delivery_mean_s": b[i]}))
+		}
+		return d
+	}
+	for _, tc := range []struct {
+		name     string
+		a, b     []float64
+		note     string
+		meanDiff float64
+	}{
+		{"two pairs", []float64{1, 2}, []float64{3, 5}, NoteFewPairs, -2.5},
+		{"identical", []float64{1, 2, 3}, []float64{1, 2, 3}, NoteIdentical, 0},
+		{"constant difference", []float64{1, 2, 3}, []float64{2, 3, 4}, NoteConstant, -1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			rows, err := Compare(mk(tc.a, tc.b), "a", "b", "delivery_mean_s")
+			if err != nil {
+				t.Fatal(err)
+			}
+			c := rows[0]
+			if c.Note != tc.note || c.Verdict != VerdictUntested || c.MeanDiff != tc.meanDiff ||
+				!math.IsNaN(c.PT) || !math.IsNaN(c.CI95) || !math.IsNaN(c.PW) || !math.IsNaN(c.PTHolm) {
+				t.Errorf("got %+v, want note %q, mean difference %v and no test", c, tc.note, tc.meanDiff)
+			}
+		})
+	}
+}
+
+// Holm's adjustment runs across the cells of one comparison, per metric:
+// three cells of the sleep data at different loads, the third with a
+// smaller effect, give p-values whose adjustment is stats.Holm's.
+func TestCompareHolmAcrossCells(t *testing.T) {
+	d := &Data{Dir: "sleep", Experiment: "sleep"}
+	for li, shift := range []float64{0, 0, 1.2} {
+		for i := range sleepDrug1 {
+			load := float64(li + 1)
+			d.Runs = append(d.Runs,
+				NewRun(Cell{Topology: "ward", Agent: "drug-2", Load: load, Failure: "none"}, i, map[string]float64{"delivery_mean_s": sleepDrug2[i] - shift, "loss_rate": sleepDrug2[i]}),
+				NewRun(Cell{Topology: "ward", Agent: "drug-1", Load: load, Failure: "none"}, i, map[string]float64{"delivery_mean_s": sleepDrug1[i], "loss_rate": sleepDrug1[i]}))
+		}
+	}
+	rows, err := Compare(d, "drug-2", "drug-1", "delivery_mean_s", "loss_rate")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range []string{"delivery_mean_s", "loss_rate"} {
+		var pt, pw, gt, gw []float64
+		for _, r := range rows {
+			if r.Metric == m {
+				pt, pw, gt, gw = append(pt, r.PT), append(pw, r.PW), append(gt, r.PTHolm), append(gw, r.PWHolm)
+			}
+		}
+		wt, ww := stats.Holm(pt), stats.Holm(pw)
+		for i := range gt {
+			if gt[i] != wt[i] || gw[i] != ww[i] || gt[i] < pt[i] {
+				t.Errorf("%s cell %d: adjusted %v, %v; want %v, %v (raw %v, %v)", m, i, gt[i], gw[i], wt[i], ww[i], pt[i], pw[i])
+			}
+		}
+	}
+	// Student's sleep data: raw p = 0.0028 in cells 1 and 2, adjusted 3·0.0028;
+	// verdicts follow the adjusted value
+	if r := rows[0]; math.Abs(r.PTHolm-3*r.PT) > 1e-12 || r.Verdict != VerdictHigher || math.Abs(r.RelDiff-1.58/0.75) > 1e-12 {
+		t.Errorf("cell 1: got p %v, adjusted %v, verdict %q, relative %v; want adjusted 3p, %q, 1.58/0.75", r.PT, r.PTHolm, r.Verdict, r.RelDiff, VerdictHigher)
+	}
+}
+
 func TestCompareFlagsUnpairedSeeds(t *testing.T) {
 	d := sleepData()
 	for i := range d.Runs {
@@ -194,6 +327,20 @@ func TestCompareFlagsUnpairedSeeds(t *testing.T) {
 	}
 }
 
+// sameComparison compares field by field, NaN equal to NaN.
+func sameComparison(a, b Comparison) bool {
+	fa, fb := []float64{a.MeanA, a.MeanB, a.MeanDiff, a.RelDiff, a.CI95, a.CI95Low, a.CI95High, a.T, a.DF, a.PT, a.PTHolm, a.WPlus, a.PW, a.PWHolm},
+		[]float64{b.MeanA, b.MeanB, b.MeanDiff, b.RelDiff, b.CI95, b.CI95Low, b.CI95High, b.T, b.DF, b.PT, b.PTHolm, b.WPlus, b.PW, b.PWHolm}
+	for i := range fa {
+		if !(fa[i] == fb[i] || math.IsNaN(fa[i]) && math.IsNaN(fb[i])) {
+			return false
+		}
+	}
+	a.MeanA, a.MeanB, a.MeanDiff, a.RelDiff, a.CI95, a.CI95Low, a.CI95High, a.T, a.DF, a.PT, a.PTHolm, a.WPlus, a.PW, a.PWHolm = 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0
+	b.MeanA, b.MeanB, b.MeanDiff, b.RelDiff, b.CI95, b.CI95Low, b.CI95High, b.T, b.DF, b.PT, b.PTHolm, b.WPlus, b.PW, b.PWHolm = 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0
+	return a == b
+}
+
 func TestGlance(t *testing.T) {
 	d, _ := loadSynthetic(t, demoSpec)
 	rows := Glance(d)
@@ -205,6 +352,11 @@ func TestGlance(t *testing.T) {
 		t.Fatal(err)
 	}
 	agents := d.Agents()
+	var pt []float64
+	for _, g := range rows {
+		pt = append(pt, g.Diff.PT)
+	}
+	holm := stats.Holm(pt) // one family: the table's tests
 	for i, g := range rows {
 		// best and runner-up are the two lowest means of the cell table
 		var means []float64
@@ -226,8 +378,13 @@ func TestGlance(t *testing.T) {
 		for _, c := range all {
 			if c.Metric == "delivery_mean_s" && c.Topology == g.Topology && c.Load == g.Load && c.Failure == g.Failure {
 				found = true
-				if c != g.Diff {
+				// the same test; the adjustment is across the table's rows
+				c.PTHolm, c.PWHolm, c.Verdict = g.Diff.PTHolm, g.Diff.PWHolm, g.Diff.Verdict
+				if !sameComparison(c, g.Diff) {
 					t.Errorf("%+v: glance diff %+v, Compare %+v", g.Panel, g.Diff, c)
+				}
+				if !sameFloat(g.Diff.PTHolm, holm[i]) {
+					t.Errorf("%+v: adjusted p %v, want Holm over the table %v", g.Panel, g.Diff.PTHolm, holm[i])
 				}
 			}
 		}

@@ -48,11 +48,12 @@ func ExampleCompare() {
 	report.PrintComparisons(os.Stdout, rows)
 	// Output:
 	// paired comparison, differences A − B over replicates (A = q-routing, B = shortest-path)
-	//     topology  failure  load              metric  n  mean A  mean B  A − B            95% CI   p (t)  p (Wilcoxon)
-	//   two-region     none   0.8  delivery_mean (ms)  4    11.5    14.5     -3  [-4.299, -1.701]  0.0052        0.1250
-	//   two-region     none   0.8   delivery_p95 (ms)  4      23      29     -6  [-8.598, -3.402]  0.0052        0.1250
-	//   two-region     none   0.8       loss_rate (%)  4       0       0     +0            [0, 0]       –             –
-	// p (Wilcoxon): exact signed-rank distribution; ~ marks the normal approximation
+	//     topology  failure  load              metric  n  mean A  mean B  A − B  (A − B)/B            95% CI   p (t)    Holm  p (Wilcoxon)    Holm                                 verdict
+	//   two-region     none   0.8  delivery mean (ms)  4    11.5    14.5     -3     -20.7%  [-4.299, -1.701]  0.0052  0.0052        0.1250  0.1250                                 A lower
+	//   two-region     none   0.8   delivery p95 (ms)  4      23      29     -6     -20.7%  [-8.598, -3.402]  0.0052  0.0052        0.1250  0.1250                                 A lower
+	//   two-region     none   0.8            loss (%)  4       0       0     +0          –                 –       –       –             –       –  untested: identical in every replicate
+	// Holm: p adjusted by Holm's step-down method (1979) across the cells tested on the same metric; verdicts use it at 0.05.
+	// No interval or p-value from fewer than 3 pairs or from differences without spread. p (Wilcoxon): exact signed-rank distribution; ~ marks the normal approximation.
 }
 
 // Write reads a result folder and writes the page and the chart files.

@@ -367,7 +367,8 @@ func (r *Report) HTML(w io.Writer) error {
 		Topology, Load, Failure        string
 		Best, BestMean, BestLoss       string
 		Second, SecondMean, SecondLoss string
-		Diff, CI, PT, PW, Verdict      string
+		Diff, CI, PT, PTHolm, PW       string
+		Rel, Verdict                   string
 		Clear                          bool
 	}
 	d := r.Data
@@ -382,11 +383,12 @@ func (r *Report) HTML(w io.Writer) error {
 		v := glanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
 			Best: g.Best, BestMean: g.BestMean.Format(scale), BestLoss: g.BestLoss.Format(100),
 			Second: g.Second, SecondMean: g.SecondMean.Format(scale), SecondLoss: g.SecondLoss.Format(100),
-			Diff: stats.PlusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PW: fmtP(c.PW)}
+			Diff: stats.PlusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PTHolm: fmtP(c.PTHolm), PW: fmtP(c.PW),
+			Rel: fmtPercent(c.RelDiff)}
 		switch {
-		case c.N < 2:
-			v.Verdict = "untested"
-		case c.CI95High < 0 && c.PT < 0.05:
+		case c.Note != "":
+			v.Verdict = "untested: " + c.Note
+		case c.CI95High < 0 && c.PTHolm < Alpha:
 			v.Verdict, v.Clear = "faster", true
 		default:
 			v.Verdict = "unclear"

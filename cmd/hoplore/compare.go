@@ -25,8 +25,11 @@ func newCompareCmd(d *deps) *cobra.Command {
 		Long: "compare pairs the runs of agents A and B that share a cell (topology, load, failure schedule) and a\n" +
 			"replicate index, and so the same seeds, and tests the differences A − B of " + strings.Join(report.CompareMetrics, ", ") + "\n" +
 			"(or the runs.parquet columns given with --metric): mean difference with its 95% confidence interval (Student t), the paired\n" +
-			"t test and the Wilcoxon signed-rank test (exact for up to 50 pairs). It prints a table and writes\n" +
-			"DIR/compare.parquet, one row per cell and metric.",
+			"t test and the Wilcoxon signed-rank test (exact for up to 50 pairs), the difference relative to B, and\n" +
+			"both p-values adjusted by Holm's step-down method (1979) across the cells compared on the same metric;\n" +
+			"verdicts use the adjusted t-test p at 0.05. No interval or p-value comes from fewer than 3 pairs or from\n" +
+			"differences without spread (the table says why). It prints a table and writes DIR/compare.parquet, one\n" +
+			"row per cell and metric, with null where a statistic does not exist.",
 		Example: "  hoplore compare results/load-sweep --a q-routing --b shortest-path",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {

@@ -82,7 +82,7 @@ func TestCompareCommand(t *testing.T) {
 	if code := run([]string{"compare", dir, "--a", "q-routing", "--b", "shortest-path"}, d); code != 0 {
 		t.Fatalf("exit %d, stderr %q", code, errb.String())
 	}
-	for _, s := range []string{"A = q-routing, B = shortest-path", "delivery_mean (ms)", "loss_rate (%)", "compare.parquet"} {
+	for _, s := range []string{"A = q-routing, B = shortest-path", "delivery mean (ms)", "loss (%)", "Holm", "compare.parquet"} {
 		if !strings.Contains(out.String(), s) {
 			t.Errorf("output lacks %q:\n%s", s, out.String())
 		}
@@ -92,6 +92,7 @@ func TestCompareCommand(t *testing.T) {
 	}
 	for _, args := range [][]string{
 		{"compare", dir, "--a", "nobody", "--b", "shortest-path", "--out", filepath.Join(dir, "c2.parquet")},
+		{"compare", dir, "--a", "q-routing", "--b", "q-routing", "--out", filepath.Join(dir, "c2.parquet")},
 		{"compare", dir, "--a", "q-routing"},
 	} {
 		d, _, errb := testDeps()
