@@ -186,8 +186,9 @@ func disagreement(th [][]float64) (dev float64, mean []float64) {
 // Metropolis averaging: it preserves the mean and shrinks disagreement per
 // round at the rate ρ(W − 11ᵀ/n) (Xiao & Boyd, "Fast linear iterations for
 // distributed averaging", Systems & Control Letters 53, 2004; weights of
-// Xiao, Boyd & Lall 2005). Reference values from the notes: ring C4 1/3,
-// path P4 0.8047; with weight 0.5 on C4, 1 − 0.5(1 − λ) gives 2/3.
+// Xiao, Boyd & Lall 2005). Reference values, by hand from the two 4×4
+// weight matrices: ring C4 1/3, path P4 0.8047; with weight 0.5 on C4,
+// 1 − 0.5(1 − λ) gives 2/3.
 func TestConsensusMetropolisRate(t *testing.T) {
 	bw := func(int) float64 { return 1e9 }
 	cases := []struct {

@@ -245,8 +245,8 @@ func TestPredictiveRecoversAfterLoadFall(t *testing.T) {
 	}
 }
 
-// TestBoyanLittmanGridShape checks the reconstructed grid against the
-// figures derived in the project's notes (routing-methods.md §1): 50 links;
+// TestBoyanLittmanGridShape checks the reconstructed grid against figures
+// counted by hand from the layout agenttest.BoyanLittmanGrid documents: 50 links;
 // 16 nodes of degree 2, 12 of degree 3, 8 of degree 4; diameter 11; mean
 // shortest-path hop count 4.83 over the 1,260 ordered pairs.
 func TestBoyanLittmanGridShape(t *testing.T) {

@@ -8,7 +8,7 @@ import (
 	"hoplore/topologies"
 )
 
-// Tabular consensus as SPEC §3 defines it blends Q_x(d,y) towards y's best
+// Tabular consensus as the README defines it (Agents) blends Q_x(d,y) towards y's best
 // value, which may be a route back through x: stale low values then pull
 // packets into x→y→x loops (the distance-vector bouncing effect). Split
 // horizon (common practice in distance-vector routing: never advertise a

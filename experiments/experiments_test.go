@@ -336,7 +336,7 @@ func TestConfig(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// Normalised load (SPEC §2): the busiest channel under hop-count
+		// Normalised load (README, The model): the busiest channel under hop-count
 		// shortest path carries load × its bandwidth.
 		got := sim.NormalisedLoad(cfg.Net, cfg.Traffic.Rates, cfg.Traffic.Size.Mean())
 		if math.Abs(got-0.6) > 1e-9 {

@@ -17,7 +17,7 @@ import (
 	"hoplore/results"
 )
 
-// The column names of SPEC §6, in the order they are listed there; the
+// The column names the README's Results section lists, in its order; the
 // tables may hold more.
 var (
 	specDims = []string{"experiment", "topology", "agent", "load", "failure", "replicate", "seed", "run_id"}
@@ -45,7 +45,7 @@ var (
 	tableFiles = []string{results.RunsFile, results.SeriesFile, results.LinksFile, results.RecoveriesFile, results.SummaryFile}
 )
 
-// Source: SPEC §6 (column names are fixed by the contract).
+// Source: README, Results (Parquet): the column names notebooks rely on.
 func TestSchemaHasSpecColumns(t *testing.T) {
 	for _, file := range tableFiles {
 		schema := results.SummarySchema()
@@ -68,7 +68,7 @@ func TestSchemaHasSpecColumns(t *testing.T) {
 				}
 			}
 		}
-		// the dimensions lead, in SPEC order
+		// the dimensions lead, in the README's order
 		n := 8
 		if file == results.SummaryFile {
 			n = 5

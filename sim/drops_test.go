@@ -26,7 +26,7 @@ type routerFunc func(p *sim.Packet) int
 
 func (f routerFunc) Route(p *sim.Packet) int { return f(p) }
 
-// Drop reasons: a routing loop ends at the hop limit (default 64, SPEC §2)
+// Drop reasons: a routing loop ends at the hop limit (default 64: README, The model)
 // and a router with no answer drops with no_route; counts are exact.
 func TestDropReasons(t *testing.T) {
 	net := sim.Compile(lineGraph([]float64{1e9, 1e9}, []sim.Time{sim.Microsecond, sim.Microsecond}, 1000))

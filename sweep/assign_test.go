@@ -120,8 +120,9 @@ func TestShardFromEnv(t *testing.T) {
 		{"outside an array", map[string]string{}, Shard{}, false, true},
 		{"array 0-3 task 2", map[string]string{"SLURM_ARRAY_TASK_ID": "2", "SLURM_ARRAY_TASK_COUNT": "4", "SLURM_ARRAY_TASK_MIN": "0", "SLURM_ARRAY_TASK_MAX": "3", "SLURM_ARRAY_TASK_STEP": "1"}, Shard{2, 4}, true, true},
 		{"id and count only", map[string]string{"SLURM_ARRAY_TASK_ID": "0", "SLURM_ARRAY_TASK_COUNT": "1"}, Shard{0, 1}, true, true},
-		// Values Slurm sets for --array=1-9:4 and --array=3,7,20 (see the
-		// project's notes on Slurm job arrays): not 0..N-1, so refused.
+		// Values Slurm sets for --array=1-9:4 and --array=3,7,20 (observed
+		// under Slurm; its sbatch documentation lists the job array
+		// variables): not 0..N-1, so refused.
 		{"stepped array", map[string]string{"SLURM_ARRAY_TASK_ID": "5", "SLURM_ARRAY_TASK_COUNT": "3", "SLURM_ARRAY_TASK_MIN": "1", "SLURM_ARRAY_TASK_MAX": "9", "SLURM_ARRAY_TASK_STEP": "4"}, Shard{}, false, false},
 		{"irregular list", map[string]string{"SLURM_ARRAY_TASK_ID": "3", "SLURM_ARRAY_TASK_COUNT": "3", "SLURM_ARRAY_TASK_MIN": "3", "SLURM_ARRAY_TASK_MAX": "20", "SLURM_ARRAY_TASK_STEP": "1"}, Shard{}, false, false},
 		{"task id not below count", map[string]string{"SLURM_ARRAY_TASK_ID": "1", "SLURM_ARRAY_TASK_COUNT": "1"}, Shard{}, false, false},

@@ -215,7 +215,7 @@ links:
 	}
 }
 
-// The example topology shipped with the contract reads as written.
+// The example topology of examples/ reads as written.
 func TestMesh10(t *testing.T) {
 	g, err := Load(filepath.Join("testdata", "mesh-10.yaml"))
 	if err != nil {

@@ -88,7 +88,7 @@ func floatParam(name string, def, min, max float64, doc string) paramSpec {
 	return paramSpec{Param{Name: name, Default: def, Doc: doc}, min, max}
 }
 
-// generators in the order of the contract.
+// generators in the order the README lists them (Topologies).
 var generators = []generator{
 	{
 		name: "ring", doc: "nodes on a cycle, each linked to the next",
@@ -189,7 +189,7 @@ func lookup(name string) (*generator, bool) {
 	return nil, false
 }
 
-// Names returns the generator names in contract order.
+// Names returns the generator names in the order the README lists them.
 func Names() []string {
 	out := make([]string, len(generators))
 	for i, g := range generators {
@@ -198,7 +198,7 @@ func Names() []string {
 	return out
 }
 
-// List describes every generator, in contract order.
+// List describes every generator, in the order the README lists them.
 func List() []Info {
 	out := make([]Info, len(generators))
 	for i, g := range generators {

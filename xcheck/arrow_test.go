@@ -224,7 +224,7 @@ func check(t *testing.T, path string, want expected, meta results.Meta, table st
 
 // TestArrowReadsEveryTable writes a small sweep of synthetic runs with
 // FromRun, WritePart and Finalize, then reads every table with Apache
-// arrow-go's Parquet reader (an independent implementation; SPEC §7) and
+// arrow-go's Parquet reader (an independent implementation) and
 // compares every column value by value, the nulls, the types and the
 // key-value metadata.
 func TestArrowReadsEveryTable(t *testing.T) {

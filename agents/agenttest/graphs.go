@@ -63,7 +63,7 @@ func Grid(rows, cols int) *sim.Graph {
 }
 
 // BoyanLittmanGrid returns the irregular 6×6 grid of Boyan & Littman
-// (NIPS 6, 1994) as reconstructed in the project's notes: node 6r+c; rows
+// (NIPS 6, 1994) as reconstructed from the paper's figure: node 6r+c; rows
 // 0–2 form two separate 3×3 grids (columns 0–2 and 3–5); six vertical links
 // join rows 2 and 3; row 3 is a full path; row 4 has links 25–26 and 27–28
 // and verticals to row 3 at every column; row 5 is a full path attached only
@@ -101,8 +101,8 @@ func BoyanLittmanGrid() *sim.Graph {
 	return g
 }
 
-// UniformRates returns a uniform traffic matrix scaled as SPEC §2's
-// normalised load: under hop-count shortest paths with the lowest-index
+// UniformRates returns a uniform traffic matrix scaled to the normalised
+// load the README defines (The model): under hop-count shortest paths with the lowest-index
 // tie-break on the intact graph, the busiest channel is exactly at
 // utilisation load for packets of size bytes.
 func UniformRates(net *sim.Net, load float64, bytes int) [][]float64 {
