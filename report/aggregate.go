@@ -446,6 +446,30 @@ type GlanceRow struct {
 	// Diff is Best − Second on delivery_mean_s, its p-values adjusted
 	// (Holm) across the rows of the table.
 	Diff Comparison
+	// Optimum is the model optimum of the panel's topology and load
+	// (NaN fields when the runs carry none).
+	Optimum Optimum
+}
+
+// DelayRatio returns an agent's mean delivery time over the optimum's:
+// how many times slower than the best splittable routing in the model;
+// NaN when either is unknown.
+func (g *GlanceRow) DelayRatio(mean float64) float64 {
+	if !(g.Optimum.DelayMean > 0) {
+		return math.NaN()
+	}
+	return mean / g.Optimum.DelayMean
+}
+
+// ExtraLoss returns an agent's loss rate above the optimum's: below the
+// load limit the model optimum loses nothing, so the whole loss rate is
+// routing's doing; at or above it the optimum's own loss is not computed
+// and the result is NaN.
+func (g *GlanceRow) ExtraLoss(loss float64) float64 {
+	if !(g.Load < g.Optimum.LoadLimit) {
+		return math.NaN()
+	}
+	return loss
 }
 
 // Glance returns a GlanceRow for every panel in which at least two agents
@@ -459,6 +483,12 @@ func Glance(d *Data) []GlanceRow {
 	for _, r := range d.Runs {
 		p := Panel{r.Topology, r.Load, r.Failure}
 		byPanel[p] = append(byPanel[p], r)
+	}
+	opt := map[Panel]Optimum{}
+	for _, o := range Optima(d) {
+		for _, f := range d.Failures() {
+			opt[Panel{o.Topology, o.Load, f}] = o
+		}
 	}
 	var out []GlanceRow
 	for i, row := range delay {
@@ -474,7 +504,11 @@ func Glance(d *Data) []GlanceRow {
 		slices.SortStableFunc(ranked, func(a, b int) int { return cmp.Compare(row.Est[a].Mean, row.Est[b].Mean) })
 		b, s := ranked[0], ranked[1]
 		g := GlanceRow{Panel: row.Panel, Best: agents[b], Second: agents[s],
-			BestMean: row.Est[b], SecondMean: row.Est[s], BestLoss: loss[i].Est[b], SecondLoss: loss[i].Est[s]}
+			BestMean: row.Est[b], SecondMean: row.Est[s], BestLoss: loss[i].Est[b], SecondLoss: loss[i].Est[s],
+			Optimum: Optimum{Topology: row.Topology, Load: row.Load, DelayMean: math.NaN(), LoadLimit: math.NaN()}}
+		if o, ok := opt[row.Panel]; ok {
+			g.Optimum = o
+		}
 		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
 		cs, err := Compare(sub, g.Best, g.Second, "delivery_mean_s")
 		if err != nil {

@@ -88,8 +88,8 @@ func agentIndex(agents []string) map[string]int {
 }
 
 // loadChart draws column col against load: rows are topologies, columns
-// failure schedules.
-func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column) *chart {
+// failure schedules. refs, by topology, add the model optimum (nil: none).
+func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column, refs map[string]optimumRef) *chart {
 	idx := agentIndex(agents)
 	var topos, fails []string
 	var all []Curve
@@ -102,8 +102,14 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 		}
 		all = append(all, lp.Curves...)
 	}
-	ax := axisFor(col, all)
-	lo, hi := valueRange(all)
+	withRefs := all
+	for _, t := range topos {
+		if ref, ok := refs[t]; ok && len(ref.line) > 0 {
+			withRefs = append(withRefs, Curve{Points: ref.line})
+		}
+	}
+	ax := axisFor(col, withRefs)
+	lo, hi := valueRange(withRefs)
 	xlo, xhi := math.Inf(1), math.Inf(-1)
 	for _, c := range all {
 		for _, p := range c.Points {
@@ -113,7 +119,11 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 	if !ax.logY {
 		lo = math.Min(lo, 0)
 	}
-	legend := agentLegend(agents, idx, "lines: mean across replicates; bands: 95% confidence interval (Student t)")
+	notes := []string{"lines: mean across replicates; bands: 95% confidence interval (Student t)"}
+	if len(refs) > 0 {
+		notes = append(notes, "grey dashed: model optimum (best splittable routing, M/M/1 channels); dotted: load limit of any routing")
+	}
+	legend := agentLegend(agents, idx, notes...)
 	return &chart{ID: id, Title: title, Caption: caption, build: func(th theme) *figure {
 		f := &figure{panelW: panelW, panelH: panelH, legend: legend}
 		f.legendH = legendHeight(legend, vg.Length(len(fails))*panelW)
@@ -132,6 +142,9 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 			}
 			setRange(&p.X, xlo, xhi, false)
 			setRange(&p.Y, lo*ax.scale, hi*ax.scale, ax.logY)
+			if ref, ok := refs[lp.Topology]; ok {
+				addOptimum(p, th, ref, ax.scale, ax.logY, xlo, xhi, p.Y.Min, p.Y.Max)
+			}
 			f.panels[slices.Index(topos, lp.Topology)][slices.Index(fails, lp.Failure)] = p
 		}
 		return f

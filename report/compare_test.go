@@ -419,3 +419,38 @@ func TestCompareMetricNames(t *testing.T) {
 		t.Errorf("got %+v", rows)
 	}
 }
+
+// TestGlanceOptimum: the glance rows carry the model optimum of their
+// topology and load as the runs hold it, the delivery ratio divides by it,
+// and loss counts as extra only below the load limit; the loss chart's
+// reference line stops at the limit.
+func TestGlanceOptimum(t *testing.T) {
+	d, _ := loadSynthetic(t, demoSpec)
+	for _, g := range Glance(d) {
+		ti := slices.Index(demoSpec.topologies, g.Topology)
+		optUtil := 0.8 * g.Load * (1 + 0.1*float64(ti))
+		if !close(g.Optimum.LoadLimit, g.Load/optUtil) {
+			t.Errorf("%+v: load limit %v, want %v", g.Panel, g.Optimum.LoadLimit, g.Load/optUtil)
+		}
+		if optUtil >= 1 {
+			if !math.IsNaN(g.Optimum.DelayMean) || !math.IsNaN(g.DelayRatio(g.BestMean.Mean)) || !math.IsNaN(g.ExtraLoss(g.BestLoss.Mean)) {
+				t.Errorf("%+v: above the limit the optimum delay, ratio and extra loss must be unknown: %+v", g.Panel, g.Optimum)
+			}
+			continue
+		}
+		want := 0.9 * 0.012 / (1 - optUtil)
+		if !close(g.Optimum.DelayMean, want) || !close(g.DelayRatio(g.SecondMean.Mean), g.SecondMean.Mean/want) || g.ExtraLoss(g.BestLoss.Mean) != g.BestLoss.Mean {
+			t.Errorf("%+v: optimum %+v, ratio %v, extra loss %v", g.Panel, g.Optimum, g.DelayRatio(g.SecondMean.Mean), g.ExtraLoss(g.BestLoss.Mean))
+		}
+	}
+	for topo, ref := range optimumRefs(d, "loss_rate") {
+		for _, p := range ref.line {
+			if p.X >= ref.limit || p.Est.Mean != 0 {
+				t.Errorf("%s: loss reference point %+v at or beyond the limit %v", topo, p, ref.limit)
+			}
+		}
+	}
+	if refs := optimumRefs(d, "throughput_bps"); refs != nil {
+		t.Errorf("throughput chart got optimum references %v", refs)
+	}
+}

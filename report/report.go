@@ -128,7 +128,7 @@ func Build(d *Data, o Options) (*Report, error) {
 	agents := d.Agents()
 	for _, c := range results.Charted() {
 		t := textFor(c)
-		r.charts = append(r.charts, loadChart(t.id, t.title, t.caption, loadCurves(d, results.Runs.Index(c.Name)), agents, c))
+		r.charts = append(r.charts, loadChart(t.id, t.title, t.caption, loadCurves(d, results.Runs.Index(c.Name)), agents, c, optimumRefs(d, c.Name)))
 	}
 	if o.ExpectedRuns > len(d.Runs) {
 		r.Notes = append(r.Notes, fmt.Sprintf("Incomplete: the tables hold %d of the experiment's %d runs (%d missing: a shard not merged, or a sweep not finished). Means and intervals cover the runs present only.",
@@ -370,6 +370,8 @@ func (r *Report) HTML(w io.Writer) error {
 		Diff, CI, PT, PTHolm, PW       string
 		Rel, Verdict                   string
 		Clear                          bool
+		Opt, BestRatio, SecondRatio    string
+		BestExtra, SecondExtra         string
 	}
 	d := r.Data
 	var glance []glanceView
@@ -384,7 +386,9 @@ func (r *Report) HTML(w io.Writer) error {
 			Best: g.Best, BestMean: g.BestMean.Format(scale), BestLoss: g.BestLoss.Format(100),
 			Second: g.Second, SecondMean: g.SecondMean.Format(scale), SecondLoss: g.SecondLoss.Format(100),
 			Diff: stats.PlusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PTHolm: fmtP(c.PTHolm), PW: fmtP(c.PW),
-			Rel: fmtPercent(c.RelDiff)}
+			Rel: fmtPercent(c.RelDiff),
+			Opt: optText(g.Optimum.DelayMean * scale), BestRatio: ratioText(g.DelayRatio(g.BestMean.Mean)), SecondRatio: ratioText(g.DelayRatio(g.SecondMean.Mean)),
+			BestExtra: optText(g.ExtraLoss(g.BestLoss.Mean) * 100), SecondExtra: optText(g.ExtraLoss(g.SecondLoss.Mean) * 100)}
 		switch {
 		case c.Note != "":
 			v.Verdict = "untested: " + c.Note
@@ -455,3 +459,19 @@ func (r *Report) HTML(w io.Writer) error {
 }
 
 var pageTemplate = template.Must(template.New("page").Parse(pageHTML))
+
+// optText formats a value of the model optimum's columns, "—" when unknown.
+func optText(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "–"
+	}
+	return stats.Sig(v, 3)
+}
+
+// ratioText formats a ratio to the optimum as "×1.23", "—" when unknown.
+func ratioText(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "–"
+	}
+	return "×" + stats.Sig(v, 3)
+}

@@ -33,6 +33,8 @@ type synRun struct {
 	DeliveryP95  *float64 `parquet:"delivery_p95_s,optional"`
 	Throughput   float64  `parquet:"throughput_bps"`
 	UtilMax      float64  `parquet:"util_max"`
+	OptDelay     *float64 `parquet:"opt_delay_mean_s,optional"`
+	OptLimit     *float64 `parquet:"opt_load_limit,optional"`
 }
 
 type synBin struct {
@@ -154,6 +156,13 @@ func writeSynthetic(t testing.TB, dir string, s synSpec) {
 							Throughput: 8e3 * float64(gen-drop) / s.duration, UtilMax: rho}
 						if ai == 1 && load == s.loads[0] && rep == 0 && fail == "none" {
 							r.DeliveryP95 = nil // a null statistic must be skipped, not averaged
+						}
+						// The model optimum: the same in every run of a topology and
+						// load, null where no routing keeps the channels stable.
+						optUtil := 0.8 * load * (1 + 0.1*float64(ti))
+						r.OptLimit = ptr(load / optUtil)
+						if optUtil < 1 {
+							r.OptDelay = ptr(0.9 * base / (1 - optUtil))
 						}
 						runs = append(runs, r)
 						recovery := map[float64]float64{300: 15 + 10*float64(ai) + 3*rng.Float64(), 450: 8 + 4*float64(ai) + 2*rng.Float64()}

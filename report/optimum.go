@@ -1,0 +1,159 @@
+package report
+
+import (
+	"cmp"
+	"math"
+	"slices"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"hoplore/results"
+	"hoplore/stats"
+)
+
+// Optimum is the model optimum of one topology at one load, read from the
+// opt_* columns of its runs (the same in every run of the cell): the least
+// mean delivery time of any splittable routing under the M/M/1-channel
+// model (NaN when none is finite or it was not computed) and the highest
+// load of the matrix any routing could carry (NaN when not computed).
+type Optimum struct {
+	Topology  string
+	Load      float64
+	DelayMean float64 // s
+	LoadLimit float64 // normalised load
+}
+
+// Optima returns the model optimum of every (topology, load) of d whose
+// runs carry one, by topology then load.
+func Optima(d *Data) []Optimum {
+	kDelay, kLimit := results.Runs.Index("opt_delay_mean_s"), results.Runs.Index("opt_load_limit")
+	type key struct {
+		topo string
+		load float64
+	}
+	seen := map[key]int{}
+	var out []Optimum
+	for _, r := range d.Runs {
+		k := key{r.Topology, r.Load}
+		i, ok := seen[k]
+		if !ok {
+			i = len(out)
+			seen[k] = i
+			out = append(out, Optimum{Topology: r.Topology, Load: r.Load, DelayMean: math.NaN(), LoadLimit: math.NaN()})
+		}
+		o := &out[i]
+		if v := r.at(kDelay); math.IsNaN(o.DelayMean) && !math.IsNaN(v) {
+			o.DelayMean = v
+		}
+		if v := r.at(kLimit); math.IsNaN(o.LoadLimit) && !math.IsNaN(v) {
+			o.LoadLimit = v
+		}
+	}
+	out = slices.DeleteFunc(out, func(o Optimum) bool { return math.IsNaN(o.DelayMean) && math.IsNaN(o.LoadLimit) })
+	slices.SortStableFunc(out, func(a, b Optimum) int {
+		if a.Topology != b.Topology {
+			return cmp.Compare(a.Topology, b.Topology)
+		}
+		return cmp.Compare(a.Load, b.Load)
+	})
+	return out
+}
+
+// estimateOf is a single exact value as an estimate (no interval).
+func estimateOf(v float64) stats.Estimate { return stats.Estimate{Mean: v, CI95: math.NaN()} }
+
+// optimumRef is what a load chart draws of the model optimum on one
+// topology: a reference line (nil: none) and the load limit (NaN: none).
+type optimumRef struct {
+	line  []Point
+	limit float64
+}
+
+// optimumRefs returns, per topology, the reference of the charted column
+// col: for delivery_mean_s the optimum's mean delivery time at each load;
+// for loss_rate zero at the loads below the load limit (no routing need
+// lose anything there, in the model); for both and for delivery_p95_s the
+// load limit. Other columns get none.
+func optimumRefs(d *Data, col string) map[string]optimumRef {
+	if col != "delivery_mean_s" && col != "loss_rate" && col != "delivery_p95_s" {
+		return nil
+	}
+	out := map[string]optimumRef{}
+	for _, o := range Optima(d) {
+		ref, ok := out[o.Topology]
+		if !ok {
+			ref.limit = math.NaN()
+		}
+		if !math.IsNaN(o.LoadLimit) {
+			ref.limit = o.LoadLimit
+		}
+		switch {
+		case col == "delivery_mean_s" && !math.IsNaN(o.DelayMean):
+			ref.line = append(ref.line, Point{X: o.Load, Est: estimateOf(o.DelayMean)})
+		case col == "loss_rate" && o.Load < o.LoadLimit:
+			ref.line = append(ref.line, Point{X: o.Load, Est: estimateOf(0)})
+		}
+		out[o.Topology] = ref
+	}
+	return out
+}
+
+// optimumStyle is the reference line's style: dashed, in the theme's
+// muted grey.
+func optimumStyle(th theme) draw.LineStyle {
+	return draw.LineStyle{Color: th.muted, Width: vg.Points(1.2), Dashes: []vg.Length{vg.Points(5), vg.Points(3)}}
+}
+
+// addOptimum draws ref on p: the reference line labelled "model optimum"
+// and, when the load limit lies within [xlo, xhi], a dotted vertical line
+// labelled "load limit".
+func addOptimum(p *plot.Plot, th theme, ref optimumRef, yscale float64, logY bool, xlo, xhi, ylo, yhi float64) {
+	var xy plotter.XYs
+	for _, pt := range ref.line {
+		y := pt.Est.Mean * yscale
+		if logY {
+			if y <= 0 {
+				continue
+			}
+			y = math.Log10(y)
+		}
+		xy = append(xy, plotter.XY{X: pt.X, Y: y})
+	}
+	ts := textStyle(th.muted, 7)
+	if len(xy) > 0 {
+		if len(xy) >= 2 {
+			if l, err := plotter.NewLine(xy); err == nil {
+				l.LineStyle = optimumStyle(th)
+				p.Add(l)
+			}
+		} else if s, err := plotter.NewScatter(xy); err == nil {
+			s.GlyphStyle = draw.GlyphStyle{Color: th.muted, Radius: vg.Points(2.2), Shape: draw.CrossGlyph{}}
+			p.Add(s)
+		}
+		last := xy[len(xy)-1]
+		if lb, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{last}, Labels: []string{"model optimum"}}); err == nil {
+			ts.XAlign, ts.YAlign = draw.XRight, draw.YBottom
+			lb.TextStyle = []text.Style{ts}
+			lb.Offset = vg.Point{Y: vg.Points(2)}
+			p.Add(lb)
+		}
+	}
+	if lim := ref.limit; !math.IsNaN(lim) && lim >= xlo && lim <= xhi && yhi > ylo {
+		v := plotter.XYs{{X: lim, Y: ylo}, {X: lim, Y: yhi}}
+		if l, err := plotter.NewLine(v); err == nil {
+			l.LineStyle = draw.LineStyle{Color: th.muted, Width: vg.Points(0.9), Dashes: []vg.Length{vg.Points(1.5), vg.Points(2)}}
+			p.Add(l)
+		}
+		if lb, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: lim, Y: yhi}}, Labels: []string{"load limit"}}); err == nil {
+			ts := textStyle(th.muted, 7)
+			ts.XAlign, ts.YAlign = draw.XRight, draw.YTop
+			lb.TextStyle = []text.Style{ts}
+			lb.Offset = vg.Point{X: -vg.Points(2)}
+			p.Add(lb)
+		}
+	}
+}
