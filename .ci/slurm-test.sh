@@ -108,7 +108,7 @@ ts "slurm up: ctld pid $(cat /run/slurmctld.pid), slurmd pid $(cat /run/slurmd.p
 WORK=$(mktemp -d /tmp/hoplore-slurm-test.XXXXXX)
 HL=$WORK/hoplore
 go build -o "$HL" ./cmd/hoplore
-EXP=$REPO/sweep/testdata/tiny.yaml
+EXP=$REPO/testdata/tiny.yaml
 ts "built hoplore; local reference run"
 "$HL" run "$EXP" --out "$WORK/local" --workers "$CPUS" --quiet
 

@@ -133,7 +133,7 @@ func TestReadParquet(t *testing.T) {
 }
 
 func TestReadXML(t *testing.T) {
-	path := "../topologies/testdata/design-layout.xml"
+	path := "../testdata/design-layout.xml"
 	data, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)

@@ -149,7 +149,7 @@ func TestExamples(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {
-			e, err := Load(filepath.Join("testdata", "examples", tt.file+".yaml"))
+			e, err := Load(filepath.Join("..", "examples", tt.file+".yaml"))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -173,7 +173,7 @@ func TestExamples(t *testing.T) {
 		})
 	}
 	// load-sweep: 2 topologies × 7 agents × 4 loads × 1 failure = 56 cells, 168 runs.
-	e, err := Load("testdata/examples/load-sweep.yaml")
+	e, err := Load("../examples/load-sweep.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -200,7 +200,7 @@ func TestBundled(t *testing.T) {
 		if e.Description == "" {
 			t.Errorf("bundled %s has no description", name)
 		}
-		if ex, err := Load(filepath.Join("testdata", "examples", name+".yaml")); err == nil {
+		if ex, err := Load(filepath.Join("..", "examples", name+".yaml")); err == nil {
 			if len(ex.Runs()) != len(e.Runs()) {
 				t.Errorf("bundled %s has %d runs, the example %d", name, len(e.Runs()), len(ex.Runs()))
 			}
@@ -324,7 +324,7 @@ func TestSeedsStable(t *testing.T) {
 // TestConfig checks what Config builds: rates scaled to the requested
 // normalised load, failures resolved to indices, absolute rates kept.
 func TestConfig(t *testing.T) {
-	e, err := Load("testdata/examples/link-failure.yaml")
+	e, err := Load("../examples/link-failure.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -357,7 +357,7 @@ func TestConfig(t *testing.T) {
 			t.Errorf("event link joins %s and %s, want c and d", cfg.Net.Name(l.A), cfg.Net.Name(l.B))
 		}
 	}
-	q, err := Load("testdata/examples/single-queue.yaml")
+	q, err := Load("../examples/single-queue.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -423,7 +423,7 @@ func TestRandomFailures(t *testing.T) {
 // packets is Poisson (sd 0.25% of 160000), so 2% is a wide margin for the
 // estimate's own error.
 func TestEstimateEvents(t *testing.T) {
-	e, err := Load("testdata/examples/single-queue.yaml")
+	e, err := Load("../examples/single-queue.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -443,7 +443,7 @@ func TestEstimateEvents(t *testing.T) {
 }
 
 func FuzzParse(f *testing.F) {
-	for _, glob := range []string{"testdata/bad/*.yaml", "testdata/examples/*.yaml"} {
+	for _, glob := range []string{"testdata/bad/*.yaml", "../examples/*.yaml"} {
 		files, _ := filepath.Glob(glob)
 		for _, p := range files {
 			data, err := os.ReadFile(p)
@@ -459,7 +459,7 @@ func FuzzParse(f *testing.F) {
 		if len(data) > 4096 || big.Match(data) {
 			t.Skip("large sizes cost time, not coverage")
 		}
-		e, err := Parse("testdata/examples/fuzz.yaml", data)
+		e, err := Parse("../examples/fuzz.yaml", data)
 		if err != nil {
 			var ye *yamlx.Error
 			if !errors.As(err, &ye) {
@@ -600,15 +600,15 @@ func TestDefaultsAndExtras(t *testing.T) {
 // extension and gives the same grid as its YAML original: the same runs,
 // so the same hash although the files differ.
 func TestGraphMLTopology(t *testing.T) {
-	src, err := os.ReadFile("testdata/examples/link-failure.yaml")
+	src, err := os.ReadFile("../examples/link-failure.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
-	yml, err := Parse("testdata/examples/link-failure.yaml", src)
+	yml, err := Parse("../examples/link-failure.yaml", src)
 	if err != nil {
 		t.Fatal(err)
 	}
-	gml, err := Parse("testdata/examples/link-failure.yaml", []byte(strings.Replace(string(src), "{file: mesh-10.yaml}", "{file: ../topofiles/mesh-10.graphml}", 1)))
+	gml, err := Parse("../examples/link-failure.yaml", []byte(strings.Replace(string(src), "{file: mesh-10.yaml}", "{file: ../experiments/testdata/topofiles/mesh-10.graphml}", 1)))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -153,7 +153,7 @@ func TestMatrixFileErrors(t *testing.T) {
 // A GraphML file in the public collections' layout, read with the options
 // of a topology entry; and the options' errors at their positions.
 func TestTopologyFileOptions(t *testing.T) {
-	fixture, err := os.ReadFile("../topologies/testdata/collection-layout.graphml")
+	fixture, err := os.ReadFile("../testdata/collection-layout.graphml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -34,7 +34,7 @@ func buildHoplore(t *testing.T) string {
 
 func tinyPath(t *testing.T) string {
 	t.Helper()
-	p, err := filepath.Abs(filepath.Join("testdata", "tiny.yaml"))
+	p, err := filepath.Abs(filepath.Join("..", "testdata", "tiny.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -23,7 +23,7 @@ func TestPerRunMemoryBound(t *testing.T) {
 	if testing.Short() {
 		n = 2000
 	}
-	b, err := os.ReadFile("testdata/tiny.yaml")
+	b, err := os.ReadFile("../testdata/tiny.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -19,7 +19,7 @@ const testVersion = "test"
 // tiny is the small grid in testdata: 32 runs of 6 simulated seconds.
 func tiny(t testing.TB) *experiments.Experiment {
 	t.Helper()
-	e, err := experiments.Load(filepath.Join("testdata", "tiny.yaml"))
+	e, err := experiments.Load(filepath.Join("..", "testdata", "tiny.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -54,7 +54,7 @@ func local(t *testing.T) string {
 			return
 		}
 		var e *experiments.Experiment
-		if e, localErr = experiments.Load(filepath.Join("testdata", "tiny.yaml")); localErr != nil {
+		if e, localErr = experiments.Load(filepath.Join("..", "testdata", "tiny.yaml")); localErr != nil {
 			return
 		}
 		_, localErr = Execute(context.Background(), e, Options{Out: localDir, Workers: 1, Version: testVersion})
@@ -254,7 +254,7 @@ func ExampleAssign() {
 }
 
 func ExampleExecute() {
-	e, err := experiments.Load("testdata/tiny.yaml")
+	e, err := experiments.Load("../testdata/tiny.yaml")
 	if err != nil {
 		panic(err)
 	}

@@ -32,7 +32,7 @@ const (
 
 func readFixture(t *testing.T, o ReadOptions) (*sim.Graph, *Provenance, error) {
 	t.Helper()
-	path := filepath.Join("testdata", "collection-layout.graphml")
+	path := filepath.Join("..", "testdata", "collection-layout.graphml")
 	data, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
@@ -114,7 +114,7 @@ func TestReadGraphMLOptions(t *testing.T) {
 		{"unknown keep", ReadOptions{Keep: "all"}, `topologies: keep: "all" is not largest-component`},
 		{"negative scale", ReadOptions{BandwidthScale: -1}, "topologies: bandwidth_scale: must be a positive number, got -1"},
 		{"unknown field", ReadOptions{Attributes: map[string]string{"colour": "c"}}, "topologies: attributes.colour: unknown field (known: label, lat, lon, x_km, y_km, processing, bandwidth, delay, buffer)"},
-		{"missing key", ReadOptions{Attributes: map[string]string{"bandwidth": "Capacity"}}, `topologies: attributes.bandwidth: testdata/collection-layout.graphml declares no edge key "Capacity"`},
+		{"missing key", ReadOptions{Attributes: map[string]string{"bandwidth": "Capacity"}}, `topologies: attributes.bandwidth: ../testdata/collection-layout.graphml declares no edge key "Capacity"`},
 	}
 	for _, c := range bad {
 		t.Run(c.name, func(t *testing.T) {

@@ -217,7 +217,7 @@ links:
 
 // The example topology of examples/ reads as written.
 func TestMesh10(t *testing.T) {
-	g, err := Load(filepath.Join("testdata", "mesh-10.yaml"))
+	g, err := Load(filepath.Join("..", "examples", "mesh-10.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -34,7 +34,7 @@ func fuzzSeeds(f *testing.F, ext string) {
 		}
 	}
 	if ext == ".yaml" {
-		mesh, err := os.ReadFile(filepath.Join("testdata", "mesh-10.yaml"))
+		mesh, err := os.ReadFile(filepath.Join("..", "examples", "mesh-10.yaml"))
 		if err != nil {
 			f.Fatal(err)
 		}

@@ -12,7 +12,7 @@ import (
 )
 
 func TestReadNetworkXML(t *testing.T) {
-	path := filepath.Join("testdata", "design-layout.xml")
+	path := filepath.Join("..", "testdata", "design-layout.xml")
 	data, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)

@@ -30,7 +30,7 @@ func hop(t *testing.T, want int, args ...string) (stdout, stderr string) {
 }
 
 func TestRunShardMergeCommands(t *testing.T) {
-	tiny, err := filepath.Abs("../../sweep/testdata/tiny.yaml")
+	tiny, err := filepath.Abs("../../testdata/tiny.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -126,7 +126,7 @@ func TestRunShardMergeCommands(t *testing.T) {
 }
 
 func TestSlurmCommand(t *testing.T) {
-	tiny, err := filepath.Abs("../../sweep/testdata/tiny.yaml")
+	tiny, err := filepath.Abs("../../testdata/tiny.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -78,7 +78,7 @@ func TestTopologiesShow(t *testing.T) {
 // TestTopologiesShowFile checks that a file from another tool is shown with
 // where its fields came from, and that the reading options are checked.
 func TestTopologiesShowFile(t *testing.T) {
-	fixture := "../../topologies/testdata/collection-layout.graphml"
+	fixture := "../../testdata/collection-layout.graphml"
 	d, out, errb := testDeps()
 	if code := run([]string{"topologies", "show", fixture, "--keep", "largest-component"}, d); code != 0 {
 		t.Fatalf("exit %d: %s", code, errb.String())
