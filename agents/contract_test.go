@@ -16,7 +16,10 @@ var contract = map[string][]func(p *agents.Params){
 	agents.ShortestPathKind:    {nil},
 	agents.CentralAdaptiveKind: {nil, func(p *agents.Params) { p.HoldDown = 0 }},
 	agents.CentralQKind:        {nil},
-	agents.QRoutingKind:        qRoutingCases(),
+	agents.CentralOptimalKind: {nil, func(p *agents.Params) {
+		p.Objective, p.Split, p.MaxShift = agents.ObjectiveMinDelay, agents.SplitPacket, 1
+	}},
+	agents.QRoutingKind: qRoutingCases(),
 	agents.QNetworkKind: {nil, func(p *agents.Params) {
 		p.Explore = 0.02
 		p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}

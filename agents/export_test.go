@@ -35,3 +35,23 @@ func ContinueQRouting(p Params, net *sim.Net, prev sim.Agent, prevDuration sim.T
 	q.warm, q.warmShift = prev.(*QRouting), prevDuration
 	return q
 }
+
+// CentralOptimalSolve solves central-optimal's model for demand (packets/s)
+// on the intact network and returns the new split weights of (u, d) for
+// every u, as Splits[u][k] over Net.Out[u], and the model's maximum
+// utilisation.
+func CentralOptimalSolve(ag sim.Agent, demand [][]float64, d int) ([][]float64, float64, error) {
+	a := ag.(*CentralOptimal)
+	for s := range demand {
+		copy(a.demand[s], demand[s])
+	}
+	next := make([]float64, len(a.w))
+	a.zeroLoadInto(next)
+	err := a.sol.solveInto(a, next)
+	out := make([][]float64, a.n)
+	for u := range out {
+		i := a.entry(u, d)
+		out[u] = next[i : i+len(a.net.Out[u])]
+	}
+	return out, a.LastUtil, err
+}

@@ -54,7 +54,7 @@ type Params struct {
 	// consensus, no reset of a returning channel's column); see StartFrom.
 	Learning string
 
-	// central-adaptive, central-q
+	// central-adaptive, central-q, central-optimal
 	Every        sim.Time // interval between recomputations
 	ControlDelay sim.Time // telemetry age and install delay
 	HoldDown     sim.Time // central-adaptive: minimum time between route changes of one pair
@@ -64,6 +64,12 @@ type Params struct {
 	K            int      // central-q: candidate paths per pair (Yen)
 	Discount     float64  // central-q
 	DropPenalty  sim.Time // central-q: cost charged per dropped packet
+
+	// central-optimal (also Every, ControlDelay, Smoothing)
+	Objective string  // min-max-util | min-delay
+	Split     string  // flow (by flow hash) | packet
+	MaxShift  float64 // largest share of a (node, destination)'s traffic moved per install
+	Epsilon   float64 // relative gap at which the solver stops
 
 	// MeanPacketBytes is the mean packet size of the run's traffic, used for
 	// zero-load time estimates; set by whoever builds the run, not read from

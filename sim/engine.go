@@ -117,6 +117,7 @@ type engine struct {
 	pairDel   []int64
 	pairDelay []float64
 	pairDrop  []int64
+	pairGen   []int64
 	binBusy   []Time // nbins × channels
 	res       *Result
 	failures  []FailureEvent
@@ -323,6 +324,7 @@ func newEngine(cfg *Config) (*engine, error) {
 		e.pairDel = make([]int64, N*N)
 		e.pairDelay = make([]float64, N*N)
 		e.pairDrop = make([]int64, N*N)
+		e.pairGen = make([]int64, N*N)
 		e.cview = &ControlView{e: e, rng: Stream(cfg.AgentSeed, StreamAgent, math.MaxUint32)}
 		a.Start(e.cview)
 	default:
@@ -582,6 +584,9 @@ func (e *engine) generate(s int) {
 		bin: e.binOf(e.now), at: int32(s), live: true, unreachable: !e.reaches(s, int(d)), cause: int32(e.curFail)}
 	b := &e.res.Series[p.bin]
 	b.Generated++
+	if e.pairGen != nil {
+		e.pairGen[s*len(e.nodes)+int(d)]++
+	}
 	if p.Measured {
 		e.res.Generated++
 		e.live++
@@ -951,6 +956,7 @@ func (e *engine) requestSnapshot() {
 	s.PairDelivered = append([]int64(nil), e.pairDel...)
 	s.PairDelay = append([]float64(nil), e.pairDelay...)
 	s.PairDropped = append([]int64(nil), e.pairDrop...)
+	s.PairGenerated = append([]int64(nil), e.pairGen...)
 	idx := -1
 	for i, x := range e.snaps {
 		if x == nil {

@@ -129,6 +129,9 @@ type Snapshot struct {
 	PairDelivered []int64
 	PairDelay     []float64
 	PairDropped   []int64
+	// PairGenerated counts, per pair, the data packets generated (what the
+	// sources offered: ingress counters), cumulative from the start.
+	PairGenerated []int64
 }
 
 // Stream returns the random stream for one purpose of one run: a PCG seeded

@@ -1,0 +1,218 @@
+package agents
+
+import (
+	"math"
+	"slices"
+	"strconv"
+	"testing"
+
+	"hoplore/sim"
+)
+
+// triangle returns nodes 0, 1, 2 with links 0–1, 0–2, 1–2: channels 0 (0→1),
+// 1 (1→0), 2 (0→2), 3 (2→0), 4 (1→2), 5 (2→1); Out[0] = [0, 2] and
+// Out[1] = [1, 4].
+func triangle(t *testing.T) *sim.Net {
+	t.Helper()
+	g := &sim.Graph{Name: "triangle", Nodes: []sim.Node{{Name: "n0"}, {Name: "n1"}, {Name: "n2"}}}
+	for _, l := range [][2]int{{0, 1}, {0, 2}, {1, 2}} {
+		g.Links = append(g.Links, sim.Link{A: l[0], B: l[1], Bandwidth: 1e6, Delay: sim.Millisecond, Buffer: 50})
+	}
+	if err := g.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	net := sim.Compile(g)
+	if !slices.Equal(net.Out[0], []int{0, 2}) || !slices.Equal(net.Out[1], []int{1, 4}) {
+		t.Fatalf("channel layout changed: Out[0] = %v, Out[1] = %v", net.Out[0], net.Out[1])
+	}
+	return net
+}
+
+func newTestOptimal(t *testing.T, net *sim.Net, maxShift float64) *CentralOptimal {
+	t.Helper()
+	p := Defaults(CentralOptimalKind)
+	p.MaxShift = maxShift
+	ag, err := New(p, net)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return ag.(*CentralOptimal)
+}
+
+// set writes weights ws for (u, d) into w.
+func (a *CentralOptimal) set(w []float64, u, d int, ws ...float64) {
+	copy(w[a.entry(u, d):], ws)
+}
+
+func (a *CentralOptimal) get(u, d int) []float64 {
+	i := a.entry(u, d)
+	return a.w[i : i+len(a.net.Out[u])]
+}
+
+// TestCentralOptimalInstall works the install rules by hand on a triangle,
+// towards node 2, with max_shift 0.5:
+//   - no loop: node 0 moves from [via 1] to [direct]; the damped step goes
+//     half-way, [0.5, 0.5] (total variation ½(0.5 + 0.5) = 0.5), and the
+//     next install completes it: one route change each time;
+//   - loop: node 0 moves to [direct] while node 1 moves from [direct] to
+//     [via 0]; the half-way mixture sends traffic 0 → 1 → 0, so both nodes
+//     take their new weights whole: two route changes;
+//   - down channel: node 0's channel to 1 is down in the snapshot, so its
+//     new weights [direct] are taken whole despite max_shift.
+func TestCentralOptimalInstall(t *testing.T) {
+	net := triangle(t)
+	up := []bool{true, true, true, true, true, true}
+	const d = 2
+	t.Run("damped", func(t *testing.T) {
+		a := newTestOptimal(t, net, 0.5)
+		a.set(a.w, 0, d, 1, 0)
+		a.set(a.w, 1, d, 0, 1)
+		nw := slices.Clone(a.w)
+		a.set(nw, 0, d, 0, 1)
+		if n := a.install(coPending{w: nw, usable: up}); n != 1 {
+			t.Errorf("first install: %d route changes, want 1", n)
+		}
+		if got := a.get(0, d); !slices.Equal(got, []float64{0.5, 0.5}) {
+			t.Errorf("node 0 after one damped install: %v, want [0.5 0.5]", got)
+		}
+		if n := a.install(coPending{w: nw, usable: up}); n != 1 {
+			t.Errorf("second install: %d route changes, want 1", n)
+		}
+		if got := a.get(0, d); !slices.Equal(got, []float64{0, 1}) {
+			t.Errorf("node 0 after two installs: %v, want [0 1]", got)
+		}
+		if n := a.install(coPending{w: nw, usable: up}); n != 0 {
+			t.Errorf("third install of the same weights: %d route changes, want 0", n)
+		}
+	})
+	t.Run("loop", func(t *testing.T) {
+		a := newTestOptimal(t, net, 0.5)
+		a.set(a.w, 0, d, 1, 0)
+		a.set(a.w, 1, d, 0, 1)
+		nw := slices.Clone(a.w)
+		a.set(nw, 0, d, 0, 1)
+		a.set(nw, 1, d, 1, 0)
+		if n := a.install(coPending{w: nw, usable: up}); n != 2 {
+			t.Errorf("%d route changes, want 2", n)
+		}
+		if got := a.get(0, d); !slices.Equal(got, []float64{0, 1}) {
+			t.Errorf("node 0: %v, want [0 1] (released from the loop)", got)
+		}
+		if got := a.get(1, d); !slices.Equal(got, []float64{1, 0}) {
+			t.Errorf("node 1: %v, want [1 0] (released from the loop)", got)
+		}
+	})
+	t.Run("down", func(t *testing.T) {
+		a := newTestOptimal(t, net, 0.5)
+		a.set(a.w, 0, d, 1, 0)
+		nw := slices.Clone(a.w)
+		a.set(nw, 0, d, 0, 1)
+		down := slices.Clone(up)
+		down[0] = false
+		a.install(coPending{w: nw, usable: down})
+		if got := a.get(0, d); !slices.Equal(got, []float64{0, 1}) {
+			t.Errorf("node 0 with its channel to 1 down: %v, want [0 1]", got)
+		}
+	})
+}
+
+// TestCentralOptimalCancelCycles removes a cycle from a flow towards node 2
+// on the triangle: 2 packets/s on 0→1, 1 on 1→0, 1 on 0→2 and 1 on 1→2
+// (node 0 sends 2 net, node 1 none). Cancelling the cycle 0→1→0 leaves 1 on
+// 0→1 and nothing on 1→0, which keeps every node's net flow.
+func TestCentralOptimalCancelCycles(t *testing.T) {
+	net := triangle(t)
+	a := newTestOptimal(t, net, 1)
+	cs := &a.sol
+	copy(cs.flow, []float64{2, 1, 1, 0, 1, 0})
+	cs.cancelCycles(a, 2)
+	if want := []float64{1, 0, 1, 0, 1, 0}; !slices.Equal(cs.flow, want) {
+		t.Errorf("flow after cancelling: %v, want %v", cs.flow, want)
+	}
+}
+
+// TestCentralOptimalFlowHashSplit routes 100,000 flows from node 0 towards
+// node 2 with weights [0.25 via 1, 0.75 direct]: the share sent via 1 must
+// be 0.25 within 3.29 binomial standard deviations (a flow's hash is
+// uniform on [0, 1): splitmix64's finaliser, common practice), and every
+// packet of one flow must take the same channel.
+func TestCentralOptimalFlowHashSplit(t *testing.T) {
+	net := triangle(t)
+	a := newTestOptimal(t, net, 1)
+	a.set(a.w, 0, 2, 0.25, 0.75)
+	const n = 100000
+	via1 := 0
+	for f := 0; f < n; f++ {
+		p := &sim.Packet{Src: 0, Dst: 2, Flow: uint32(sim.Mix(uint64(f), 7))}
+		c := a.Route(0, p)
+		if c == 0 {
+			via1++
+		}
+		if again := a.Route(0, p); again != c {
+			t.Fatalf("flow %d took channel %d, then %d", f, c, again)
+		}
+	}
+	share := float64(via1) / n
+	tol := 3.29 * math.Sqrt(0.25*0.75/n)
+	if math.Abs(share-0.25) > tol {
+		t.Errorf("share via node 1: %.4f, want 0.25 ± %.4f", share, tol)
+	}
+}
+
+// BenchmarkCentralOptimalInstall measures one install of central-optimal on
+// a 50-node network (a 5×10 grid of 1 Mbit/s links) with demand between all
+// 2,450 ordered pairs at 70% of the shortest-path saturation: the
+// solve (min–max utilisation at the default epsilon), the per-destination
+// splits and the damped install. Reported: ms/install.
+func BenchmarkCentralOptimalInstall(b *testing.B) {
+	g := &sim.Graph{Name: "grid-5x10"}
+	const rows, cols = 5, 10
+	for i := 0; i < rows*cols; i++ {
+		g.Nodes = append(g.Nodes, sim.Node{Name: "n" + strconv.Itoa(i)})
+	}
+	for r := 0; r < rows; r++ {
+		for c := 0; c < cols; c++ {
+			v := r*cols + c
+			if c+1 < cols {
+				g.Links = append(g.Links, sim.Link{A: v, B: v + 1, Bandwidth: 1e6, Delay: sim.Millisecond, Buffer: 50})
+			}
+			if r+1 < rows {
+				g.Links = append(g.Links, sim.Link{A: v, B: v + cols, Bandwidth: 1e6, Delay: sim.Millisecond, Buffer: 50})
+			}
+		}
+	}
+	net := sim.Compile(g)
+	for _, obj := range []string{ObjectiveMinMaxUtil, ObjectiveMinDelay} {
+		b.Run(obj, func(b *testing.B) {
+			p := Defaults(CentralOptimalKind)
+			p.Objective = obj
+			ag, err := New(p, net)
+			if err != nil {
+				b.Fatal(err)
+			}
+			a := ag.(*CentralOptimal)
+			// 0.7 of the rate at which the busiest channel of hop-count
+			// shortest paths saturates: a grid's centre carries about
+			// N²/4 pairs' worth, so 125 packets/s · 0.7 / 600 per pair
+			for s := range a.demand {
+				for d := range a.demand[s] {
+					if s != d {
+						a.demand[s][d] = 0.7 * 125 / 600
+					}
+				}
+			}
+			up := slices.Repeat([]bool{true}, len(net.Channels))
+			next := make([]float64, len(a.w))
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				a.zeroLoadInto(next)
+				if err := a.sol.solveInto(a, next); err != nil {
+					b.Fatal(err)
+				}
+				a.install(coPending{w: next, usable: up})
+			}
+			b.ReportMetric(float64(b.Elapsed().Milliseconds())/float64(b.N), "ms/install")
+		})
+	}
+}
