@@ -116,21 +116,6 @@ func TestCentralOptimalInstall(t *testing.T) {
 	})
 }
 
-// TestCentralOptimalCancelCycles removes a cycle from a flow towards node 2
-// on the triangle: 2 packets/s on 0→1, 1 on 1→0, 1 on 0→2 and 1 on 1→2
-// (node 0 sends 2 net, node 1 none). Cancelling the cycle 0→1→0 leaves 1 on
-// 0→1 and nothing on 1→0, which keeps every node's net flow.
-func TestCentralOptimalCancelCycles(t *testing.T) {
-	net := triangle(t)
-	a := newTestOptimal(t, net, 1)
-	cs := &a.sol
-	copy(cs.flow, []float64{2, 1, 1, 0, 1, 0})
-	cs.cancelCycles(a, 2)
-	if want := []float64{1, 0, 1, 0, 1, 0}; !slices.Equal(cs.flow, want) {
-		t.Errorf("flow after cancelling: %v, want %v", cs.flow, want)
-	}
-}
-
 // TestCentralOptimalFlowHashSplit routes 100,000 flows from node 0 towards
 // node 2 with weights [0.25 via 1, 0.75 direct]: the share sent via 1 must
 // be 0.25 within 3.29 binomial standard deviations (a flow's hash is
