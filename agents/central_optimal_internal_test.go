@@ -192,7 +192,7 @@ func BenchmarkCentralOptimalInstall(b *testing.B) {
 			b.ResetTimer()
 			for i := 0; i < b.N; i++ {
 				a.zeroLoadInto(next)
-				if err := a.sol.solveInto(a, next); err != nil {
+				if _, err := a.sol.solveInto(a, next); err != nil {
 					b.Fatal(err)
 				}
 				a.install(coPending{w: next, usable: up})

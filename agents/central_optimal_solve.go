@@ -31,33 +31,46 @@ func (cs *coSolver) build(a *CentralOptimal) error {
 	return nil
 }
 
-// solveInto solves for a's demand estimate on its usable channels and
-// writes the split weights of every (node, destination) into w (entries
-// with no next hop are left as they are).
-func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) error {
+// coBound is what a solve found: the new routing's objective value, in mean
+// delay (delay) or maximum utilisation.
+type coBound struct {
+	value float64
+	delay bool
+}
+
+// solveInto solves for a's demand estimate on its usable channels, writes
+// the split weights of every (node, destination) into w (entries with no
+// next hop are left as they are) and returns the new routing's value.
+func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
+	var b coBound
 	if !slices.Equal(cs.usable, a.usable) {
 		if err := cs.build(a); err != nil {
-			return err
+			return b, err
 		}
 	}
 	if err := cs.s.SetDemand(a.demand); err != nil {
-		return err
+		return b, err
 	}
 	if routable, _ := cs.s.Demand(); routable == 0 {
-		return errNoDemand
+		return b, errNoDemand
 	}
 	if a.p.Objective == ObjectiveMinDelay {
 		r, err := cs.s.MinDelay(a.p.Epsilon)
 		if err != nil {
-			return err
+			return b, err
 		}
-		a.LastUtil = r.Start.Util // infeasible: the min–max routing stays
+		a.LastUtil = r.Start.Util
+		b = coBound{value: r.Mean, delay: true}
+		if !r.Feasible { // the min–max routing stays in the solver
+			b = coBound{value: r.Start.Util}
+		}
 	} else {
 		r, err := cs.s.MinMaxUtil(a.p.Epsilon)
 		if err != nil {
-			return err
+			return b, err
 		}
 		a.LastUtil = r.Util
+		b = coBound{value: r.Util}
 	}
 	cs.s.Splits(&cs.splits)
 	for d := 0; d < a.n; d++ {
@@ -73,5 +86,5 @@ func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) error {
 			}
 		}
 	}
-	return nil
+	return b, nil
 }

@@ -47,7 +47,7 @@ func CentralOptimalSolve(ag sim.Agent, demand [][]float64, d int) ([][]float64, 
 	}
 	next := make([]float64, len(a.w))
 	a.zeroLoadInto(next)
-	err := a.sol.solveInto(a, next)
+	_, err := a.sol.solveInto(a, next)
 	out := make([][]float64, a.n)
 	for u := range out {
 		i := a.entry(u, d)
