@@ -18,7 +18,9 @@ func benchParams() []agents.Params {
 	}
 	ps = append(ps, agents.Defaults(agents.QNetworkKind)) // hidden [32]
 	ps = append(ps, agents.Defaults(agents.CentralAdaptiveKind), agents.Defaults(agents.CentralQKind))
-	return ps
+	co := agents.Defaults(agents.CentralOptimalKind)
+	co.Split = agents.SplitPacket
+	return append(ps, agents.Defaults(agents.CentralOptimalKind), co)
 }
 
 // benchHook wraps an agent and, at one decision (or arrival) well into a run,

@@ -20,7 +20,7 @@ func BenchmarkEngine(b *testing.B) {
 	m := sim.UniformMatrix(net)
 	scaled(m, 0.7*sim.SaturationScale(net, m, 1000))
 	kinds := []agents.Params{agents.Defaults(agents.ShortestPathKind), agents.Defaults(agents.QRoutingKind), agents.Defaults(agents.QNetworkKind),
-		agents.Defaults(agents.CentralAdaptiveKind), agents.Defaults(agents.CentralQKind)}
+		agents.Defaults(agents.CentralAdaptiveKind), agents.Defaults(agents.CentralQKind), agents.Defaults(agents.CentralOptimalKind)}
 	withConsensus := agents.Defaults(agents.QRoutingKind)
 	withConsensus.Consensus = &agents.Consensus{Every: sim.Second, Weight: 0.5}
 	withConsensus.Label = "q-routing+consensus"
