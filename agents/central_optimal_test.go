@@ -114,7 +114,7 @@ func TestCentralOptimalOverload(t *testing.T) {
 	g := agenttest.TwoClusters()
 	seeds := []uint64{1, 2, 3, 4}
 	if testing.Short() {
-		seeds = seeds[:2] // the seeds' ranges do not overlap: two suffice
+		seeds = seeds[:1] // the pilot seeds' ranges lie far apart: one suffices
 	}
 	const dur, warm, load = 100 * sim.Second, 40 * sim.Second, 2.0
 	co := runSeeds(t, g, agents.Defaults(agents.CentralOptimalKind), load, dur, warm, seeds)
