@@ -37,6 +37,9 @@ type Run struct {
 	Replicate int
 	Seed      uint64 // 0 when the table has no seed column
 	Values    []float64
+	// WarmupDetection is the run's warmup_detection label ("detected",
+	// "not settled", "too few bins"); "" when the table lacks it.
+	WarmupDetection string
 }
 
 // NewRun returns a run of cell c with the named runs.parquet values and NaN
@@ -164,7 +167,7 @@ func Load(dir string) (*Data, error) {
 	// the charted columns must be there; every other numeric column is
 	// read when present
 	required := slices.Clone(dimCols)
-	optional := []string{"experiment", "seed"}
+	optional := []string{"experiment", "seed", "warmup_detection"}
 	for _, c := range results.Runs.Columns {
 		switch {
 		case c.Charted:
@@ -188,6 +191,7 @@ func Load(dir string) (*Data, error) {
 		}
 		r := &d.Runs[i]
 		r.Cell, r.Replicate, r.Seed = cellOf(rt, i), int(rt.i("replicate", i)), rt.bits("seed", i)
+		r.WarmupDetection = rt.s("warmup_detection", i)
 		r.Values = make([]float64, len(cols))
 		for k := range cols {
 			r.Values[k] = rt.f(cols[k].Name, i)

@@ -97,6 +97,8 @@ func ExampleWrite() {
 	// event-square-cut.png
 	// event-square-cut.svg
 	// index.html
+	// learning.png
+	// learning.svg
 	// links.png
 	// links.svg
 	// loss.png

@@ -27,7 +27,7 @@ func TestGoldenSVG(t *testing.T) {
 	for _, c := range r.charts {
 		ids = append(ids, c.ID)
 	}
-	want := []string{"delivery-mean", "delivery-p95", "loss", "event-two-region-cut", "links", "util-time"}
+	want := []string{"delivery-mean", "delivery-p95", "loss", "event-two-region-cut", "links", "util-time", "learning"}
 	if strings.Join(ids, ",") != strings.Join(want, ",") {
 		t.Fatalf("charts: got %v, want %v", ids, want)
 	}
@@ -124,8 +124,8 @@ func TestWriteIsDeterministic(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(files) != 13 { // 6 charts × (svg, png) + index.html
-		t.Errorf("got %d files, want 13", len(files))
+	if len(files) != 15 { // 7 charts × (svg, png) + index.html
+		t.Errorf("got %d files, want 15", len(files))
 	}
 	for _, f := range files {
 		x, _ := os.ReadFile(filepath.Join(a, f.Name()))

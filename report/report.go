@@ -79,6 +79,9 @@ type Report struct {
 	options Options
 }
 
+// MaxLearningPanels is how many panels the learning-curve chart draws.
+const MaxLearningPanels = 6
+
 // WorstShown is how many of each agent's worst single failures the page
 // lists.
 const WorstShown = 5
@@ -181,6 +184,20 @@ func Build(d *Data, o Options) (*Report, error) {
 		}
 	} else {
 		r.Notes = append(r.Notes, "No link table (links.parquet is absent): no utilisation chart.")
+	}
+	// learning curves: the whole run, warm-up included
+	if lps, _ := LearningCurves(d, math.MaxInt); len(lps) > 0 {
+		caption := "Delivery time and loss per time bin over the whole run, warm-up included: how each agent settles (a learning agent learns here). Mean across replicates."
+		drawn := lps[:min(len(lps), MaxLearningPanels)]
+		if len(drawn) < len(lps) {
+			caption += fmt.Sprintf(" The first %d panels (failure schedule none first); %d more are not drawn.", len(drawn), len(lps)-len(drawn))
+		}
+		r.charts = append(r.charts, learningChart("learning", "Learning curves: the whole run, warm-up included", caption, drawn, agents))
+		for _, lp := range lps {
+			if n := lp.transientNote(); n != "" {
+				r.Notes = append(r.Notes, "Warm-up: "+n+" Lengthen warmup (or the run) so that the measured window starts after the transient.")
+			}
+		}
 	}
 	uniqueIDs(r.charts)
 	r.Glance = Glance(d)
