@@ -146,7 +146,7 @@ func TestExamples(t *testing.T) {
 		topologies, loads, fails int
 		agents, replicates       int
 	}{
-		{"load-sweep", 2, 4, 1, 7, 3},
+		{"load-sweep", 2, 4, 1, 8, 3},
 		{"link-failure", 1, 1, 3, 4, 3},
 		{"single-queue", 1, 1, 1, 1, 4},
 		{"measured-day", 1, 2, 1, 2, 2},
@@ -176,13 +176,13 @@ func TestExamples(t *testing.T) {
 			}
 		})
 	}
-	// load-sweep: 2 topologies × 7 agents × 4 loads × 1 failure = 56 cells, 168 runs.
+	// load-sweep: 2 topologies × 8 agents × 4 loads × 1 failure = 64 cells, 192 runs.
 	e, err := Load("../examples/load-sweep.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if e.Cells() != 56 || len(e.Runs()) != 168 {
-		t.Errorf("load-sweep: %d cells, %d runs; want 56, 168", e.Cells(), len(e.Runs()))
+	if e.Cells() != 64 || len(e.Runs()) != 192 {
+		t.Errorf("load-sweep: %d cells, %d runs; want 64, 192", e.Cells(), len(e.Runs()))
 	}
 }
 

@@ -78,7 +78,7 @@ func TestCheckGrid(t *testing.T) {
 		arg  string
 		want []string
 	}{
-		{"../../examples/load-sweep.yaml", []string{"2 topologies × 4 loads × 1 failure schedule × 7 agents = 56 cells", "56 cells × 3 replicates = 168 runs", "mesh-10: 10 nodes, 14 links, diameter 5"}},
+		{"../../examples/load-sweep.yaml", []string{"2 topologies × 4 loads × 1 failure schedule × 8 agents = 64 cells", "64 cells × 3 replicates = 192 runs", "mesh-10: 10 nodes, 14 links, diameter 5"}},
 		{"../../examples/single-queue.yaml", []string{"absolute rates", "1 cell × 4 replicates = 4 runs"}},
 		{"link-failure", []string{"12 cells × 3 replicates = 36 runs", "bundled/link-failure.yaml"}},
 	}
