@@ -263,7 +263,7 @@ func parse(path string, data []byte, files fileSource) (e *Experiment, err error
 		if errors.As(err, &re) {
 			return nil, re
 		}
-		return nil, yamlx.Convert(path, err)
+		return nil, yamlx.NameField(data, yamlx.Convert(path, err))
 	}
 	e.Hash = canonicalHash(e)
 	e.Path = path

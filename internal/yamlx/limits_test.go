@@ -90,3 +90,28 @@ func TestReadFileRefuses(t *testing.T) {
 		t.Errorf("regular file: %q, %v", b, err)
 	}
 }
+
+// Errors of value decoders name the field whose value they refuse.
+func TestNameField(t *testing.T) {
+	var v struct {
+		Warmup Duration `yaml:"warmup"`
+		Agents []struct {
+			Kind string  `yaml:"kind"`
+			Rate Float   `yaml:"learning_rate"`
+			Size []Float `yaml:"sizes"`
+		} `yaml:"agents"`
+		Loads []Float `yaml:"loads"`
+	}
+	tests := []struct{ data, want string }{
+		{"warmup: 5\n", `f.yaml:1:9: warmup: "5" is not a duration`},
+		{"agents: [{kind: x, learning_rate: .nan}]\n", `learning_rate: ".nan" is not a number`},
+		{"agents: [{kind: x, sizes: [1, nan]}]\n", `sizes: "nan" is not a number`},
+		{"loads:\n  - 0.5\n  # a comment\n  - nan\n", `f.yaml:4:5: loads[…]: "nan" is not a number`},
+	}
+	for _, tc := range tests {
+		err := Decode("f.yaml", []byte(tc.data), &v)
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%q: got %v, want %q", tc.data, err, tc.want)
+		}
+	}
+}

@@ -97,7 +97,7 @@ func Decode(file string, data []byte, v any) (err error) {
 	if err := CheckShape(file, data); err != nil {
 		return err
 	}
-	return Convert(file, yaml.UnmarshalWithOptions(data, v, yaml.Strict()))
+	return NameField(data, Convert(file, yaml.UnmarshalWithOptions(data, v, yaml.Strict())))
 }
 
 // DecodeNode decodes one node into v strictly; for UnmarshalYAML methods.
@@ -146,7 +146,7 @@ func cleanMsg(s string) string {
 
 func scalar(n ast.Node) (string, error) {
 	switch n.Type() {
-	case ast.StringType, ast.IntegerType, ast.FloatType, ast.LiteralType:
+	case ast.StringType, ast.IntegerType, ast.FloatType, ast.LiteralType, ast.NanType, ast.InfinityType:
 		s := n.GetToken().Value
 		return strings.TrimSpace(s), nil
 	case ast.NullType:

@@ -26,10 +26,10 @@ func TestValues(t *testing.T) {
 		t.Errorf("bandwidth position %+v, want 2:4", s.B.Pos)
 	}
 	for _, c := range []struct{ in, want string }{
-		{"d: 5q\n", "f.yaml:1:4: \"5q\" is not a duration"},
-		{"b: fast\n", "f.yaml:1:4: \"fast\" is not a bit rate"},
-		{"r: 3/week\n", "f.yaml:1:4: \"3/week\" is not a rate"},
-		{"i: 2.5\n", "f.yaml:1:4: \"2.5\" is not a whole number"},
+		{"d: 5q\n", "f.yaml:1:4: d: \"5q\" is not a duration"},
+		{"b: fast\n", "f.yaml:1:4: b: \"fast\" is not a bit rate"},
+		{"r: 3/week\n", "f.yaml:1:4: r: \"3/week\" is not a rate"},
+		{"i: 2.5\n", "f.yaml:1:4: i: \"2.5\" is not a whole number"},
 		{"x: 1\n", "f.yaml:1:1: unknown field \"x\""},
 		{"d: [1\n", "f.yaml:1:"},
 	} {
