@@ -1,13 +1,17 @@
 package sweep
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
+	"strings"
 	"sync"
 
 	"hoplore/experiments"
 	"hoplore/optimum"
 	"hoplore/results"
+	"hoplore/sim"
 )
 
 // cellOptimum is the model optimum of a cell's offered matrix on its intact
@@ -68,14 +72,22 @@ func (o *optima) of(r *experiments.Run) (cellOptimum, error) {
 // sources emit before any phase factor, the first matrix of a replay — on
 // the intact topology, with capacities from the mean packet size.
 func computeOptimum(r *experiments.Run) (cellOptimum, error) {
-	var c cellOptimum
 	if !r.Exp.Optimum.Compute {
-		return c, nil
+		return cellOptimum{}, nil
 	}
+	c, _, err := solveState(r, r.Rates(), nil)
+	return c, err
+}
+
+// solveState solves the optimum of demand on run r's topology with the
+// channels for which down is true (nil: none) absent, and returns it with
+// the demand no path joins, in packets/s.
+func solveState(r *experiments.Run, demand [][]float64, down func(c int) bool) (cellOptimum, float64, error) {
+	var c cellOptimum
 	eps := r.Exp.Optimum.Epsilon
-	s, err := optimum.NewSolver(optimum.FromNet(r.Topology.Net, r.Exp.Traffic.Size.Mean(), nil))
+	s, err := optimum.NewSolver(optimum.FromNet(r.Topology.Net, r.Exp.Traffic.Size.Mean(), down))
 	if err == nil {
-		err = s.SetDemand(r.Rates())
+		err = s.SetDemand(demand)
 	}
 	var mm optimum.MinMax
 	if err == nil {
@@ -86,10 +98,11 @@ func computeOptimum(r *experiments.Run) (cellOptimum, error) {
 		d, err = s.MinDelay(eps)
 	}
 	if err != nil {
-		return c, fmt.Errorf("sweep: run %s: model optimum: %w", r.Dims.RunID, err)
+		return c, 0, fmt.Errorf("sweep: run %s: model optimum: %w", r.Dims.RunID, err)
 	}
-	if routable, _ := s.Demand(); routable == 0 {
-		return c, nil // nothing offered: no utilisation to speak of
+	routable, unroutable := s.Demand()
+	if routable == 0 {
+		return c, unroutable, nil // nothing to route: no utilisation to speak of
 	}
 	c.utilMax, c.utilGap = finite(mm.Util), finite(mm.Gap)
 	if mm.Util > 0 {
@@ -98,7 +111,159 @@ func computeOptimum(r *experiments.Run) (cellOptimum, error) {
 	if d.Feasible {
 		c.delayMean, c.delayGap = finite(d.Mean), finite(d.Gap)
 	}
-	return c, nil
+	return c, unroutable, nil
+}
+
+// optimumRows returns the rows of optimum.parquet for experiment e: for
+// every topology, load and failure schedule, the intact topology from time
+// 0 (the opt_* values of runs.parquet, from o's cache) and then one row per
+// change of what is down under the schedule's scheduled events, solved once
+// per distinct state. A schedule with random failures differs from one
+// replicate to the next and gets the intact row only.
+func optimumRows(e *experiments.Experiment, o *optima) ([]results.OptimumRow, error) {
+	if !e.Optimum.Compute {
+		return nil, nil
+	}
+	type cellKey struct {
+		topo    *experiments.Topology
+		load    float64
+		failure string
+	}
+	seen := map[cellKey]bool{}
+	var rows []results.OptimumRow
+	for _, r := range e.Runs() {
+		k := cellKey{r.Topology, r.Dims.Load, r.Dims.Failure}
+		if seen[k] {
+			continue
+		}
+		seen[k] = true
+		intact, err := o.of(r)
+		if err != nil {
+			return nil, err
+		}
+		base := results.OptimumRow{Experiment: r.Dims.Experiment, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure}
+		end := e.Duration.Seconds()
+		var evs []sim.FailureEvent
+		if r.Failure.Random == nil {
+			evs = r.Failures().Events
+		}
+		row := base
+		row.TEndS = end
+		intact.fillState(&row)
+		rows = append(rows, row)
+		states, err := stateRows(r, base, evs, end)
+		if err != nil {
+			return nil, err
+		}
+		if len(states) > 0 {
+			rows[len(rows)-1].TEndS = states[0].TStartS
+		}
+		rows = append(rows, states...)
+	}
+	return rows, nil
+}
+
+// fillState copies the values into an optimum.parquet row.
+func (c cellOptimum) fillState(row *results.OptimumRow) {
+	row.OptUtilMax, row.OptLoadLimit, row.OptDelayMeanS = c.utilMax, c.loadLimit, c.delayMean
+	row.OptUtilGap, row.OptDelayGap = c.utilGap, c.delayGap
+}
+
+// stateRows walks the failure events of run r in time order and returns
+// one row per instant at which the set of down links and nodes changes,
+// solving each distinct set once. Events at the same time apply together.
+func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEvent, end float64) ([]results.OptimumRow, error) {
+	if len(evs) == 0 {
+		return nil, nil
+	}
+	evs = slices.Clone(evs)
+	slices.SortStableFunc(evs, func(a, b sim.FailureEvent) int { return cmp.Compare(a.At, b.At) })
+	g := r.Topology.Graph
+	net := r.Topology.Net
+	linkDown := make([]bool, len(g.Links))
+	nodeDown := make([]bool, len(g.Nodes))
+	offered := r.Rates()
+	var total float64
+	for s, row := range offered {
+		for d, v := range row {
+			if s != d {
+				total += v
+			}
+		}
+	}
+	type solved struct {
+		c          cellOptimum
+		unroutable float64
+	}
+	cache := map[string]solved{}
+	var rows []results.OptimumRow
+	prev := ""
+	for i := 0; i < len(evs); {
+		at := evs[i].At
+		for ; i < len(evs) && evs[i].At == at; i++ {
+			ev := evs[i]
+			for _, l := range ev.Links {
+				linkDown[l] = !ev.Up
+			}
+			if ev.Node >= 0 && len(ev.Links) == 0 {
+				nodeDown[ev.Node] = !ev.Up
+			}
+		}
+		var names []string
+		for l, d := range linkDown {
+			if d {
+				names = append(names, g.Nodes[g.Links[l].A].Name+"-"+g.Nodes[g.Links[l].B].Name)
+			}
+		}
+		for v, d := range nodeDown {
+			if d {
+				names = append(names, "node "+g.Nodes[v].Name)
+			}
+		}
+		key := strings.Join(names, ", ")
+		if key == prev {
+			continue // nothing changed
+		}
+		prev = key
+		st, ok := cache[key]
+		if !ok {
+			demand := make([][]float64, len(offered))
+			var lost float64
+			for s, row := range offered {
+				demand[s] = slices.Clone(row)
+				for d, v := range row {
+					if s != d && (nodeDown[s] || nodeDown[d]) {
+						lost += v
+						demand[s][d] = 0
+					}
+				}
+			}
+			down := func(c int) bool {
+				ch := net.Channels[c]
+				return linkDown[ch.Link] || nodeDown[ch.From] || nodeDown[ch.To]
+			}
+			c, unroutable, err := solveState(r, demand, down)
+			if err != nil {
+				return nil, err
+			}
+			st = solved{c, lost + unroutable}
+			cache[key] = st
+		}
+		row := base
+		row.State = len(rows) + 1
+		row.TStartS = at.Seconds()
+		row.TEndS = end
+		row.Down = key
+		if total > 0 {
+			row.UnroutableShare = st.unroutable / total
+		}
+		st.c.fillState(&row)
+		if n := len(rows); n > 0 {
+			rows[n-1].TEndS = row.TStartS
+		}
+		rows = append(rows, row)
+	}
+	return rows, nil
 }
 
 // finite returns a pointer to v, nil when v is NaN or infinite.

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"testing"
 
+	"hoplore/experiments"
 	"hoplore/results"
 )
 
@@ -72,5 +73,55 @@ func TestOptimumColumns(t *testing.T) {
 	e.Optimum.Compute = false
 	if o, err := computeOptimum(e.Runs()[0]); err != nil || o != (cellOptimum{}) {
 		t.Errorf("optimum off: got %+v, %v; want nulls", o, err)
+	}
+}
+
+// TestOptimumStates checks optimum.parquet's rows for a scheduled cut on a
+// ring of 5 under uniform demand. Intact, shortest paths are optimal and
+// every channel carries the pairs 1 and 2 hops away (3 per direction), so
+// λ* = load. With link n0–n1 down the ring is a path of 5 nodes whose
+// middle channels carry 2 × 3 = 6 pairs per direction (a cut after k of
+// n nodes is crossed by k(n−k) pairs): λ* = 2·load. After the repair the
+// intact value returns. (Counting argument; the optimum package's ring and
+// simplex tests check the solver itself.)
+func TestOptimumStates(t *testing.T) {
+	e, err := experiments.Parse("states.yaml", []byte(`
+name: states
+duration: 6s
+topologies: [{name: ring, nodes: 5}]
+traffic: {matrix: uniform, loads: [0.4]}
+agents: [shortest-path]
+failures:
+  - name: cut
+    events:
+      - {at: 2s, link: [n0, n1], action: down}
+      - {at: 4s, link: [n0, n1], action: up}
+`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, err := optimumRows(e, &optima{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	eps := e.Optimum.Epsilon
+	want := []struct {
+		start, end, util float64
+		down             string
+	}{{0, 2, 0.4, ""}, {2, 4, 0.8, "n0-n1"}, {4, 6, 0.4, ""}}
+	if len(rows) != len(want) {
+		t.Fatalf("got %d rows, want %d: %+v", len(rows), len(want), rows)
+	}
+	for i, w := range want {
+		r := rows[i]
+		if r.State != i || r.TStartS != w.start || r.TEndS != w.end || r.Down != w.down || r.Failure != "cut" || r.UnroutableShare != 0 {
+			t.Errorf("row %d: %+v, want state %d over [%v, %v) down %q", i, r, i, w.start, w.end, w.down)
+		}
+		if r.OptUtilMax == nil || *r.OptUtilMax < w.util*(1-1e-9) || *r.OptUtilMax > w.util*(1+eps) {
+			t.Errorf("row %d: opt_util_max %v, want %v within ε", i, r.OptUtilMax, w.util)
+		}
+		if r.OptDelayMeanS == nil || r.OptLoadLimit == nil {
+			t.Errorf("row %d: null delay or load limit", i)
+		}
 	}
 }

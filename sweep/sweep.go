@@ -62,7 +62,11 @@ type Outcome struct {
 // Execute runs experiment e (or one share of it) into opts.Out: the runs
 // that Out does not hold yet, opts.Workers at a time, each made durable as
 // a part as soon as it finishes. When Out then holds every run of e, the
-// tables are finalized in e's run order and their summary is returned.
+// tables are finalized in e's run order and their summary is returned, and
+// (unless e turns the optimum off) optimum.parquet is written: the model
+// optimum per cell and topology state (optimumRows). A sweep computes each
+// cell's optimum once for its runs; the parts keep the runs' opt_* values,
+// and finishing a resumed sweep solves the cells' states again.
 //
 // Errors: an Out holding another experiment is reported as results.CheckDir
 // reports it (wrapping results.ErrOtherExperiment); a cancelled ctx returns
@@ -81,7 +85,15 @@ func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Out
 		units[i] = &expUnit{r: r, version: opts.Version, opt: opt}
 	}
 	meta := results.Meta{Version: opts.Version, Experiment: e.Name, ExperimentHash: e.Hash, Runs: len(runs)}
-	return executeTables(ctx, meta, units, opts)
+	oc, err := executeTables(ctx, meta, units, opts)
+	if err != nil || !oc.Complete || !e.Optimum.Compute {
+		return oc, err
+	}
+	rows, err := optimumRows(e, opt)
+	if err == nil {
+		err = results.WriteTable(filepath.Join(opts.Out, results.OptimumFile), results.TableOptimum, meta, rows)
+	}
+	return oc, err
 }
 
 // executeTables is Execute on any units producing result tables.

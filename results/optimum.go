@@ -1,0 +1,43 @@
+package results
+
+// OptimumFile is the table of the model optimum per cell and topology
+// state, written beside the five tables of a result folder by a sweep that
+// computes the optimum (package sweep).
+const OptimumFile = "optimum.parquet"
+
+// TableOptimum is optimum.parquet's KeyTable value.
+const TableOptimum = "optimum"
+
+// OptimumRow is one row of optimum.parquet: the model optimum (package
+// optimum) of one cell's offered matrix in one topology state of its
+// failure schedule, over [TStartS, TEndS). State 0 is the intact topology
+// from time 0 (the values of runs.parquet's opt_* columns); each later
+// state starts at a scheduled failure event that changes what is down.
+// The cell is the dimensions but the agent: the optimum does not depend on
+// it. Values are null when not computed, as in runs.parquet.
+type OptimumRow struct {
+	Experiment string  `parquet:"experiment,dict"`
+	Topology   string  `parquet:"topology,dict"`
+	Load       float64 `parquet:"load"`
+	Failure    string  `parquet:"failure,dict"`
+	State      int     `parquet:"state"`
+	TStartS    float64 `parquet:"t_start_s"`
+	TEndS      float64 `parquet:"t_end_s"`
+	// Down names the elements down in the state ("c-d", node "g"), comma
+	// separated in element order; empty when intact.
+	Down string `parquet:"down,dict"`
+	// UnroutableShare is the share of the offered demand that no routing
+	// could deliver in the state (to or from a down node, or between parts
+	// the failure disconnected); the optimum routes the rest.
+	UnroutableShare float64  `parquet:"unroutable_share"`
+	OptUtilMax      *float64 `parquet:"opt_util_max,optional"`
+	OptLoadLimit    *float64 `parquet:"opt_load_limit,optional"`
+	OptDelayMeanS   *float64 `parquet:"opt_delay_mean_s,optional"`
+	OptUtilGap      *float64 `parquet:"opt_util_gap,optional"`
+	OptDelayGap     *float64 `parquet:"opt_delay_gap,optional"`
+}
+
+// ReadOptimum reads optimum.parquet.
+func ReadOptimum(path string) ([]OptimumRow, error) {
+	return readTable[OptimumRow](path, TableOptimum)
+}
