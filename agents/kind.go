@@ -77,7 +77,7 @@ type Field struct {
 // Value is a type an agent field may have: the types experiment files can
 // spell.
 type Value interface {
-	string | bool | int | float64 | sim.Time | []int | *Consensus
+	string | bool | int | float64 | sim.Time | []int | *Consensus | *Origin
 }
 
 // NewField returns the field name of type T, stored where get points in
@@ -141,6 +141,11 @@ func cloneValue[T Value](v T) T {
 			c := *x
 			return any(&c).(T)
 		}
+	case *Origin:
+		if x != nil {
+			c := *x
+			return any(&c).(T)
+		}
 	}
 	return v
 }
@@ -151,6 +156,12 @@ func equalValue[T Value](a, b T) bool {
 		return slices.Equal(x, any(b).([]int))
 	case *Consensus:
 		y := any(b).(*Consensus)
+		if x == nil || y == nil {
+			return x == y
+		}
+		return *x == *y
+	case *Origin:
+		y := any(b).(*Origin)
 		if x == nil || y == nil {
 			return x == y
 		}
@@ -186,6 +197,11 @@ func textValue[T Value](v T) string {
 			s += "/split-horizon"
 		}
 		return s
+	case *Origin:
+		if x == nil {
+			return "none"
+		}
+		return x.Results + ":" + x.Agent
 	}
 	panic(fmt.Sprintf("agents: no text form for %T", v))
 }

@@ -53,6 +53,9 @@ type Params struct {
 	// tables or parameters never change during the run (no feedback, no
 	// consensus, no reset of a returning channel's column); see StartFrom.
 	Learning string
+	// StartFrom (q-routing, q-network): the training run whose final state
+	// the learner starts from; nil starts from the usual initial state.
+	StartFrom *Origin
 
 	// central-adaptive, central-q, central-optimal
 	Every        sim.Time // interval between recomputations

@@ -34,6 +34,7 @@ func init() {
 			consensusField(false),
 			giveUpField(),
 			learningField(),
+			startFromField(),
 		},
 		New: newQNetwork,
 		Cost: func(p *Params, r RunSize) Cost {

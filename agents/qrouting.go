@@ -48,6 +48,7 @@ func init() {
 			consensusField(true),
 			giveUpField(),
 			learningField(),
+			startFromField(),
 		},
 		New: newQRouting,
 		Cost: func(p *Params, r RunSize) Cost {

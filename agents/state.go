@@ -12,6 +12,31 @@ func learningField() Field {
 	return NewField("learning", func(p *Params) *string { return &p.Learning }, "on", oneOf("learning", "on", "frozen"))
 }
 
+// Origin names where a learner's initial state comes from: the result
+// folder Results (as written in the experiment file) of a training run and
+// the agent label there.
+type Origin struct {
+	Results string
+	Agent   string
+}
+
+// startFromField is the per-node learners' start_from: none by default.
+// Which state file a run loads is the experiment's business.
+func startFromField() Field {
+	return NewField("start_from", func(p *Params) **Origin { return &p.StartFrom }, nil, func(o *Origin) error {
+		if o == nil {
+			return nil
+		}
+		if o.Results == "" {
+			return perr("start_from.results", "required: a result folder")
+		}
+		if o.Agent == "" {
+			return perr("start_from.agent", "required: an agent label in that folder")
+		}
+		return nil
+	})
+}
+
 // frozen reports whether p's learner keeps its tables as they are.
 func (p *Params) frozen() bool { return p.Learning == "frozen" }
 

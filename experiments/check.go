@@ -31,6 +31,7 @@ type where struct {
 	hot      []yamlx.Pos    // each hotspot node
 	agents   []yamlx.Pos    // each agent entry
 	failures []failureWhere // one per Experiment.Failures entry
+	starts   []yamlx.Pos    // each agent's start_from value (zero without)
 }
 
 type failureWhere struct {

@@ -27,6 +27,20 @@ func (c *checker) agents(e *Experiment) error {
 		seen[label] = i
 		e.Agents = append(e.Agents, p)
 		c.at.agents = append(c.at.agents, a.Pos)
+		var refs []LearnedState
+		var at yamlx.Pos
+		if p.StartFrom != nil {
+			for _, v := range a.Fields {
+				if v.Name == "start_from" {
+					at = v.Value.at()
+				}
+			}
+			if refs, err = c.startStates(i, p.StartFrom, at); err != nil {
+				return err
+			}
+		}
+		e.Starts = append(e.Starts, refs)
+		c.at.starts = append(c.at.starts, at)
 	}
 	return nil
 }

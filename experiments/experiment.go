@@ -66,6 +66,10 @@ type Experiment struct {
 	// cell is computed (the opt_* columns).
 	Optimum Optimum
 
+	// Starts[i] are the training states agent i's start_from may load (nil
+	// without start_from), by run index.
+	Starts [][]LearnedState
+
 	runsOnce sync.Once
 	runs     []*Run
 }

@@ -60,6 +60,9 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 			t.hot = append(t.hot, v)
 		}
 	}
+	if err := c.checkStartTopology(e, t); err != nil {
+		return err
+	}
 	if err := t.prepare(e); err != nil {
 		return c.errf(c.at.traffic, "traffic: topology %q: %v", t.Label, err)
 	}

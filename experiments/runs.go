@@ -31,6 +31,11 @@ type Run struct {
 	Agent    agents.Params
 	Failure  *Failure
 
+	// StartState, when the agent has start_from, is the state file its
+	// learner starts from (see the README, "Train on failures, test on
+	// others").
+	StartState string
+
 	load    float64 // requested normalised load; NaN for absolute rates
 	failure int     // index in Topology's failure schedules
 }
@@ -85,6 +90,7 @@ func (e *Experiment) Runs() []*Run {
 			loads = []float64{math.NaN()}
 		}
 		for _, t := range e.Topologies {
+			key := "" // t's Graph.Key, when an agent starts from a learned state
 			for _, l := range loads {
 				dimLoad := l
 				if math.IsNaN(l) {
@@ -92,7 +98,7 @@ func (e *Experiment) Runs() []*Run {
 				}
 				for fi, f := range t.failures {
 					cell := cellKey(t.Label, l, f.Name)
-					for _, a := range e.Agents {
+					for ai, a := range e.Agents {
 						label := a.Canonical()
 						for rep := 0; rep < e.Replicates; rep++ {
 							seed := RunSeed(e.Seed, cell, rep)
@@ -117,6 +123,12 @@ func (e *Experiment) Runs() []*Run {
 								load:      l,
 								failure:   fi,
 							})
+							if ai < len(e.Starts) && e.Starts[ai] != nil {
+								if key == "" {
+									key = t.Graph.Key()
+								}
+								e.runs[len(e.runs)-1].StartState = pickState(e.Starts[ai], key, rep)
+							}
 						}
 					}
 				}

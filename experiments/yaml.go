@@ -551,6 +551,8 @@ func newAgentValue(f *agents.Field) interface {
 		return new(intsValue)
 	case **agents.Consensus:
 		return new(consensusYAML)
+	case **agents.Origin:
+		return new(startFromYAML)
 	}
 	panic(fmt.Sprintf("experiments: agent field %s has type %T, which experiment files cannot spell", f.Name, f.Ptr(&scratch)))
 }

@@ -21,6 +21,7 @@ const PartsDir = "parts"
 // WritePart stores one finished run's rows durably in
 // DIR/parts/<run_id>.part, so that a killed sweep can resume and Finalize
 // can assemble the tables later. Every row must carry the run's dimensions.
+// A learning run's final state (t.State) is stored first, under StateDir.
 //
 // The part is written to a temporary file in DIR/parts whose name starts
 // with a dot, synced, and renamed into place: a part is visible complete or
@@ -49,6 +50,12 @@ func WritePart(dir string, t *RunTables) error {
 	for i := range t.Recoveries {
 		if t.Recoveries[i].Dims != d {
 			return fmt.Errorf("results: run %q: recoveries row %d has other dimensions", id, i)
+		}
+	}
+	if t.State != nil {
+		// before the part: a finished run has its state
+		if err := writeState(dir, t.State); err != nil {
+			return err
 		}
 	}
 	parts := filepath.Join(dir, PartsDir)

@@ -195,6 +195,9 @@ type RunTables struct {
 	Series     []SeriesRow
 	Links      []LinkRow
 	Recoveries []RecoveryRow
+	// State, for a learning run, is its final state: WritePart stores it
+	// under DIR/state before the part (it is not part of the part).
+	State *LearnedState
 }
 
 // Table file names in a result folder.

@@ -24,6 +24,11 @@ func executeRun(ctx context.Context, r *experiments.Run, version string, opt *op
 	if err != nil {
 		return nil, err
 	}
+	if r.StartState != "" {
+		if err := startFrom(r.StartState, cfg.Net, cfg.Agent); err != nil {
+			return nil, err
+		}
+	}
 	start := time.Now()
 	res, err := sim.RunContext(ctx, cfg)
 	if err != nil {
@@ -36,5 +41,6 @@ func executeRun(ctx context.Context, r *experiments.Run, version string, opt *op
 		return nil, err
 	}
 	o.fill(&t.Run)
+	t.State = learnedState(r, cfg.Net, cfg.Agent)
 	return t, nil
 }

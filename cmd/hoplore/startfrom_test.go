@@ -1,0 +1,102 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"hoplore/results"
+)
+
+const trainYAML = `name: train
+duration: 20s
+warmup: 2s
+bin: 1s
+replicates: 2
+seed: 3
+topologies: [{name: ring, nodes: 6}]
+traffic: {matrix: uniform, loads: [0.5]}
+agents:
+  - {kind: q-routing, label: trainee}
+  - {kind: q-network, hidden: [4], label: net}
+  - shortest-path
+failures:
+  - {name: link, each: links, at: 8s, until: 14s, sample: 1, seed: 2}
+`
+
+// Train on failures, test on others: a training run stores every learning
+// run's final state; an experiment starting from it runs, refuses a missing
+// folder, an unknown label and another topology with FILE:LINE:COL and exit
+// status 2, writing nothing.
+func TestTrainThenStartFrom(t *testing.T) {
+	dir := t.TempDir()
+	write := func(name, body string) string {
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	trained := filepath.Join(dir, "trained")
+	hop(t, 0, "run", write("train.yaml", trainYAML), "--out", trained, "--quiet")
+	states, err := results.ReadStates(trained)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 2 learners × 2 replicates; shortest-path learns nothing
+	if len(states) != 4 {
+		t.Fatalf("%d state files, want 4", len(states))
+	}
+	for _, s := range states {
+		p := results.StatePath(trained, s.RunID)
+		switch s.Agent {
+		case "trainee":
+			rows, err := results.ReadQTable(p, s)
+			// 6 nodes × 5 destinations × 2 channels
+			if err != nil || len(rows) != 60 {
+				t.Errorf("%s: Q table of %d rows (%v), want 60", s.RunID, len(rows), err)
+			}
+		case "net":
+			if s.Network == nil || len(s.Network.Params) != 6 {
+				t.Errorf("%s: no network of 6 nodes", s.RunID)
+			}
+		default:
+			t.Errorf("state of agent %q", s.Agent)
+		}
+	}
+
+	test := func(name, agents string) string {
+		return write(name, strings.Replace(strings.Replace(trainYAML, "name: train", "name: "+strings.TrimSuffix(name, ".yaml"), 1),
+			"agents:\n  - {kind: q-routing, label: trainee}\n  - {kind: q-network, hidden: [4], label: net}\n  - shortest-path\n", agents, 1))
+	}
+	good := test("test.yaml", "agents:\n  - {kind: q-routing, learning: frozen, start_from: {results: trained, agent: trainee}}\n"+
+		"  - {kind: q-network, hidden: [4], start_from: {results: trained, agent: net}}\n")
+	hop(t, 0, "run", good, "--out", filepath.Join(dir, "tested"), "--quiet")
+
+	bad := []struct {
+		name, agents, want string
+	}{
+		{"missing.yaml", "agents: [{kind: q-routing, start_from: {results: nowhere, agent: trainee}}]\n",
+			`missing.yaml:9:40: agents[0].start_from.results: "nowhere" is not a result folder`},
+		{"label.yaml", "agents: [{kind: q-routing, start_from: {results: trained, agent: trainer}}]\n",
+			`label.yaml:9:40: agents[0].start_from.agent: "trained" has no learned state of agent "trainer" (it has: net, trainee)`},
+		{"other-topology.yaml", "agents: [{kind: q-routing, start_from: {results: trained, agent: trainee}}]\n",
+			`other-topology.yaml:9:40: agents[0].start_from: "trained" holds no state of agent "trainee" learned on topology "ring(nodes=7)"`},
+	}
+	for _, b := range bad {
+		p := test(b.name, b.agents)
+		if b.name == "other-topology.yaml" {
+			body, _ := os.ReadFile(p)
+			os.WriteFile(p, []byte(strings.Replace(string(body), "nodes: 6", "nodes: 7", 1)), 0o644)
+		}
+		out := filepath.Join(dir, "out-"+b.name)
+		_, errb := hop(t, 2, "run", p, "--out", out)
+		if !strings.Contains(errb, b.want) {
+			t.Errorf("%s: stderr %q, want %q", b.name, errb, b.want)
+		}
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			t.Errorf("%s: %s was created", b.name, out)
+		}
+	}
+}
