@@ -154,19 +154,23 @@ func Read(path string, data []byte, def *Unit) (*Table, error) {
 	return nil, &RowError{File: path, Msg: "not a traffic-matrix file: name it .csv, .parquet or .xml"}
 }
 
-// headerUnit splits a rate column's name into "rate" and its unit, if any.
+// headerUnit splits a rate column's name into "rate" and its unit, if any:
+// rate, rate_UNIT, rate (UNIT) or rate[UNIT].
 func headerUnit(name string) (bool, string) {
-	n := strings.ToLower(strings.TrimSpace(name))
-	if n == "rate" {
-		return true, ""
+	t := strings.TrimSpace(name)
+	if len(t) < 4 || !strings.EqualFold(t[:4], "rate") {
+		return false, ""
 	}
-	for _, sep := range []string{"_", " (", "(", " [", "["} {
-		if rest, ok := strings.CutPrefix(n, "rate"+sep); ok {
-			rest = strings.TrimSuffix(strings.TrimSuffix(rest, ")"), "]")
-			// keep the unit's case as written
-			off := len(name) - len(strings.TrimLeft(name, " ")) + len("rate") + len(sep)
-			return true, strings.TrimSpace(name[off : off+len(rest)])
-		}
+	rest := strings.TrimLeft(t[4:], " ")
+	switch {
+	case rest == "" && len(t) == 4:
+		return true, ""
+	case strings.HasPrefix(rest, "_") && len(t[4:]) == len(rest):
+		return true, strings.TrimSpace(rest[1:])
+	case strings.HasPrefix(rest, "(") && strings.HasSuffix(rest, ")") && len(rest) >= 2:
+		return true, strings.TrimSpace(rest[1 : len(rest)-1])
+	case strings.HasPrefix(rest, "[") && strings.HasSuffix(rest, "]") && len(rest) >= 2:
+		return true, strings.TrimSpace(rest[1 : len(rest)-1])
 	}
 	return false, ""
 }

@@ -151,3 +151,31 @@ func TestReadXML(t *testing.T) {
 		t.Errorf("got %+v\nwant %+v", tb.Rows, want)
 	}
 }
+
+// FuzzRead: the table readers either fail with an input error naming the
+// file or return rows with names, finite non-negative rates and units.
+func FuzzRead(f *testing.F) {
+	f.Add([]byte("t,source,target,rate,unit\n0,a,b,1,/s\n5m,b,a,2,Mbps\n"))
+	f.Add([]byte("source,target,rate_kbps\na,b,64\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		tb, err := Read("f.csv", data, nil)
+		if err != nil {
+			var ye *yamlx.Error
+			if !errors.As(err, &ye) || ye.File != "f.csv" {
+				t.Fatalf("error %T %v, want a *yamlx.Error in f.csv", err, err)
+			}
+			return
+		}
+		for _, r := range tb.Rows {
+			if r.Source == "" || r.Target == "" || r.Source == r.Target || !(r.Rate >= 0) || r.T < 0 || !r.Unit.Packets && !(r.Unit.BPS > 0) {
+				t.Fatalf("row %+v", r)
+			}
+		}
+		if _, err := ReadConditions("f.csv", data); err != nil {
+			var ye *yamlx.Error
+			if !errors.As(err, &ye) {
+				t.Fatalf("conditions: error %T %v", err, err)
+			}
+		}
+	})
+}

@@ -3,6 +3,7 @@ package topologies_test
 import (
 	"fmt"
 	"os"
+	"time"
 
 	"hoplore/sim"
 	"hoplore/topologies"
@@ -97,4 +98,39 @@ func ExampleWriteYAML() {
 	//   - {a: n0, b: n1, bandwidth: 10Mbps, delay: 1ms, buffer: 64}
 	//   - {a: n1, b: n2, bandwidth: 10Mbps, delay: 1ms, buffer: 64}
 	//   - {a: n2, b: n0, bandwidth: 10Mbps, delay: 1ms, buffer: 64}
+}
+
+// A GraphML file as the public topology collections write it: labels,
+// coordinates and link speeds with units, read with the default bandwidth
+// scale (10 Gbit/s becomes 10 Mbit/s), with where each field came from.
+func ExampleReadGraphML() {
+	const file = `<graphml>
+  <key attr.name="label" for="node" id="d0"/>
+  <key attr.name="Latitude" for="node" id="d1"/>
+  <key attr.name="Longitude" for="node" id="d2"/>
+  <key attr.name="LinkSpeed" for="edge" id="d3"/>
+  <key attr.name="LinkSpeedUnits" for="edge" id="d4"/>
+  <graph edgedefault="undirected">
+    <node id="0"><data key="d0">Quarrow</data><data key="d1">10</data><data key="d2">20</data></node>
+    <node id="1"><data key="d0">Tillmoor</data><data key="d1">11</data><data key="d2">20</data></node>
+    <edge source="0" target="1"><data key="d3">10</data><data key="d4">G</data></edge>
+  </graph>
+</graphml>`
+	g, pv, err := topologies.ReadGraphML("pair.graphml", []byte(file), topologies.ReadOptions{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	l := g.Links[0]
+	fmt.Printf("%s-%s %g bit/s, %v\n", g.Nodes[l.A].Name, g.Nodes[l.B].Name, l.Bandwidth, time.Duration(l.Delay))
+	for _, line := range pv.Lines() {
+		fmt.Println(line)
+	}
+	// Output:
+	// Quarrow-Tillmoor 1e+07 bit/s, 555.975µs
+	// name: 2 nodes for label
+	// coordinates: lat from Latitude, lon from Longitude (degrees) for 2 nodes
+	// bandwidth: 1 edge from LinkSpeed × LinkSpeedUnits × 0.001
+	// delay: 1 edge from great-circle distance (haversine) at 2·10^8 m/s
+	// buffer: 1 edge default 64 packets
 }

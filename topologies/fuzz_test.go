@@ -88,6 +88,9 @@ func FuzzParseFile(f *testing.F) {
 
 func FuzzParseGraphML(f *testing.F) {
 	fuzzSeeds(f, ".graphml")
+	if data, err := os.ReadFile(filepath.Join("testdata", "collection-layout.graphml")); err == nil {
+		f.Add(data)
+	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		g, err := ParseGraphML("f.graphml", data)
 		checkParsed(t, "ParseGraphML", err, func() error {
@@ -104,6 +107,33 @@ func FuzzParseGraphML(f *testing.F) {
 			}
 			if !reflect.DeepEqual(g, back) {
 				t.Fatalf("GraphML round trip differs:\n got %+v\nwant %+v", back, g)
+			}
+			return nil
+		})
+	})
+}
+
+// FuzzReadNetworkXML: the network-design XML reader either fails with a
+// *yamlx.Error or returns a valid graph and demands between its nodes.
+func FuzzReadNetworkXML(f *testing.F) {
+	data, err := os.ReadFile(filepath.Join("testdata", "design-layout.xml"))
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(data)
+	f.Add([]byte("<network><networkStructure><nodes><node id=\"a\"/></nodes></networkStructure></network>"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		x, err := ReadNetworkXML("f.xml", data, ReadOptions{})
+		checkParsed(t, "ReadNetworkXML", err, func() error {
+			if err := x.Graph.Validate(); err != nil {
+				return err
+			}
+			for _, d := range x.Demands {
+				_, okS := x.Graph.NodeIndex(d.Source)
+				_, okT := x.Graph.NodeIndex(d.Target)
+				if !okS || !okT || d.Source == d.Target || d.Value < 0 {
+					t.Fatalf("demand %+v", d)
+				}
 			}
 			return nil
 		})

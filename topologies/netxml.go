@@ -386,6 +386,7 @@ func ReadNetworkXML(path string, data []byte, o ReadOptions) (*NetworkXML, error
 			dd.Value = x
 			out.Demands = append(out.Demands, dd)
 		}
+		pv.Fields = append(pv.Fields, fmt.Sprintf("demands: %d, not part of the topology (give the file as traffic.matrix to use them)", len(out.Demands)))
 	}
 	return out, nil
 }

@@ -51,6 +51,7 @@ func TestReadNetworkXML(t *testing.T) {
 		"bandwidth: 3 links from preInstalledModule capacity in Mbps × 0.001, 1 link default 10Mbps (no pre-installed module)",
 		"delay: 4 links from great-circle distance (haversine) at 2·10^8 m/s",
 		"buffer: 4 links default 64 packets",
+		"demands: 2, not part of the topology (give the file as traffic.matrix to use them)",
 		"note: parallel edges merged into one link each, bandwidths summed, delay and buffer of the first edge: Arvenport-Bellcaster (2 edges, 2.655Mbps)",
 	}
 	if got := x.Provenance.Lines(); !reflect.DeepEqual(got, wantLines) {
