@@ -88,7 +88,7 @@ func FuzzParseFile(f *testing.F) {
 
 func FuzzParseGraphML(f *testing.F) {
 	fuzzSeeds(f, ".graphml")
-	if data, err := os.ReadFile(filepath.Join("testdata", "collection-layout.graphml")); err == nil {
+	if data, err := os.ReadFile(filepath.Join("..", "testdata", "collection-layout.graphml")); err == nil {
 		f.Add(data)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
@@ -116,7 +116,7 @@ func FuzzParseGraphML(f *testing.F) {
 // FuzzReadNetworkXML: the network-design XML reader either fails with a
 // *yamlx.Error or returns a valid graph and demands between its nodes.
 func FuzzReadNetworkXML(f *testing.F) {
-	data, err := os.ReadFile(filepath.Join("testdata", "design-layout.xml"))
+	data, err := os.ReadFile(filepath.Join("..", "testdata", "design-layout.xml"))
 	if err != nil {
 		f.Fatal(err)
 	}
