@@ -2,6 +2,7 @@ package report
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -453,4 +454,15 @@ func TestGlanceOptimum(t *testing.T) {
 	if refs := optimumRefs(d, "throughput_bps"); refs != nil {
 		t.Errorf("throughput chart got optimum references %v", refs)
 	}
+}
+
+// The report reads result tables only by the names the results schema
+// declares; any other name is a programming mistake.
+func TestReadResultNamesFromSchema(t *testing.T) {
+	defer func() {
+		if r := recover(); r == nil || !strings.Contains(fmt.Sprint(r), `no column "delivery_avg_s"`) {
+			t.Errorf("got panic %v, want one naming the undeclared column", r)
+		}
+	}()
+	readResult(t.TempDir(), results.Series, []string{"topology", "delivery_avg_s"}, nil)
 }

@@ -156,6 +156,22 @@ type Data struct {
 
 var dimCols = []string{"topology", "agent", "load", "failure", "replicate"}
 
+// readResult reads the named columns of result table t in dir (see
+// readTable). Every name must be a column the results schema declares for
+// t or a dimension: the report reads the tables by the schema's names, and
+// a name it does not declare is a programming mistake (a panic), caught by
+// the first test rather than read as a missing column.
+func readResult(dir string, t *results.Table, required, optional []string) (*table, error) {
+	for _, names := range [][]string{required, optional} {
+		for _, n := range names {
+			if t.Index(n) < 0 && !slices.ContainsFunc(results.DimColumns, func(c results.Column) bool { return c.Name == n }) {
+				panic(fmt.Sprintf("report: %s has no column %q in the results schema", t.File, n))
+			}
+		}
+	}
+	return readTable(filepath.Join(dir, t.File), required, optional)
+}
+
 func cellOf(t *table, i int) Cell {
 	return Cell{Topology: t.s("topology", i), Agent: t.s("agent", i), Load: t.f("load", i), Failure: t.s("failure", i)}
 }
@@ -176,7 +192,7 @@ func Load(dir string) (*Data, error) {
 			optional = append(optional, c.Name)
 		}
 	}
-	rt, err := readTable(filepath.Join(dir, results.RunsFile), required, optional)
+	rt, err := readResult(dir, results.Runs, required, optional)
 	if err != nil {
 		return nil, err
 	}
@@ -197,7 +213,7 @@ func Load(dir string) (*Data, error) {
 			r.Values[k] = rt.f(cols[k].Name, i)
 		}
 	}
-	st, err := readTable(filepath.Join(dir, "series.parquet"),
+	st, err := readResult(dir, results.Series,
 		append(slices.Clone(dimCols), "t_start_s", "t_end_s", "generated", "delivered", "dropped", "delivery_mean_s"),
 		[]string{"delivery_p95_s", "util_max"})
 	if err != nil && !errors.Is(err, errNoFile) {
@@ -213,7 +229,7 @@ func Load(dir string) (*Data, error) {
 			})
 		}
 	}
-	lt, err := readTable(filepath.Join(dir, "links.parquet"),
+	lt, err := readResult(dir, results.Links,
 		append(slices.Clone(dimCols), "from", "to", "util"),
 		[]string{"bandwidth_bps", "packets", "dropped_queue_full", "dropped_link_down", "down_s"})
 	if err != nil && !errors.Is(err, errNoFile) {
@@ -229,7 +245,7 @@ func Load(dir string) (*Data, error) {
 			})
 		}
 	}
-	vt, err := readTable(filepath.Join(dir, "recoveries.parquet"),
+	vt, err := readResult(dir, results.Recoveries,
 		append(slices.Clone(dimCols), "at_s", "element", "action", "recovery_s"),
 		[]string{"lost_packets", "lost_reachable", "reconnect_s", "settle_s", "delay_ratio"})
 	if err != nil && !errors.Is(err, errNoFile) {
