@@ -29,7 +29,11 @@ func relErr(got, want float64) float64 { return math.Abs(got-want) / want }
 // order cannot help.
 func TestHistogramExponentialQuantiles(t *testing.T) {
 	const n = 1_000_000
-	for _, lambda := range []float64{1, 250, 0.01} {
+	lambdas := []float64{1, 250, 0.01}
+	if testing.Short() {
+		lambdas = lambdas[:1] // for the race detector
+	}
+	for _, lambda := range lambdas {
 		vals := make([]float64, n)
 		for i := range vals {
 			vals[i] = -math.Log(1-(float64(i)+0.5)/n) / lambda
@@ -57,7 +61,10 @@ func TestHistogramExponentialQuantiles(t *testing.T) {
 // √(p(1−p)/n)/f(x_p) (Serfling, Approximation Theorems of Mathematical
 // Statistics, 1980, §2.3), checked at z = 3.29.
 func TestHistogramRandomExponential(t *testing.T) {
-	const n = 1_000_000
+	n := 1_000_000
+	if testing.Short() {
+		n = 200_000 // for the race detector
+	}
 	const lambda = 40.0
 	r := rand.New(rand.NewPCG(7, 11))
 	vals := make([]float64, n)
@@ -78,13 +85,13 @@ func TestHistogramRandomExponential(t *testing.T) {
 		}
 		if p < 1 {
 			theory := -math.Log(1-p) / lambda
-			sd := math.Sqrt(p*(1-p)/n) / (lambda * (1 - p))
+			sd := math.Sqrt(p*(1-p)/float64(n)) / (lambda * (1 - p))
 			if math.Abs(exact-theory) > 3.29*sd {
 				t.Errorf("p=%g: sample quantile %.6g, theory %.6g ± %.2g", p, exact, theory, 3.29*sd)
 			}
 		}
 	}
-	if h.Min() != vals[0] || h.Max() != vals[n-1] || h.Count() != n {
+	if h.Min() != vals[0] || h.Max() != vals[n-1] || h.Count() != int64(n) {
 		t.Errorf("min/max/count: got %g %g %d, want %g %g %d", h.Min(), h.Max(), h.Count(), vals[0], vals[n-1], n)
 	}
 }
@@ -111,6 +118,9 @@ func TestHistogramRelativeErrorEverywhere(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			h := sim.NewHistogram()
 			vals := make([]float64, 200_000)
+			if testing.Short() {
+				vals = vals[:50_000] // for the race detector
+			}
 			for i := range vals {
 				vals[i] = tc.draw()
 				h.Add(vals[i])

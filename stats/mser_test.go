@@ -34,6 +34,9 @@ func TestMSERFindsTransientEnd(t *testing.T) {
 		{"slower decay, small noise", 10_000, 0.02, 0.5, 4, 0.001},
 		{"rise from below", 5_000, 10, -40, 5, 0.5},
 	}
+	if testing.Short() {
+		cases = cases[:2] // for the race detector
+	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			end := 0
