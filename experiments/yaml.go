@@ -2,6 +2,7 @@ package experiments
 
 import (
 	"fmt"
+	"reflect"
 	"strconv"
 	"strings"
 
@@ -69,6 +70,9 @@ type seq[T any] struct {
 	Pos   yamlx.Pos
 	Set   bool
 }
+
+// DecodesAs implements yamlx.Container.
+func (s *seq[T]) DecodesAs() reflect.Type { return reflect.TypeFor[[]T]() }
 
 // UnmarshalYAML implements the YAML library's node unmarshaler.
 func (s *seq[T]) UnmarshalYAML(n ast.Node) error {
@@ -509,7 +513,7 @@ func (a *agentYAML) UnmarshalYAML(n ast.Node) error {
 		default:
 			f, ok := agents.FieldNamed(name)
 			if !ok {
-				return yamlx.At(yamlx.PosOf(p.Key), "unknown field %q", name)
+				return yamlx.UnknownField(yamlx.PosOf(p.Key), name)
 			}
 			var v agentFieldValue
 			v, err = decodeAgentValue(f, p.Value)

@@ -10,6 +10,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"reflect"
 	"strconv"
 	"strings"
 	"time"
@@ -97,12 +98,24 @@ func Decode(file string, data []byte, v any) (err error) {
 	if err := CheckShape(file, data); err != nil {
 		return err
 	}
-	return NameField(data, Convert(file, yaml.UnmarshalWithOptions(data, v, yaml.Strict())))
+	err = yaml.UnmarshalWithOptions(data, v, yaml.Strict())
+	if err != nil && isUnknownField(err) {
+		if first := firstUnknown(file, data, v); first != nil {
+			return first
+		}
+	}
+	return NameField(data, Convert(file, err))
 }
 
 // DecodeNode decodes one node into v strictly; for UnmarshalYAML methods.
 func DecodeNode(n ast.Node, v any) error {
-	return yaml.NodeToValue(n, v, yaml.Strict())
+	err := yaml.NodeToValue(n, v, yaml.Strict())
+	if err != nil && isUnknownField(err) {
+		if key, name := unknownIn(n, reflect.TypeOf(v)); key != nil {
+			return UnknownField(PosOf(key), name)
+		}
+	}
+	return err
 }
 
 // Convert turns an error from the YAML library or from a value decoder into
