@@ -101,6 +101,7 @@ type Bin struct {
 	DeliveryMean float64 // s, NaN if nothing delivered
 	DeliveryP95  float64 // s, NaN if nothing delivered
 	UtilMax      float64
+	RouteChanges float64 // route changes the agent made within the bin; NaN in tables without the column
 }
 
 // Loss returns the fraction of the bin's generated packets that were
@@ -215,7 +216,7 @@ func Load(dir string) (*Data, error) {
 	}
 	st, err := readResult(dir, results.Series,
 		append(slices.Clone(dimCols), "t_start_s", "t_end_s", "generated", "delivered", "dropped", "delivery_mean_s"),
-		[]string{"delivery_p95_s", "util_max"})
+		[]string{"delivery_p95_s", "util_max", "route_changes"})
 	if err != nil && !errors.Is(err, errNoFile) {
 		return nil, err
 	}
@@ -226,6 +227,7 @@ func Load(dir string) (*Data, error) {
 				Start: st.f("t_start_s", i), End: st.f("t_end_s", i),
 				Generated: st.i("generated", i), Delivered: st.i("delivered", i), Dropped: st.i("dropped", i),
 				DeliveryMean: st.f("delivery_mean_s", i), DeliveryP95: st.f("delivery_p95_s", i), UtilMax: st.f("util_max", i),
+				RouteChanges: st.f("route_changes", i),
 			})
 		}
 	}

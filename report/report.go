@@ -199,6 +199,14 @@ func Build(d *Data, o Options) (*Report, error) {
 			}
 		}
 	}
+	// route changes over time: route oscillation, comparable across kinds
+	if cps, more := RouteChangeCurves(d, MaxLearningPanels); len(cps) > 0 {
+		caption := "Route changes per time bin over the whole run, warm-up included (mean across replicates): how much each agent's routes move, and when."
+		if more > 0 {
+			caption += fmt.Sprintf(" The first %d panels (failure schedule none first); %d more are not drawn.", len(cps), more)
+		}
+		r.charts = append(r.charts, routeChangesChart("route-changes", "Route changes over time", caption, cps, agents))
+	}
 	uniqueIDs(r.charts)
 	r.Glance = Glance(d)
 	for _, c := range results.Charted() {
