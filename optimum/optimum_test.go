@@ -331,7 +331,7 @@ func TestAgainstSimplex(t *testing.T) {
 	const eps = 0.01
 	n := 24
 	if testing.Short() {
-		n = 8 // the simplex is slow under the race detector
+		n = 4 // the simplex is slow under the race detector
 	}
 	for i := 0; i < n; i++ {
 		net, dem := randomInstance(rng)
@@ -544,7 +544,7 @@ func TestDelayAgainstSimplex(t *testing.T) {
 	const eps = 0.01
 	n := 20
 	if testing.Short() {
-		n = 4
+		n = 2 // the simplex is slow under the race detector
 	}
 	for i := 0; i < n; {
 		net, dem := randomInstance(rng)
