@@ -265,7 +265,7 @@ func Load(dir string) (*Data, error) {
 		}
 	}
 	if len(d.Runs) == 0 {
-		return nil, inputErr("report: %s: no runs", filepath.Join(dir, "runs.parquet"))
+		return nil, inputErr("report: %s: no runs", filepath.Join(dir, results.RunsFile))
 	}
 	return d, nil
 }

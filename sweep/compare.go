@@ -10,10 +10,21 @@ import (
 	"strings"
 
 	"github.com/parquet-go/parquet-go"
+
+	"hoplore/results"
 )
 
-// Tables are the files of a finished results folder that CompareDirs checks.
-var Tables = []string{"runs.parquet", "series.parquet", "links.parquet", "recoveries.parquet", "summary.parquet"}
+// Tables are the files of a finished results folder that CompareDirs checks:
+// every table of the results schema (results.Tables).
+var Tables = tableFiles()
+
+func tableFiles() []string {
+	var out []string
+	for _, t := range results.Tables {
+		out = append(out, t.File)
+	}
+	return out
+}
 
 // Masked are the columns that legitimately differ between two executions of
 // the same runs (wall-clock time); CompareDirs ignores them.
