@@ -119,7 +119,7 @@ func (c *checker) experiment() (*Experiment, error) {
 	e.Optimum = Optimum{Compute: true, Epsilon: optimum.DefaultEpsilon}
 	if o := r.Optimum; o.Set {
 		if o.Compute.Set {
-			e.Optimum.Compute = o.Compute.V
+			e.Optimum.Compute, e.Optimum.Always = o.Compute.V, o.Compute.V
 		}
 		if o.Epsilon.Set {
 			if err := optimum.CheckEpsilon(o.Epsilon.V); err != nil {

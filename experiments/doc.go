@@ -103,10 +103,11 @@
 //	             per-packet loss probability (drop reason link_loss, column
 //	             dropped_link_loss). A row naming a link a topology lacks is an error
 //	             at its row
-//	optimum      default {epsilon: 0.01, compute: true}: the model optimum of every
-//	             cell's offered matrix (package optimum, the opt_* columns); epsilon in
-//	             (0, 0.5] is the certified relative gap the solvers stop at; compute:
-//	             false leaves the columns null (for topologies too large to solve)
+//	optimum      default {epsilon: 0.01}: the model optimum of every cell's offered
+//	             matrix (package optimum, the opt_* columns); epsilon in (0, 0.5] is the
+//	             certified relative gap the solvers stop at. By default it is computed on
+//	             topologies of at most 200 nodes (OptimumAutoNodes); compute: true asks
+//	             for it on any size, compute: false never (the columns are then null)
 //
 // # Grid order and seeds
 //

@@ -74,11 +74,20 @@ type Experiment struct {
 	runs     []*Run
 }
 
+// OptimumAutoNodes is the largest topology on which the model optimum is
+// computed unless the file asks for it explicitly: its cost grows about as
+// N²·E log N per phase (tens of seconds per cell beyond this size).
+const OptimumAutoNodes = 200
+
 // Optimum is the optimum section of an experiment file.
 type Optimum struct {
 	// Compute is false when the file turns the model optimum off (its
 	// columns are then null).
 	Compute bool
+	// Always is true when the file asks for the optimum explicitly
+	// (compute: true): it is then computed on topologies of any size, not
+	// only on those of at most OptimumAutoNodes nodes.
+	Always bool
 	// Epsilon is the relative gap at which the solvers stop, in (0, 0.5].
 	Epsilon float64
 }

@@ -520,7 +520,7 @@ func TestDefaultsAndExtras(t *testing.T) {
 	if len(e.Failures) != 1 || e.Failures[0].Name != "none" {
 		t.Errorf("failures %v, want [none] by default", e.Failures)
 	}
-	if e.Optimum != (Optimum{Compute: true, Epsilon: 0.05}) {
+	if e.Optimum != (Optimum{Compute: true, Always: false, Epsilon: 0.05}) {
 		t.Errorf("optimum %+v, want computed at epsilon 0.05", e.Optimum)
 	}
 	if d, _ := Parse("d.yaml", []byte(strings.Replace(features, "optimum: {epsilon: 0.05}\n", "", 1))); d == nil || d.Optimum != (Optimum{Compute: true, Epsilon: 0.01}) {

@@ -25,7 +25,7 @@ type MinDelay struct {
 
 // maxIterations bounds the iterations of MinDelay; the gap reached is
 // reported whether or not it met the target.
-const maxIterations = 20000
+const maxIterations = 5000
 
 // MinDelay finds a splittable routing of the demand (SetDemand) that
 // minimises the mean delay under Kleinrock's model of a network of

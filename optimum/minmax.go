@@ -19,7 +19,7 @@ type MinMax struct {
 
 // maxPhases bounds the phases of MinMaxUtil; the gap reached is reported
 // whether or not it met the target.
-const maxPhases = 20000
+const maxPhases = 5000
 
 // MinMaxUtil finds a splittable routing of the demand (SetDemand) that
 // minimises the maximum channel utilisation λ = max_e f_e/c_e, the maximum

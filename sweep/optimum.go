@@ -72,11 +72,18 @@ func (o *optima) of(r *experiments.Run) (cellOptimum, error) {
 // sources emit before any phase factor, the first matrix of a replay — on
 // the intact topology, with capacities from the mean packet size.
 func computeOptimum(r *experiments.Run) (cellOptimum, error) {
-	if !r.Exp.Optimum.Compute {
+	if !wantOptimum(r) {
 		return cellOptimum{}, nil
 	}
 	c, _, err := solveState(r, r.Rates(), nil)
 	return c, err
+}
+
+// wantOptimum reports whether run r's experiment asks for the optimum on
+// its topology (experiments.Optimum).
+func wantOptimum(r *experiments.Run) bool {
+	o := r.Exp.Optimum
+	return o.Compute && (o.Always || r.Topology.Net.NumNodes() <= experiments.OptimumAutoNodes)
 }
 
 // solveState solves the optimum of demand on run r's topology with the
@@ -137,6 +144,9 @@ func optimumRows(e *experiments.Experiment, o *optima) ([]results.OptimumRow, er
 			continue
 		}
 		seen[k] = true
+		if !wantOptimum(r) {
+			continue
+		}
 		intact, err := o.of(r)
 		if err != nil {
 			return nil, err

@@ -125,3 +125,29 @@ failures:
 		}
 	}
 }
+
+// TestOptimumAutoSize: beyond experiments.OptimumAutoNodes nodes the
+// optimum is left out (null columns, no optimum.parquet rows) unless the
+// file asks for it.
+func TestOptimumAutoSize(t *testing.T) {
+	e, err := experiments.Parse("big.yaml", []byte(`
+name: big
+duration: 1s
+topologies: [{name: ring, nodes: 201}]
+traffic: {matrix: uniform, loads: [0.5]}
+agents: [shortest-path]
+`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if o, err := computeOptimum(e.Runs()[0]); err != nil || o != (cellOptimum{}) {
+		t.Errorf("201 nodes: got %+v, %v; want nulls", o, err)
+	}
+	if rows, err := optimumRows(e, &optima{}); err != nil || len(rows) != 0 {
+		t.Errorf("201 nodes: %d optimum rows, %v; want none", len(rows), err)
+	}
+	e.Optimum.Always = true
+	if !wantOptimum(e.Runs()[0]) {
+		t.Error("compute: true does not force the optimum")
+	}
+}
