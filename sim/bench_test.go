@@ -147,4 +147,5 @@ func BenchmarkHistogram(b *testing.B) {
 	if h.Count() != int64(b.N) {
 		b.Fatal("lost values")
 	}
+	b.ReportMetric(float64(h.Bytes()), "bytes")
 }
