@@ -1,6 +1,8 @@
 package main
 
 import (
+	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
@@ -114,5 +116,40 @@ func TestTopologiesShowFile(t *testing.T) {
 		if code := run(args, d); code != 2 || out.Len() != 0 {
 			t.Errorf("%v: exit %d with %d bytes out, want 2 and nothing", args, code, out.Len())
 		}
+	}
+}
+
+// TestMeasuredInputErrors: bad traffic-matrix and conditions files are
+// input errors (exit 2) naming the file and where in it, and run writes
+// nothing.
+func TestMeasuredInputErrors(t *testing.T) {
+	const head = "name: bad-measured\nduration: 10s\ntopologies:\n  - inline:\n      nodes: [a, b, c]\n      links: [{a: a, b: b}, {a: b, b: c}]\nagents: [shortest-path]\n"
+	for _, c := range []struct {
+		name, tail, file, data, want string
+	}{
+		{"unknown unit", "traffic: {matrix: {file: m.csv}}\n", "m.csv", "source,target,rate_furlongs\na,b,1\n", "m.csv:1:15: "},
+		{"unknown node", "traffic: {matrix: {file: m.csv}}\n", "m.csv", "source,target,rate_pps\na,z,1\n", "m.csv:2:3: "},
+		{"overlapping periods", "traffic: {matrix: {file: m.csv, period: 1m}}\n", "m.csv", "t,source,target,rate_pps\n0,a,b,1\n30s,a,c,1\n", "m.csv:3:1: "},
+		{"missing link", "traffic: {matrix: uniform, loads: [0.5]}\nconditions: {file: c.csv}\n", "c.csv", "t,a,b,loss\n0,a,c,0.1\n", "c.csv:2:3: "},
+		{"negative speed", "traffic: {matrix: uniform, loads: [0.5]}\nconditions: {file: c.csv}\n", "c.csv", "t,a,b,bandwidth\n0,a,b,-1Mbps\n", "c.csv:2:7: "},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			dir := t.TempDir()
+			exp := filepath.Join(dir, "e.yaml")
+			if err := os.WriteFile(exp, []byte(head+c.tail), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			if err := os.WriteFile(filepath.Join(dir, c.file), []byte(c.data), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			out := filepath.Join(dir, "out")
+			d, _, errb := testDeps()
+			if code := run([]string{"run", exp, "--out", out, "--quiet"}, d); code != 2 || !strings.Contains(errb.String(), filepath.Join(dir, c.want)) {
+				t.Errorf("exit %d, stderr %q; want 2 and %s", code, errb.String(), c.want)
+			}
+			if _, err := os.Stat(out); !os.IsNotExist(err) {
+				t.Errorf("run wrote %s", out)
+			}
+		})
 	}
 }
