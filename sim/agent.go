@@ -118,6 +118,9 @@ type Packet struct {
 	Born     Time   // generation time
 	Hops     int    // hops made so far
 	Measured bool   // generated after warm-up
+	// Seq is the packet's position in its flow of flow traffic (0 for the
+	// first), 0 for packet traffic.
+	Seq int32
 
 	// The hop just made (valid in Arrivals.Arrived and Receiver.Receive).
 	LastWait Time // time spent waiting in the previous node's queue
@@ -142,4 +145,5 @@ type Packet struct {
 	// the network, the destination could not be reached from where it was
 	unreachable bool
 	cause       int32 // when unreachable: the failure event that made it so (index), −1 before any
+	fl          int32 // flow traffic: index of the flow + 1; 0 for packet traffic
 }

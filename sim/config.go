@@ -1,5 +1,7 @@
 package sim
 
+import "math"
+
 // Config is everything one run depends on. A run is a pure function of its
 // Config: same Config, same Result.
 type Config struct {
@@ -50,6 +52,9 @@ type Traffic struct {
 	// Flows is the number of flow labels per source–destination pair that
 	// ECMP hashing can spread; 0 means DefaultFlows.
 	Flows int
+	// FlowGen adds flow traffic (transfers of many packets) beside the
+	// packets of Rates; nil means none. See FlowGen.
+	FlowGen *FlowGen
 }
 
 // RatePhase multiplies all traffic rates by Factor (≥ 0) from At on.
@@ -94,6 +99,14 @@ const (
 	Fixed SizeKind = iota
 	Exponential
 	Bimodal
+	// Pareto: P(X > x) = (xm/x)^Shape for x ≥ xm, xm = MeanBytes·(Shape−1)/Shape.
+	Pareto
+	// Lognormal: ln X is normal with mean Mu and standard deviation Sigma.
+	Lognormal
+	// Classes: Classes[i].Bytes with probability Classes[i].Fraction.
+	Classes
+	// Empirical: the piecewise-linear cumulative distribution through CDF.
+	Empirical
 )
 
 // SizeDist is a packet size distribution in bytes.
@@ -104,15 +117,53 @@ type SizeDist struct {
 	SmallBytes    int     // Bimodal
 	LargeBytes    int     // Bimodal
 	LargeFraction float64 // Bimodal: probability of LargeBytes
+	Shape         float64 // Pareto tail index (> 1); MeanBytes is its mean
+	Mu, Sigma     float64 // Lognormal: parameters of ln(bytes)
+	Classes       []SizeClass
+	// CDF: points (Bytes, P) with both strictly increasing, P > 0 and the
+	// last P exactly 1. A draw is Bytes of the first point with probability
+	// P of the first point, and otherwise linear between consecutive points.
+	CDF []CDFPoint
 }
 
-// Mean returns the mean packet size in bytes.
+// SizeClass is one class of a Classes size distribution.
+type SizeClass struct {
+	Fraction float64
+	Bytes    float64
+}
+
+// CDFPoint is one point of an Empirical size distribution: P(X ≤ Bytes) = P.
+type CDFPoint struct {
+	Bytes float64
+	P     float64
+}
+
+// Mean returns the mean size in bytes (of the continuous distribution,
+// before draws are rounded up to whole bytes).
 func (d SizeDist) Mean() float64 {
 	switch d.Kind {
 	case Fixed:
 		return float64(d.Bytes)
-	case Exponential:
+	case Exponential, Pareto:
 		return d.MeanBytes
+	case Lognormal:
+		return math.Exp(d.Mu + d.Sigma*d.Sigma/2)
+	case Classes:
+		var m float64
+		for _, c := range d.Classes {
+			m += c.Fraction * c.Bytes
+		}
+		return m
+	case Empirical:
+		if len(d.CDF) == 0 {
+			return 0
+		}
+		m := d.CDF[0].P * d.CDF[0].Bytes
+		for i := 1; i < len(d.CDF); i++ {
+			a, b := d.CDF[i-1], d.CDF[i]
+			m += (b.P - a.P) * (a.Bytes + b.Bytes) / 2
+		}
+		return m
 	default:
 		return float64(d.SmallBytes)*(1-d.LargeFraction) + float64(d.LargeBytes)*d.LargeFraction
 	}

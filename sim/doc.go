@@ -18,6 +18,15 @@
 // detect after the schedule's detection delay, and link-state news floods
 // to every node at detection plus the propagation distance.
 //
+// Flow traffic (Traffic.FlowGen) adds transfers: flows start as Poisson
+// processes per pair, their sizes drawn from heavy-tailed distributions
+// (Pareto, lognormal, a mix of classes, an empirical CDF), each cut into
+// packets sent back to back at the source's access rate or a rate limit.
+// Flows live in a free list like packets, so they allocate nothing in the
+// steady state. Result.Flows holds completion times, slowdowns against the
+// idle network (IdealFCT, exact by max-plus tandem algebra) per size class,
+// and reordering.
+//
 // Routing is delegated to agents through small interfaces declared here
 // (PerNode/Router with optional Arrivals, Receiver, Detector, LinkStater,
 // Timed; or Central). A per-node router sees the network only through a

@@ -125,6 +125,13 @@ type engine struct {
 	floodW    []float64    // per channel: propagation delay in ns, +Inf when down
 	floodSrc  []int
 
+	// flow traffic
+	fsrc    []flowSource
+	fl      []flowState
+	ffree   []int32
+	fserial uint64
+	fpkt    int // packet size of flows
+
 	// physical partitions, for classifying unreachable packets
 	comp       []int32       // component label of each node over what is up; −1 when down
 	compArcUp  []bool        // scratch: channels up
@@ -252,6 +259,7 @@ func newEngine(cfg *Config) (*engine, error) {
 		}
 	}
 	e.period = -1
+	e.initFlows()
 	// link conditions, applied in (time, position) order
 	e.conds = append([]LinkCondition(nil), cfg.Conditions...)
 	sort.SliceStable(e.conds, func(i, j int) bool { return e.conds[i].At < e.conds[j].At })
@@ -369,21 +377,13 @@ func checkTraffic(cfg *Config, N int) error {
 			}
 		}
 	}
-	switch t.Size.Kind {
-	case Fixed:
-		if t.Size.Bytes <= 0 {
-			return errors.New("sim: fixed packet size must be positive")
+	if err := t.Size.Check(); err != nil {
+		return fmt.Errorf("sim: packet size: %w", err)
+	}
+	if t.FlowGen != nil {
+		if err := t.FlowGen.check(N); err != nil {
+			return err
 		}
-	case Exponential:
-		if !(t.Size.MeanBytes > 0) {
-			return errors.New("sim: mean packet size must be positive")
-		}
-	case Bimodal:
-		if t.Size.SmallBytes <= 0 || t.Size.LargeBytes <= 0 || t.Size.LargeFraction < 0 || t.Size.LargeFraction > 1 {
-			return errors.New("sim: bimodal sizes must be positive and the fraction in [0, 1]")
-		}
-	default:
-		return fmt.Errorf("sim: unknown size distribution %d", t.Size.Kind)
 	}
 	return nil
 }
@@ -446,6 +446,10 @@ func (e *engine) loop(ctx context.Context) error {
 			e.central.Telemetry(s)
 		case evCondition:
 			e.applyCondition(int(ev.a))
+		case evFlowStart:
+			e.startFlow(int(ev.a))
+		case evFlowPacket:
+			e.emitFlowPacket(ev.a)
 		}
 		if e.topDone {
 			e.topDone = false
@@ -484,11 +488,13 @@ func (e *engine) drawSize(s *SizeDist, r *rand.Rand) int {
 		return s.Bytes
 	case Exponential:
 		return max(1, int(math.Ceil(r.ExpFloat64()*s.MeanBytes)))
-	default:
+	case Bimodal:
 		if r.Float64() < s.LargeFraction {
 			return s.LargeBytes
 		}
 		return s.SmallBytes
+	default:
+		return int(min(s.Draw(r), math.MaxInt32))
 	}
 }
 
@@ -792,6 +798,9 @@ func (e *engine) deliver(id int32) {
 		}
 		r.DeliveredBits += float64(p.Size) * 8
 	}
+	if p.fl != 0 {
+		e.flowPacketDone(p, true)
+	}
 	e.release(id)
 }
 
@@ -848,6 +857,9 @@ func (e *engine) drop(id int32, reason DropReason, c int) {
 				e.res.Channels[c].DroppedLinkLoss++
 			}
 		}
+	}
+	if p.fl != 0 {
+		e.flowPacketDone(p, false)
 	}
 	e.release(id)
 }
@@ -1185,6 +1197,13 @@ func (e *engine) finish() (*Result, error) {
 		}
 	}
 	r.InFlight = e.live
+	if r.Flows != nil {
+		for i := range e.fl {
+			if f := &e.fl[i]; f.live && f.measured {
+				r.Flows.Unfinished++
+			}
+		}
+	}
 	if got := r.Generated - r.Delivered - r.DroppedTotal(); got != r.InFlight {
 		return nil, fmt.Errorf("sim: conservation violated: generated %d, delivered %d, dropped %d, in flight %d",
 			r.Generated, r.Delivered, r.DroppedTotal(), r.InFlight)

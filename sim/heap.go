@@ -12,6 +12,8 @@ const (
 	evLSA
 	evSnapshot
 	evCondition
+	evFlowStart
+	evFlowPacket
 )
 
 // event is one scheduled happening. Events are ordered by (at, seq): equal

@@ -60,6 +60,9 @@ type Result struct {
 
 	Events int64 // events processed
 
+	// Flows is what the flow traffic measured; nil without flow traffic.
+	Flows *FlowResult
+
 	Channels []ChannelResult // by channel ID
 	Series   []Bin
 	// Failures are the events applied, sorted by time.

@@ -151,6 +151,9 @@ const (
 	StreamFailures
 	StreamFlows
 	StreamLoss
+	StreamFlowArrivals
+	StreamFlowDestinations
+	StreamFlowSizes
 )
 
 // Mix hashes two values into one (splitmix64 finaliser over a combination).
