@@ -65,6 +65,9 @@ func TestEachLinksFamily(t *testing.T) {
 		if !reflect.DeepEqual(ca.Failures, cb.Failures) {
 			t.Errorf("run %d: failures %+v by family, %+v by hand", i, ca.Failures, cb.Failures)
 		}
+		if testing.Short() && i >= 2 {
+			continue // the configurations are equal; two runs show the results are too
+		}
 		ra, err := sim.Run(ca)
 		if err != nil {
 			t.Fatal(err)
