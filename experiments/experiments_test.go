@@ -150,6 +150,7 @@ func TestExamples(t *testing.T) {
 		{"link-failure", 1, 1, 3, 4, 3},
 		{"single-queue", 1, 1, 1, 1, 4},
 		{"measured-day", 1, 2, 1, 2, 2},
+		{"every-failure", 1, 1, 14 + 10 + 1, 4, 2},
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {
