@@ -228,10 +228,26 @@ type mergeSource struct {
 }
 
 func (s *mergeSource) load(id string) (*RunTables, error) {
+	var t *RunTables
 	if s.tables != nil {
-		return s.tables[id], nil
+		t = s.tables[id]
+	} else {
+		var err error
+		if t, err = ReadPart(s.dir, id); err != nil {
+			return nil, err
+		}
 	}
-	return ReadPart(s.dir, id)
+	// a learning run's state goes with it
+	st, err := readLearnedState(s.dir, id)
+	if err != nil {
+		return nil, err
+	}
+	if st != nil {
+		c := *t
+		c.State = st
+		t = &c
+	}
+	return t, nil
 }
 
 // splitTables reads a finalized result folder's tables and splits them by run.

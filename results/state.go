@@ -153,6 +153,26 @@ func ReadStateInfo(path string) (StateInfo, error) {
 	return info, nil
 }
 
+// readLearnedState reads run id's state from result folder dir, nil when
+// it has none.
+func readLearnedState(dir, id string) (*LearnedState, error) {
+	path := StatePath(dir, id)
+	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
+		return nil, nil
+	}
+	info, err := ReadStateInfo(path)
+	if err != nil {
+		return nil, err
+	}
+	ls := &LearnedState{Info: info}
+	if info.Network == nil {
+		if ls.Q, err = ReadQTable(path, info); err != nil {
+			return nil, err
+		}
+	}
+	return ls, nil
+}
+
 // ReadQTable reads the Q table of the state file at path (see StateInfo.Table).
 func ReadQTable(path string, info StateInfo) ([]QRow, error) {
 	if info.Table == "" {

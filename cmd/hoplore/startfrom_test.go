@@ -66,6 +66,19 @@ func TestTrainThenStartFrom(t *testing.T) {
 		}
 	}
 
+	// shards merged carry their states along
+	train := filepath.Join(dir, "train.yaml")
+	for _, k := range []string{"SLURM_ARRAY_TASK_ID", "SLURM_ARRAY_TASK_COUNT", "SLURM_ARRAY_TASK_MIN", "SLURM_ARRAY_TASK_MAX", "SLURM_ARRAY_TASK_STEP"} {
+		t.Setenv(k, "")
+	}
+	s0, s1, merged := filepath.Join(dir, "s0"), filepath.Join(dir, "s1"), filepath.Join(dir, "merged")
+	hop(t, 0, "run", train, "--out", s0, "--shard", "0/2", "--quiet")
+	hop(t, 0, "run", train, "--out", s1, "--shard", "1/2", "--quiet")
+	hop(t, 0, "merge", merged, s0, s1)
+	if ms, err := results.ReadStates(merged); err != nil || len(ms) != 4 {
+		t.Errorf("merged shards hold %d state files (%v), want 4", len(ms), err)
+	}
+
 	test := func(name, agents string) string {
 		return write(name, strings.Replace(strings.Replace(trainYAML, "name: train", "name: "+strings.TrimSuffix(name, ".yaml"), 1),
 			"agents:\n  - {kind: q-routing, label: trainee}\n  - {kind: q-network, hidden: [4], label: net}\n  - shortest-path\n", agents, 1))
