@@ -167,6 +167,38 @@ func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string,
 		fmt.Fprintf(tw, "%s\t%s: %s, %s, diameter %d\n", head, t.Label,
 			checkPlural(len(t.Graph.Nodes), "node"), checkPlural(len(t.Graph.Links), "link"), t.Net.Diameter())
 	}
+	if tr := e.Traffic; tr.Matrix == "file" {
+		demands := 0
+		for _, p := range tr.Periods {
+			demands += len(p.Demands)
+		}
+		if tr.Replay {
+			matrices := 0
+			for _, p := range tr.Periods {
+				if len(p.Demands) > 0 {
+					matrices++
+				}
+			}
+			end := tr.Periods[len(tr.Periods)-1]
+			fmt.Fprintf(tw, "traffic\ta replay of %s (%s) from %v", checkPlural(matrices, "matrix"), checkPlural(demands, "demand"), time.Duration(tr.Periods[0].At))
+			switch {
+			case len(end.Demands) > 0:
+				fmt.Fprintf(tw, ", the last from %v until the run ends", time.Duration(end.At))
+			case end.At < e.Duration:
+				fmt.Fprintf(tw, " to %v; nothing is sent from then to the end of the run (%v)", time.Duration(end.At), time.Duration(e.Duration))
+			case end.At > e.Duration:
+				fmt.Fprintf(tw, " to %v; the run ends at %v, before the replay does", time.Duration(end.At), time.Duration(e.Duration))
+			default:
+				fmt.Fprintf(tw, " to %v, the end of the run", time.Duration(end.At))
+			}
+			fmt.Fprintln(tw)
+		} else {
+			fmt.Fprintf(tw, "traffic\ta matrix file of %s\n", checkPlural(demands, "demand"))
+		}
+	}
+	if n := len(e.Conditions); n > 0 {
+		fmt.Fprintf(tw, "conditions\t%s changing links over time\n", checkPlural(n, "row"))
+	}
 	for i, a := range e.Agents {
 		head := ""
 		if i == 0 {
@@ -204,6 +236,8 @@ func checkPlural(n int, word string) string {
 	switch {
 	case strings.HasSuffix(word, "y"):
 		word = strings.TrimSuffix(word, "y") + "ies"
+	case strings.HasSuffix(word, "x"):
+		word = strings.TrimSuffix(word, "x") + "ces" // matrix
 	default:
 		word += "s"
 	}
