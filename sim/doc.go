@@ -18,6 +18,13 @@
 // detect after the schedule's detection delay, and link-state news floods
 // to every node at detection plus the propagation distance.
 //
+// Traffic.Periods replace the whole matrix at given times (a replay of
+// measured matrices), followed exactly by thinning from each source's peak.
+// Config.Conditions change a link's bandwidth, delay or per-packet loss
+// probability from given times on; a packet lost to loss is dropped with
+// reason link_loss after its transmission, from the channel's own random
+// stream.
+//
 // Flow traffic (Traffic.FlowGen) adds transfers: flows start as Poisson
 // processes per pair, their sizes drawn from heavy-tailed distributions
 // (Pareto, lognormal, a mix of classes, an empirical CDF), each cut into
