@@ -42,12 +42,35 @@ func LoadCurves(d *Data, metricName string) ([]LoadPanel, error) {
 	return loadCurves(d, k), nil
 }
 
-// loadCurves aggregates Run.Values[k].
-func loadCurves(d *Data, k int) []LoadPanel {
+// cellEstimates returns, per cell, the mean of Run.Values[k] across its
+// replicates with its 95% Student t half-width (stats.MeanCI95); for a cell
+// of one run and a column with a one-run interval (results.Column.OneRunCI)
+// the half-width is that run's own.
+func cellEstimates(d *Data, k int) map[Cell]stats.Estimate {
 	vals := map[Cell][]float64{}
+	one := map[Cell]float64{}
+	ci := -1
+	if k >= 0 && k < len(results.Runs.Columns) && results.Runs.Columns[k].OneRunCI != "" {
+		ci = results.Runs.Index(results.Runs.Columns[k].OneRunCI)
+	}
 	for _, r := range d.Runs {
 		vals[r.Cell] = append(vals[r.Cell], r.at(k))
+		one[r.Cell] = r.at(ci)
 	}
+	out := make(map[Cell]stats.Estimate, len(vals))
+	for c, v := range vals {
+		e := stats.MeanCI95(v)
+		if len(v) == 1 && e.N == 1 && ci >= 0 {
+			e.CI95 = one[c]
+		}
+		out[c] = e
+	}
+	return out
+}
+
+// loadCurves aggregates Run.Values[k].
+func loadCurves(d *Data, k int) []LoadPanel {
+	vals := cellEstimates(d, k)
 	var out []LoadPanel
 	for _, topo := range d.Topologies() {
 		for _, fail := range d.Failures() {
@@ -55,11 +78,11 @@ func loadCurves(d *Data, k int) []LoadPanel {
 			for _, ag := range d.Agents() {
 				c := Curve{Agent: ag}
 				for _, load := range d.Loads() {
-					v, ok := vals[Cell{topo, ag, load, fail}]
+					e, ok := vals[Cell{topo, ag, load, fail}]
 					if !ok {
 						continue
 					}
-					c.Points = append(c.Points, Point{X: load, Est: stats.MeanCI95(v)})
+					c.Points = append(c.Points, Point{X: load, Est: e})
 				}
 				if len(c.Points) > 0 {
 					lp.Curves = append(lp.Curves, c)
@@ -399,10 +422,9 @@ func CellTable(d *Data, metricName string) ([]TableRow, error) {
 
 // cellTable tabulates Run.Values[k].
 func cellTable(d *Data, k int) []TableRow {
-	vals := map[Cell][]float64{}
+	vals := cellEstimates(d, k)
 	panels := map[Panel]bool{}
 	for _, r := range d.Runs {
-		vals[r.Cell] = append(vals[r.Cell], r.at(k))
 		panels[Panel{r.Topology, r.Load, r.Failure}] = true
 	}
 	var ps []Panel
@@ -416,12 +438,12 @@ func cellTable(d *Data, k int) []TableRow {
 		row := TableRow{Panel: p, Est: make([]stats.Estimate, len(agents)), Best: make([]bool, len(agents))}
 		best := math.Inf(1)
 		for i, ag := range agents {
-			v, ok := vals[Cell{p.Topology, ag, p.Load, p.Failure}]
+			e, ok := vals[Cell{p.Topology, ag, p.Load, p.Failure}]
 			if !ok {
 				row.Est[i] = stats.Estimate{Mean: math.NaN(), CI95: math.NaN()}
 				continue
 			}
-			row.Est[i] = stats.MeanCI95(v)
+			row.Est[i] = e
 			if m := row.Est[i].Mean; !math.IsNaN(m) && m < best {
 				best = m
 			}

@@ -65,3 +65,26 @@ func TestLearningCurves(t *testing.T) {
 		t.Errorf("max 0: got %d panels, %d more", len(lps), more)
 	}
 }
+
+// A cell of one replicate takes the run's own batch-means interval for the
+// mean delivery time (results.Column.OneRunCI), and none for other columns.
+func TestOneRunInterval(t *testing.T) {
+	d := &Data{Dir: "x", Experiment: "x"}
+	d.Runs = []Run{NewRun(Cell{Topology: "ring", Agent: "a", Load: 0.5, Failure: "none"}, 0,
+		map[string]float64{"delivery_mean_s": 0.02, "delivery_mean_s_ci95": 0.001, "delivery_p95_s": 0.05, "loss_rate": 0.01})}
+	rows, err := CellTable(d, "delivery_mean_s")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := rows[0].Est[0]; e.Mean != 0.02 || e.CI95 != 0.001 {
+		t.Errorf("delivery mean: got %v ± %v, want 0.02 ± 0.001", e.Mean, e.CI95)
+	}
+	lps, err := LoadCurves(d, "delivery_mean_s")
+	if err != nil || lps[0].Curves[0].Points[0].Est.CI95 != 0.001 {
+		t.Errorf("load curve: got %+v (%v), want the run's half-width 0.001", lps, err)
+	}
+	rows, _ = CellTable(d, "delivery_p95_s")
+	if e := rows[0].Est[0]; !math.IsNaN(e.CI95) {
+		t.Errorf("p95 of one run: half-width %v, want none", e.CI95)
+	}
+}
