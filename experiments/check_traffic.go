@@ -90,7 +90,11 @@ func (c *checker) traffic(e *Experiment) error {
 			return err
 		}
 	}
-	if t.Flows.Set {
+	if t.Flows.Gen != nil {
+		if err := c.flows(e); err != nil {
+			return err
+		}
+	} else if t.Flows.Set {
 		if t.Flows.V < 1 || t.Flows.V > 1<<20 {
 			return c.errf(t.Flows.Pos, "traffic.flows: must be in 1..1048576, got %d", t.Flows.V)
 		}

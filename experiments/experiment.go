@@ -110,6 +110,9 @@ type Topology struct {
 
 	shape [][]float64 // traffic matrix before scaling
 	scale float64     // SaturationScale of shape
+	// flowScale is SaturationScale of shape in flows per second (mean flow
+	// size), with flow traffic.
+	flowScale float64
 	// shapeTotal and shapeHops are the sums of shape and of shape × hop
 	// count over all pairs, for estimates.
 	shapeTotal, shapeHops float64
@@ -131,6 +134,8 @@ type Traffic struct {
 	Size     sim.SizeDist
 	Redraw   bool
 	Flows    int // flow labels per pair; 0 means sim.DefaultFlows
+	// FlowGen is flow traffic, nil without; see FlowTraffic.
+	FlowGen *FlowTraffic
 	// Phases scale every rate from a time on: load that rises or falls
 	// during a run.
 	Phases []sim.RatePhase

@@ -221,6 +221,9 @@ func (t *Topology) prepare(e *Experiment) error {
 		return nil
 	}
 	t.scale = sim.SaturationScale(n, t.shape, e.Traffic.Size.Mean())
+	if g := e.Traffic.FlowGen; g != nil {
+		t.flowScale = sim.SaturationScale(n, t.shape, g.Size.Mean())
+	}
 	t.shapeTotal, t.shapeHops = 0, 0
 	for s, row := range t.shape {
 		hs := n.Hops[s]
@@ -253,7 +256,63 @@ func (r *Run) factor() float64 {
 	if math.IsNaN(r.load) {
 		return 1
 	}
-	return r.load * r.Topology.scale
+	f := r.load * r.Topology.scale
+	if g := r.Exp.Traffic.FlowGen; g != nil && g.Share > 0 {
+		f *= 1 - g.Share
+	}
+	return f
+}
+
+// FlowRates returns the run's flow traffic in flows per second per pair,
+// nil without flow traffic. With a share X of a cell's load L, flows of the
+// matrix's shape offer normalised load X·L by themselves and the packets
+// (1−X)·L; as both follow the same shape over the same hop-count paths,
+// the busiest channel carries L in all (normalised load counts bytes:
+// packets times their mean size plus flows times theirs). With arrivals,
+// each source starts that many flows per second, spread over
+// destinations in its row's proportions.
+func (r *Run) FlowRates() [][]float64 {
+	g := r.Exp.Traffic.FlowGen
+	if g == nil {
+		return nil
+	}
+	t := r.Topology
+	if g.Share > 0 {
+		f := g.Share * t.flowScale
+		if !math.IsNaN(r.load) {
+			f *= r.load
+		}
+		return scaled(t.shape, f)
+	}
+	out := make([][]float64, len(t.shape))
+	for s, row := range t.shape {
+		var sum float64
+		for d, v := range row {
+			if d != s {
+				sum += v
+			}
+		}
+		out[s] = make([]float64, len(row))
+		if sum == 0 {
+			continue
+		}
+		for d, v := range row {
+			if d != s {
+				out[s][d] = g.Arrivals * v / sum
+			}
+		}
+	}
+	return out
+}
+
+// flowGen returns the run's sim flow traffic, nil without.
+func (r *Run) flowGen() *sim.FlowGen {
+	g := r.Exp.Traffic.FlowGen
+	if g == nil {
+		return nil
+	}
+	return &sim.FlowGen{Rates: r.FlowRates(), Size: g.Size, RateLimit: g.RateLimit, PacketBytes: g.PacketBytes,
+		MiceBytes: g.MiceBytes, ElephantBytes: g.ElephantBytes}
 }
 
 func scaled(m [][]float64, f float64) [][]float64 {
@@ -303,6 +362,7 @@ func (r *Run) Config() (*sim.Config, error) {
 			Redraw:  e.Traffic.Redraw,
 			Flows:   e.Traffic.Flows,
 			Phases:  e.Traffic.Phases,
+			FlowGen: r.flowGen(),
 		},
 		Failures:   r.Failures(),
 		Conditions: t.conditions,
@@ -388,6 +448,21 @@ func (r *Run) size() agents.RunSize {
 		f = r.load * t.scale
 	}
 	total := t.shapeTotal * f
+	if g := r.Exp.Traffic.FlowGen; g != nil {
+		if g.Share > 0 {
+			total *= 1 - g.Share
+		}
+		// flow packets per second: flows per second times packets per flow
+		pkt := float64(g.PacketBytes)
+		if pkt == 0 {
+			pkt = sim.DefaultFlowPacketBytes
+		}
+		for _, row := range r.FlowRates() {
+			for _, v := range row {
+				total += v * math.Ceil(g.Size.Mean()/pkt)
+			}
+		}
+	}
 	meanHops := 0.0
 	if t.shapeTotal > 0 {
 		meanHops = t.shapeHops / t.shapeTotal

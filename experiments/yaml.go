@@ -335,8 +335,91 @@ type trafficYAML struct {
 	Hotspot    hotspotYAML      `yaml:"hotspot"`
 	PacketSize sizeYAML         `yaml:"packet_size"`
 	Loads      seq[yamlx.Float] `yaml:"loads"`
-	Flows      yamlx.Int        `yaml:"flows"`
+	Flows      flowsYAML        `yaml:"flows"`
 	Phases     seq[phaseYAML]   `yaml:"phases"`
+}
+
+// flowsYAML is traffic.flows: a number of flow labels per pair, or a
+// mapping of flow traffic.
+type flowsYAML struct {
+	yamlx.Int
+	Gen *flowGenYAML
+}
+
+// DecodesAs implements yamlx.Container.
+func (f *flowsYAML) DecodesAs() reflect.Type { return reflect.TypeFor[flowGenYAML]() }
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (f *flowsYAML) UnmarshalYAML(n ast.Node) error {
+	if _, ok := mappingPairs(n); !ok {
+		return f.Int.UnmarshalYAML(n)
+	}
+	type plain flowGenYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	g := flowGenYAML(p)
+	g.Pos = nodePos(n)
+	f.Gen = &g
+	return nil
+}
+
+// flowGenYAML is flow traffic: {arrivals | share, size, rate_limit, ...}.
+type flowGenYAML struct {
+	Pos           yamlx.Pos       `yaml:"-"`
+	Arrivals      yamlx.Rate      `yaml:"arrivals"`
+	Share         yamlx.Float     `yaml:"share"`
+	Size          flowSizeYAML    `yaml:"size"`
+	RateLimit     yamlx.Bandwidth `yaml:"rate_limit"`
+	PacketBytes   yamlx.Int       `yaml:"packet_bytes"`
+	MiceBytes     yamlx.Float     `yaml:"mice_bytes"`
+	ElephantBytes yamlx.Float     `yaml:"elephant_bytes"`
+}
+
+// flowSizeYAML is traffic.flows.size.
+type flowSizeYAML struct {
+	Pos       yamlx.Pos              `yaml:"-"`
+	Set       bool                   `yaml:"-"`
+	Dist      yamlx.String           `yaml:"dist"`
+	Bytes     yamlx.Float            `yaml:"bytes"`
+	MeanBytes yamlx.Float            `yaml:"mean_bytes"`
+	Shape     yamlx.Float            `yaml:"shape"`
+	Mu        yamlx.Float            `yaml:"mu"`
+	Sigma     yamlx.Float            `yaml:"sigma"`
+	Classes   seq[flowSizeClassYAML] `yaml:"classes"`
+	File      yamlx.String           `yaml:"file"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (s *flowSizeYAML) UnmarshalYAML(n ast.Node) error {
+	type plain flowSizeYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*s = flowSizeYAML(p)
+	s.Pos, s.Set = nodePos(n), true
+	return nil
+}
+
+// flowSizeClassYAML is one class of a mix of flow sizes.
+type flowSizeClassYAML struct {
+	Pos      yamlx.Pos   `yaml:"-"`
+	Fraction yamlx.Float `yaml:"fraction"`
+	Bytes    yamlx.Float `yaml:"bytes"`
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (q *flowSizeClassYAML) UnmarshalYAML(n ast.Node) error {
+	type plain flowSizeClassYAML
+	var p plain
+	if err := yamlx.DecodeNode(n, &p); err != nil {
+		return err
+	}
+	*q = flowSizeClassYAML(p)
+	q.Pos = nodePos(n)
+	return nil
 }
 
 // matrixYAML is traffic.matrix: a bundled matrix's name, or a mapping
