@@ -157,6 +157,10 @@ func (c *checker) matrixFile(e *Experiment) error {
 // rate matrices (packets per second, before any load scaling).
 func (c *checker) matrixFilePeriods(e *Experiment, t *Topology) error {
 	N := len(t.Graph.Nodes)
+	index := make(map[string]int, N)
+	for i, n := range t.Graph.Nodes {
+		index[n.Name] = i
+	}
 	t.periods = make([][][]float64, len(e.Traffic.Periods))
 	for k, p := range e.Traffic.Periods {
 		m := make([][]float64, N)
@@ -164,11 +168,11 @@ func (c *checker) matrixFilePeriods(e *Experiment, t *Topology) error {
 			m[i] = make([]float64, N)
 		}
 		for _, d := range p.Demands {
-			s, ok := t.Graph.NodeIndex(d.From)
+			s, ok := index[d.From]
 			if !ok {
 				return d.at(false, "source: topology %q has no node %q", t.Label, d.From)
 			}
-			v, ok := t.Graph.NodeIndex(d.To)
+			v, ok := index[d.To]
 			if !ok {
 				return d.at(true, "target: topology %q has no node %q", t.Label, d.To)
 			}

@@ -67,16 +67,28 @@ func (c *checker) resolve(e *Experiment, t *Topology) error {
 		return c.errf(c.at.traffic, "traffic: topology %q: %v", t.Label, err)
 	}
 	t.conditions = nil
-	for _, cd := range e.Conditions {
-		a, okA := g.NodeIndex(cd.A)
-		b, okB := g.NodeIndex(cd.B)
-		idx, okL := g.LinkIndex(a, b)
-		if !okA || !okB || !okL {
-			return cd.at("topology %q has no link %s-%s", t.Label, cd.A, cd.B)
+	if len(e.Conditions) > 0 {
+		index := make(map[string]int, len(g.Nodes))
+		for i, n := range g.Nodes {
+			index[n.Name] = i
 		}
-		t.conditions = append(t.conditions, sim.LinkCondition{At: cd.At, Link: idx, Bandwidth: cd.Bandwidth,
-			Delay: cd.Delay, SetDelay: cd.SetDelay, Loss: cd.Loss, SetLoss: cd.SetLoss})
+		links := make(map[[2]int]int, len(g.Links))
+		for i := len(g.Links) - 1; i >= 0; i-- { // the first link of a pair wins
+			l := g.Links[i]
+			links[[2]int{min(l.A, l.B), max(l.A, l.B)}] = i
+		}
+		for _, cd := range e.Conditions {
+			a, okA := index[cd.A]
+			b, okB := index[cd.B]
+			idx, okL := links[[2]int{min(a, b), max(a, b)}]
+			if !okA || !okB || !okL {
+				return cd.at("topology %q has no link %s-%s", t.Label, cd.A, cd.B)
+			}
+			t.conditions = append(t.conditions, sim.LinkCondition{At: cd.At, Link: idx, Bandwidth: cd.Bandwidth,
+				Delay: cd.Delay, SetDelay: cd.SetDelay, Loss: cd.Loss, SetLoss: cd.SetLoss})
+		}
 	}
+
 	t.failures, t.scheduled = nil, nil
 	names := map[string]bool{}
 	for i, fl := range e.Failures {
