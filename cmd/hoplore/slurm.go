@@ -65,8 +65,8 @@ func runSlurm(d *deps, arg string, o *slurmOptions) error {
 	if o.tasks < 1 {
 		return badInput(fmt.Errorf("slurm: --tasks %d: want at least 1", o.tasks))
 	}
-	if o.cpus < 1 {
-		return badInput(fmt.Errorf("slurm: --cpus-per-task %d: want at least 1", o.cpus))
+	if o.cpus < 1 || o.cpus > maxWorkers {
+		return badInput(fmt.Errorf("slurm: --cpus-per-task %d: want 1 to %d", o.cpus, maxWorkers))
 	}
 	if strings.ContainsAny(o.partition+o.time, " \t\n'\"$`\\") {
 		return badInput(errors.New("slurm: --partition and --time take a single word"))
