@@ -30,8 +30,9 @@
 //     that can be null, ",optional" in the tag);
 //  2. add its Column to Runs.Columns: Unit, Label, Doc, and Summary
 //     (MeanCI95 gives <name>_mean and <name>_ci95 in summary.parquet and a
-//     column in the run summary table; Sum gives <name>_sum) and Charted
-//     (a chart and a table in the report, a metric of compare) as wanted;
+//     column in the run summary table; Sum gives <name>_sum; Same keeps a
+//     value of the cell under its own name) and Charted (a chart and a
+//     table in the report, a metric of compare) as wanted;
 //  3. compute it in FromRun.
 //
 // Parts written before the column existed read it as zero or null. The
