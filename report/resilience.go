@@ -139,11 +139,17 @@ var resilienceMeasures = []struct {
 // ecdf returns the steps of the empirical distribution function of the
 // non-NaN values of x over all len(x) of them (a NaN, such as "never
 // settled", counts in the denominator only, so the curve ends below 1).
-func ecdf(x []float64, scale float64) plotter.XYs {
+// With floor > 0 the values are drawn on a log axis: x is log10(max(v,
+// floor)).
+func ecdf(x []float64, scale, floor float64) plotter.XYs {
 	var v []float64
 	for _, y := range x {
 		if !math.IsNaN(y) {
-			v = append(v, y*scale)
+			y *= scale
+			if floor > 0 {
+				y = math.Log10(math.Max(y, floor))
+			}
+			v = append(v, y)
 		}
 	}
 	slices.Sort(v)
@@ -172,17 +178,31 @@ func resilienceChart(res []AgentResilience, agents []string, load float64) *char
 		row := make([]*plot.Plot, len(resilienceMeasures))
 		for m, ms := range resilienceMeasures {
 			var hi float64
+			lo := math.Inf(1) // least positive value
 			for _, a := range res {
 				for i := range a.Elements {
 					if v := ms.get(&a.Elements[i]); !math.IsNaN(v) {
 						hi = math.Max(hi, v)
+						if v > 0 {
+							lo = math.Min(lo, v)
+						}
 					}
 				}
 			}
 			scale, unit := 1.0, ""
 			if ms.time {
 				scale, unit = timeUnit(hi)
-				unit = " (" + unit + ")"
+				unit = " (" + unit
+			}
+			// times spanning more than a factor 30 go on a log axis, zeros
+			// drawn at half the least positive value
+			floor := 0.0
+			if ms.time && hi > 30*lo {
+				floor = lo * scale / 2
+				unit += ", log scale; 0 drawn at the left edge"
+			}
+			if ms.time {
+				unit += ")"
 			}
 			p := newPanel(th, ms.label, ms.label+unit, "fraction of single failures")
 			for _, a := range res {
@@ -190,7 +210,7 @@ func resilienceChart(res []AgentResilience, agents []string, load float64) *char
 				for i := range a.Elements {
 					vals[i] = ms.get(&a.Elements[i])
 				}
-				pts := ecdf(vals, scale)
+				pts := ecdf(vals, scale, floor)
 				if len(pts) == 0 {
 					continue
 				}
@@ -199,7 +219,11 @@ func resilienceChart(res []AgentResilience, agents []string, load float64) *char
 					p.Add(l)
 				}
 			}
-			setRange(&p.X, 0, hi*scale*1.05, false)
+			if floor > 0 {
+				setRange(&p.X, floor*1.25, hi*scale, true) // setRange pads by 1.25 either side
+			} else {
+				setRange(&p.X, 0, hi*scale*1.05, false)
+			}
 			setRange(&p.Y, 0, 1, false)
 			row[m] = p
 		}

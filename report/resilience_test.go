@@ -44,7 +44,7 @@ func TestResilience(t *testing.T) {
 	}
 	// the ECDF counts a missing value in the denominator only: values 2,
 	// NaN, 1 give steps to 1/3 at 1 and 2/3 at 2
-	pts := ecdf([]float64{2, nan, 1}, 1)
+	pts := ecdf([]float64{2, nan, 1}, 1, 0)
 	want := []struct{ x, y float64 }{{1, 0}, {1, 1.0 / 3}, {2, 1.0 / 3}, {2, 2.0 / 3}}
 	if len(pts) != len(want) {
 		t.Fatalf("ecdf points %v", pts)
