@@ -3,6 +3,7 @@ package results
 import (
 	"bytes"
 	"errors"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -152,5 +153,41 @@ func TestBindRefusesMismatch(t *testing.T) {
 			}()
 			bind(&Table{Name: "test", File: "test.parquet", Columns: tc.cols}, reflect.TypeFor[row]())
 		})
+	}
+}
+
+// summary.parquet is read by column name: a file written before a column
+// existed reads it as null, and a column this version does not know is
+// ignored.
+func TestReadSummaryOlderFile(t *testing.T) {
+	type oldRow struct {
+		CellDims
+		Replicates int      `parquet:"replicates"`
+		LossMean   *float64 `parquet:"loss_rate_mean,optional"`
+		Retired    *float64 `parquet:"retired_column_mean,optional"`
+	}
+	v := 0.25
+	path := filepath.Join(t.TempDir(), SummaryFile)
+	err := writeFileAtomic(path, func(w io.Writer) error {
+		return writeTable(w, []oldRow{{CellDims{Experiment: "e", Agent: "a", Load: 0.5}, 3, &v, &v}}, Meta{}.kv(tableSummary))
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, err := ReadSummary(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 1 || rows[0].Agent != "a" || rows[0].Load != 0.5 || rows[0].Replicates != 3 {
+		t.Fatalf("got %+v", rows)
+	}
+	if m, h := rows[0].MeanCI95("loss_rate"); m == nil || *m != 0.25 || h != nil {
+		t.Errorf("loss_rate: got %v %v, want 0.25 and null", m, h)
+	}
+	if m, _ := rows[0].MeanCI95("delivery_mean_s"); m != nil {
+		t.Errorf("a column the file lacks reads %v, want null", *m)
+	}
+	if len(rows[0].Values) != len(Summaries.Columns)-1 {
+		t.Errorf("%d values, want %d", len(rows[0].Values), len(Summaries.Columns)-1)
 	}
 }
