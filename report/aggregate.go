@@ -483,12 +483,13 @@ func (g *GlanceRow) DelayRatio(mean float64) float64 {
 	return mean / g.Optimum.DelayMean
 }
 
-// ExtraLoss returns an agent's loss rate above the optimum's: below the
-// load limit the model optimum loses nothing, so the whole loss rate is
-// routing's doing; at or above it the optimum's own loss is not computed
-// and the result is NaN.
+// ExtraLoss returns an agent's loss rate above the optimum's: without
+// failures and below the load limit the model optimum loses nothing, so the
+// whole loss rate is routing's doing. At or above the limit the optimum's
+// own loss is not computed, and under a failure schedule a cut can force
+// loss below it: the result is then NaN.
 func (g *GlanceRow) ExtraLoss(loss float64) float64 {
-	if !(g.Load < g.Optimum.LoadLimit) {
+	if g.Failure != "none" || !(g.Load < g.Optimum.LoadLimit) {
 		return math.NaN()
 	}
 	return loss

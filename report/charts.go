@@ -121,7 +121,8 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 	}
 	notes := []string{"lines: mean across replicates; bands: 95% confidence interval (Student t)"}
 	if len(refs) > 0 {
-		notes = append(notes, "grey dashed: model optimum (best splittable routing, M/M/1 channels); dotted: load limit of any routing")
+		notes = append(notes, "grey dashed: model optimum (best splittable routing, intact topology)",
+			"grey dotted: load limit, the highest load any routing could carry")
 	}
 	legend := agentLegend(agents, idx, notes...)
 	return &chart{ID: id, Title: title, Caption: caption, build: func(th theme) *figure {
@@ -143,6 +144,9 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 			setRange(&p.X, xlo, xhi, false)
 			setRange(&p.Y, lo*ax.scale, hi*ax.scale, ax.logY)
 			if ref, ok := refs[lp.Topology]; ok {
+				if ref.intactOnly && lp.Failure != "none" {
+					ref.line = nil
+				}
 				addOptimum(p, th, ref, ax.scale, ax.logY, xlo, xhi, p.Y.Min, p.Y.Max)
 			}
 			f.panels[slices.Index(topos, lp.Topology)][slices.Index(fails, lp.Failure)] = p

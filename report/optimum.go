@@ -71,13 +71,17 @@ func estimateOf(v float64) stats.Estimate { return stats.Estimate{Mean: v, CI95:
 type optimumRef struct {
 	line  []Point
 	limit float64
+	// intactOnly: the line holds only without failures (the optimum's zero
+	// loss: a failure can force loss even below the intact load limit).
+	intactOnly bool
 }
 
 // optimumRefs returns, per topology, the reference of the charted column
 // col: for delivery_mean_s the optimum's mean delivery time at each load;
 // for loss_rate zero at the loads below the load limit (no routing need
-// lose anything there, in the model); for both and for delivery_p95_s the
-// load limit. Other columns get none.
+// lose anything there, in the model), drawn on the panels without
+// failures only; for both and for delivery_p95_s the load limit. Other
+// columns get none.
 func optimumRefs(d *Data, col string) map[string]optimumRef {
 	if col != "delivery_mean_s" && col != "loss_rate" && col != "delivery_p95_s" {
 		return nil
@@ -96,6 +100,7 @@ func optimumRefs(d *Data, col string) map[string]optimumRef {
 			ref.line = append(ref.line, Point{X: o.Load, Est: estimateOf(o.DelayMean)})
 		case col == "loss_rate" && o.Load < o.LoadLimit:
 			ref.line = append(ref.line, Point{X: o.Load, Est: estimateOf(0)})
+			ref.intactOnly = true
 		}
 		out[o.Topology] = ref
 	}
@@ -142,18 +147,32 @@ func addOptimum(p *plot.Plot, th theme, ref optimumRef, yscale float64, logY boo
 			p.Add(lb)
 		}
 	}
-	if lim := ref.limit; !math.IsNaN(lim) && lim >= xlo && lim <= xhi && yhi > ylo {
+	lim := ref.limit
+	switch {
+	case math.IsNaN(lim) || !(yhi > ylo):
+	case lim >= xlo && lim <= xhi:
 		v := plotter.XYs{{X: lim, Y: ylo}, {X: lim, Y: yhi}}
 		if l, err := plotter.NewLine(v); err == nil {
 			l.LineStyle = draw.LineStyle{Color: th.muted, Width: vg.Points(0.9), Dashes: []vg.Length{vg.Points(1.5), vg.Points(2)}}
 			p.Add(l)
 		}
-		if lb, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: lim, Y: yhi}}, Labels: []string{"load limit"}}); err == nil {
-			ts := textStyle(th.muted, 7)
-			ts.XAlign, ts.YAlign = draw.XRight, draw.YTop
-			lb.TextStyle = []text.Style{ts}
-			lb.Offset = vg.Point{X: -vg.Points(2)}
-			p.Add(lb)
-		}
+		addNote(p, th, lim, yhi, "load limit", draw.XRight, draw.YTop, -vg.Points(2))
+	case lim > xhi: // beyond the loads run: say where, low in the panel
+		addNote(p, th, xhi, ylo, "load limit "+fmtNum(lim)+" →", draw.XRight, draw.YBottom, -vg.Points(2))
+	default:
+		addNote(p, th, xlo, ylo, "← load limit "+fmtNum(lim), draw.XLeft, draw.YBottom, vg.Points(2))
 	}
+}
+
+// addNote writes a small muted label at (x, y) with the given alignment.
+func addNote(p *plot.Plot, th theme, x, y float64, s string, align draw.XAlignment, valign draw.YAlignment, dx vg.Length) {
+	lb, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: x, Y: y}}, Labels: []string{s}})
+	if err != nil {
+		return
+	}
+	ts := textStyle(th.muted, 7)
+	ts.XAlign, ts.YAlign = align, valign
+	lb.TextStyle = []text.Style{ts}
+	lb.Offset = vg.Point{X: dx, Y: vg.Points(2)}
+	p.Add(lb)
 }
