@@ -276,7 +276,7 @@ var Links = &Table{Name: "links", File: LinksFile, Doc: "one directed channel of
 	{Name: "link", Label: "link", Doc: "index of the link in the topology"},
 	{Name: "from", Label: "from", Doc: "sending node"},
 	{Name: "to", Label: "to", Doc: "receiving node"},
-	{Name: "bandwidth_bps", Unit: "bit/s", Label: "bandwidth", Doc: "bandwidth of the channel"},
+	{Name: "bandwidth_bps", Unit: "bit/s", Label: "bandwidth", Doc: "bandwidth of the channel at the start of the run (link conditions may change it later)"},
 	{Name: "delay_s", Unit: "s", Label: "delay", Doc: "propagation delay of the channel"},
 	{Name: "util", Unit: "1", Label: "utilisation", Doc: "fraction of the measured window spent transmitting"},
 	{Name: "packets", Unit: "packets", Label: "packets", Doc: "packets transmitted"},

@@ -41,15 +41,18 @@ func TestSquareDistanceDensity(t *testing.T) {
 	}
 }
 
-// E[exp(−d/λ)] against a Monte Carlo estimate with 10^6 pairs: the
-// estimate's standard error is at most 0.5/1000, so z = 3.29 gives a
-// tolerance of 3.29·sd/√n, with sd measured on the sample.
+// E[exp(−d/λ)] against a Monte Carlo estimate with n = 10^6 pairs (10^5
+// with -short): z = 3.29 gives a tolerance of 3.29·sd/√n, with sd measured
+// on the sample.
 func TestMeanWaxmanProb(t *testing.T) {
 	r := rand.New(rand.NewPCG(11, 12))
+	n := 1000000.0
+	if testing.Short() {
+		n = 100000 // the tolerance follows n
+	}
 	for _, lambda := range []float64{0.01, 0.1, 1} {
-		const n = 1000000
 		var s, s2 float64
-		for range n {
+		for range int(n) {
 			d := math.Hypot(r.Float64()-r.Float64(), r.Float64()-r.Float64())
 			p := math.Exp(-d / lambda)
 			s += p
@@ -105,7 +108,11 @@ func TestDrawWaxmanSparseProbabilities(t *testing.T) {
 	}
 	lambda *= side
 	bands := []float64{0, 2 * lambda, 4 * lambda, 8 * lambda, math.Inf(1)}
-	for seed := range uint64(3) {
+	seeds := uint64(3)
+	if testing.Short() {
+		seeds = 1
+	}
+	for seed := range seeds {
 		s := drawWaxmanSparse(rand.New(rand.NewPCG(seed, 99)), n, beta, lambda, side)
 		got := make([]float64, len(bands)-1)
 		mean := make([]float64, len(bands)-1)
