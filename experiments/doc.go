@@ -90,12 +90,21 @@
 //	  detection    default 50ms, ≥ 0: time until the end nodes notice a link change
 //	  events       [{at: DURATION in [0, duration), link: [A, B] | node: N | group: G,
 //	               action: down | up}, ...]; each element alternates down, up, ... in time
-//	  groups       {G: [[A, B], [C, D], ...]}: shared-risk groups, links that fail together
+//	  groups       {G: [[A, B], [C, D], ...]}: shared-risk groups, links that fail together;
+//	               or G: {within_km: R > 0, of: NODE}: every link with an end within R km
+//	               of NODE by the topology's coordinates (an error if none, or if NODE has
+//	               no coordinates)
 //	  random       {scope: links (default) | nodes, mtbf: DURATION, mttr: DURATION}: every
 //	               element alternates exponential up times (mean mtbf) and down times
 //	               (mean mttr) for the whole run, drawn from the run's seed
-//	             a mapping needs events, random or both. Event and group names must exist
-//	             in every topology of the file (checked before anything runs)
+//	             a mapping needs events, random or both, or each. Event and group names must
+//	             exist in every topology of the file (checked before anything runs)
+//	  each         links | nodes | groups: a family of single failures, with at (required),
+//	               until (optional, > at), sample: N and seed: S (optional), groups, detection
+//	               and name (default each-KIND) but no events or random: on each topology
+//	               one schedule per element (links and nodes in topology order, groups in
+//	               file order; N of them drawn without replacement with sample), named
+//	               NAME/a-b, NAME/n or NAME/G, the element down at at and up at until
 //	conditions   optional {file: PATH, bandwidth_scale: F (default 1)}: link conditions
 //	             over time for every run, a CSV or Parquet table of t, a, b and
 //	             bandwidth, delay or loss (package demands): from t on the link a–b

@@ -11,6 +11,8 @@
 //	links.parquet         one row per run and channel      (LinkRow)
 //	recoveries.parquet    one row per run and failure event (RecoveryRow)
 //	summary.parquet       one row per cell                 (SummaryRow)
+//	state/<run_id>.json   a learning run's final state (StateInfo), with
+//	state/<run_id>.qtable.parquet  its Q table (QRow) for a tabular learner
 //
 // # Schema
 //
