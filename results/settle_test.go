@@ -178,3 +178,44 @@ func TestRecoveryRowBridgeBypass(t *testing.T) {
 		t.Errorf("dropped_unreachable %d, loss_rate_reachable %v, loss_rate %v", tb.Run.DroppedUnreachable, tb.Run.LossRateReachable, tb.Run.LossRate)
 	}
 }
+
+// A destination fails for good (triangle a–b–c, a→b and c→a, 1000 B every
+// 10 ms at 1 Mbit/s, link-state routing; worked in sim's
+// TestReconnectHandWorked): every packet for b from 5.010 s to the end at
+// 12 s is unreachable (700, exact), none reachable is lost, and since c→a
+// is delivered as before, the reachable traffic has recovered at once:
+// recovery_s = 0, where counting b's packets as loss would make it null.
+func TestRecoveryRowDestinationDown(t *testing.T) {
+	const ms = sim.Millisecond
+	link := func(a, b int) sim.Link { return sim.Link{A: a, B: b, Bandwidth: 1e6, Delay: ms, Buffer: 50} }
+	g := &sim.Graph{Name: "triangle", Links: []sim.Link{link(0, 1), link(0, 2), link(1, 2)}}
+	for _, n := range []string{"a", "b", "c"} {
+		g.Nodes = append(g.Nodes, sim.Node{Name: n})
+	}
+	net := sim.Compile(g)
+	p := agents.Defaults(agents.ShortestPathKind)
+	p.SPFDelay = 100 * ms
+	a, err := agents.New(p, net)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := &sim.Config{Net: net, Agent: a, Seed: 1, Duration: 12 * sim.Second, Warmup: sim.Second, Bin: 500 * ms,
+		Traffic: sim.Traffic{Rates: [][]float64{{0, 100, 0}, {0, 0, 0}, {100, 0, 0}}, Periodic: true, Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}},
+		Failures: sim.Failures{Detection: 50 * ms, Events: []sim.FailureEvent{
+			{At: 5*sim.Second + 9500*sim.Microsecond, Node: 1, Element: "b"}}}}
+	r, err := sim.Run(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tb := results.FromRun(resultstest.Dims("shortest-path", 0.1, 0), net, cfg, r, 0, "v-test")
+	row := tb.Recoveries[0]
+	if row.LostUnreachable != 700 || row.LostReachable != 0 || row.ReconnectS != 0 {
+		t.Errorf("lost unreachable %d, reachable %d, reconnect_s %g; want 700, 0, 0", row.LostUnreachable, row.LostReachable, row.ReconnectS)
+	}
+	if row.RecoveryS == nil || *row.RecoveryS != 0 {
+		t.Errorf("recovery_s %v, want 0", row.RecoveryS)
+	}
+	if tb.Run.DroppedUnreachable != 700 || tb.Run.LossRateReachable == nil || *tb.Run.LossRateReachable != 0 {
+		t.Errorf("dropped_unreachable %d, loss_rate_reachable %v; want 700, 0", tb.Run.DroppedUnreachable, tb.Run.LossRateReachable)
+	}
+}
