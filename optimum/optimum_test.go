@@ -250,6 +250,31 @@ func randomInstance(rng *rand.Rand) (optimum.Network, [][]float64) {
 	return net, dem
 }
 
+// failLink gives both channels of one random link capacity 0 (failed)
+// when the network stays strongly connected without it.
+func failLink(rng *rand.Rand, net *optimum.Network) {
+	l := rng.IntN(len(net.Channels) / 2)
+	saved := net.Channels[2*l].Capacity
+	net.Channels[2*l].Capacity, net.Channels[2*l+1].Capacity = 0, 0
+	// Links are symmetric, so reaching every node from 0 is enough.
+	seen := make([]bool, net.Nodes)
+	seen[0] = true
+	for changed := true; changed; {
+		changed = false
+		for _, ch := range net.Channels {
+			if ch.Capacity > 0 && seen[ch.From] && !seen[ch.To] {
+				seen[ch.To], changed = true, true
+			}
+		}
+	}
+	for _, ok := range seen {
+		if !ok {
+			net.Channels[2*l].Capacity, net.Channels[2*l+1].Capacity = saved, saved
+			return
+		}
+	}
+}
+
 // lpMinMax solves the least maximum utilisation exactly as a linear
 // program with gonum's simplex (an independent general-purpose solver):
 // variables x[k][e] (flow towards k on channel e), λ and one slack per
@@ -324,8 +349,10 @@ func checkRouting(t *testing.T, s *optimum.Solver, dem [][]float64) {
 }
 
 // TestAgainstSimplex compares the least maximum utilisation with the exact
-// LP optimum from gonum's simplex on random small instances: the LP value
-// must lie inside [Lower, Util] and Util within ε of it.
+// LP optimum from gonum's simplex on random small instances (every second
+// one with a failed link: capacity 0): the LP value must lie inside
+// [Lower, Util] and Util within ε of it, and the splits must avoid the
+// failed link.
 func TestAgainstSimplex(t *testing.T) {
 	rng := rand.New(rand.NewPCG(15, 1))
 	const eps = 0.01
@@ -335,6 +362,9 @@ func TestAgainstSimplex(t *testing.T) {
 	}
 	for i := 0; i < n; i++ {
 		net, dem := randomInstance(rng)
+		if i%2 == 1 {
+			failLink(rng, &net)
+		}
 		s, err := optimum.NewSolver(net)
 		if err != nil {
 			t.Fatal(err)
@@ -353,7 +383,11 @@ func TestAgainstSimplex(t *testing.T) {
 		checkRouting(t, s, dem)
 		var m float64
 		for e, f := range s.Load() {
-			m = math.Max(m, f/net.Channels[e].Capacity)
+			if c := net.Channels[e].Capacity; c > 0 {
+				m = math.Max(m, f/c)
+			} else if f != 0 {
+				t.Errorf("instance %d: %v packets/s on failed channel %d", i, f, e)
+			}
 		}
 		if math.Abs(m-r.Util) > 1e-9*r.Util {
 			t.Errorf("instance %d: routing's max utilisation %v, reported %v", i, m, r.Util)
@@ -398,7 +432,7 @@ func checkSplits(t *testing.T, s *optimum.Solver, dem [][]float64) {
 			}
 			var sum float64
 			for _, x := range sp.At(v, d) {
-				if x.Weight <= 0 || net.Channels[x.Channel].From != v {
+				if x.Weight <= 0 || net.Channels[x.Channel].From != v || net.Channels[x.Channel].Capacity == 0 {
 					t.Fatalf("bad split %+v at %d towards %d", x, v, d)
 				}
 				sum += x.Weight
