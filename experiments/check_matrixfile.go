@@ -92,11 +92,9 @@ func (c *checker) matrixFile(e *Experiment) error {
 			}
 			tr.Periods = append(tr.Periods, MatrixPeriod{At: compress(time.Duration(i) * m.Period.D), Demands: convert(tb, tb.Rows)})
 		}
-		tr.Replay = len(tr.Periods) > 1
-		if tr.Replay {
-			// after the last file's period, nothing
-			tr.Periods = append(tr.Periods, MatrixPeriod{At: compress(time.Duration(len(m.Files.Items)) * m.Period.D)})
-		}
+		// after the last file's period, nothing
+		tr.Periods = append(tr.Periods, MatrixPeriod{At: compress(time.Duration(len(m.Files.Items)) * m.Period.D)})
+		tr.Replay = true
 	default:
 		tb, err := read(m.File, "traffic.matrix.file")
 		if err != nil {

@@ -217,3 +217,19 @@ func TestConditionsFile(t *testing.T) {
 		t.Errorf("got %v", err)
 	}
 }
+
+// files: plays each file for period/speedup, then nothing.
+func TestMatrixFilesList(t *testing.T) {
+	exp := writeFiles(t, "e.yaml", "name: list\nduration: 10s\n"+lineTopology+
+		"traffic:\n  matrix: {files: [a.csv, b.csv], period: 2s, unit: /s}\n",
+		"a.csv", "source,target,rate\nArvenport,Dunmere,10\n", "b.csv", "source,target,rate\nDunmere,Arvenport,5\n")
+	e, err := Load(exp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ps := e.Runs()[0].Periods()
+	if len(ps) != 3 || ps[0].At != 0 || ps[1].At != 2*sim.Second || ps[2].At != 4*sim.Second ||
+		ps[0].Rates[0][3] != 10 || ps[1].Rates[3][0] != 5 || ps[2].Rates[3][0] != 0 {
+		t.Errorf("periods %+v", ps)
+	}
+}
