@@ -62,6 +62,7 @@ func (s *Solver) Splits(dst *Splits) {
 	for d := 0; d < N; d++ {
 		f := s.yk[d*E : (d+1)*E]
 		s.cancelCycles(d, f)
+		s.dropDeadEnds(d, f)
 		s.towards(d, s.lengths)
 		for v := 0; v < N; v++ {
 			dst.start[d*N+v] = int32(len(dst.list))
@@ -92,6 +93,37 @@ func (s *Solver) Splits(dst *Splits) {
 		}
 	}
 	dst.start[N*N] = int32(len(dst.list))
+}
+
+// dropDeadEnds zeroes the flow into every node other than d that sends
+// none on (rounding residue of the solvers, or what minShare dropped), and
+// again for the nodes that this leaves sending none, until every node with
+// flow in has flow out. Then no flow channel enters a node that takes its
+// next hop from the cheapest-path tree, so those next hops cannot close a
+// loop with the flow's acyclic channels. Cost O(N·E) at worst.
+func (s *Solver) dropDeadEnds(d int, f []float64) {
+	for changed := true; changed; {
+		changed = false
+		for v := 0; v < s.net.Nodes; v++ {
+			if v == d {
+				continue
+			}
+			var out float64
+			for _, c := range s.out[s.outStart[v]:s.outStart[v+1]] {
+				out += f[c]
+			}
+			if out > 0 {
+				continue
+			}
+			arcs, _ := s.graph.In(v)
+			for _, c := range arcs {
+				if f[c] != 0 {
+					f[c] = 0
+					changed = true
+				}
+			}
+		}
+	}
 }
 
 // sortSplits orders a node's splits by channel index (insertion sort: a
