@@ -197,6 +197,21 @@ func (m transientMarks) Plot(c draw.Canvas, p *plot.Plot) {
 	}
 }
 
+// meanRange returns the smallest and largest mean of the curves' points:
+// with few replicates a 95% band can be far wider than the curves, and
+// axes that followed it would flatten them.
+func meanRange(curves []Curve) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, c := range curves {
+		for _, p := range c.Points {
+			if v := p.Est.Mean; !math.IsNaN(v) && !math.IsInf(v, 0) {
+				lo, hi = math.Min(lo, v), math.Max(hi, v)
+			}
+		}
+	}
+	return lo, hi
+}
+
 // learningChart draws, one row per panel, each agent's delivery time (left)
 // and loss (right) per bin over the whole run, with the warm-up and the
 // detected transients marked.
@@ -206,10 +221,10 @@ func learningChart(id, title, caption string, lps []LearningPanel, agents []stri
 	for _, lp := range lps {
 		delays = append(delays, lp.Delivery...)
 	}
-	_, dhi := valueRange(delays)
+	_, dhi := meanRange(delays)
 	scale, unit := timeUnit(dhi)
 	legend := agentLegend(agents, idx,
-		"lines: mean across replicates per bin (warm-up included); bands: 95% CI",
+		"lines: mean across replicates per bin (warm-up included); bands: 95% CI (cut at the panel's edge: the axes follow the means)",
 		"solid vertical: the warm-up; dashed, in an agent's colour: the longest initial transient MSER-5 detected in its runs")
 	return &chart{ID: id, Title: title, Caption: caption, build: func(th theme) *figure {
 		f := &figure{panelW: panelW, panelH: panelH, legend: legend}
@@ -227,17 +242,17 @@ func learningChart(id, title, caption string, lps []LearningPanel, agents []stri
 			for _, c := range lp.Delivery {
 				addCurve(pd, c, styleFor(idx[c.Agent]), scale, false, false)
 			}
-			lo, hi := valueRange(lp.Delivery)
+			lo, hi := meanRange(lp.Delivery)
 			setRange(&pd.X, 0, xhi, false)
-			setRange(&pd.Y, math.Min(0, lo*scale), hi*scale*1.05, false)
+			setRange(&pd.Y, math.Min(0, lo*scale), hi*scale*1.1, false)
 			pd.Add(marks)
 			pl := newPanel(th, head+": loss", "time since the start of the run (s)", "loss per bin (% of packets generated)")
 			for _, c := range lp.Loss {
 				addCurve(pl, c, styleFor(idx[c.Agent]), 100, false, false)
 			}
-			_, lhi := valueRange(lp.Loss)
+			_, lhi := meanRange(lp.Loss)
 			setRange(&pl.X, 0, xhi, false)
-			setRange(&pl.Y, 0, math.Max(lhi*100, 1), false)
+			setRange(&pl.Y, 0, math.Min(math.Max(lhi*100*1.1, 1), 100), false)
 			pl.Add(marks)
 			f.panels = append(f.panels, []*plot.Plot{pd, pl})
 		}
