@@ -129,7 +129,7 @@ func Build(d *Data, o Options) (*Report, error) {
 	o = o.withDefaults(d.Dir)
 	r := &Report{Data: d, options: o}
 	agents := d.Agents()
-	for _, c := range results.Charted() {
+	for _, c := range chartedColumns(d) {
 		t := textFor(c)
 		r.charts = append(r.charts, loadChart(t.id, t.title, t.caption, loadCurves(d, results.Runs.Index(c.Name)), agents, c, optimumRefs(d, c.Name)))
 	}
@@ -209,7 +209,7 @@ func Build(d *Data, o Options) (*Report, error) {
 	}
 	uniqueIDs(r.charts)
 	r.Glance = Glance(d)
-	for _, c := range results.Charted() {
+	for _, c := range chartedColumns(d) {
 		t := textFor(c)
 		r.tables = append(r.tables, makeTable("table-"+t.id, t.table, c, agents, cellTable(d, results.Runs.Index(c.Name))))
 	}
@@ -499,4 +499,24 @@ func ratioText(v float64) string {
 		return "–"
 	}
 	return "×" + stats.Sig(v, 3)
+}
+
+// chartedColumns returns the runs.parquet columns drawn against load: the
+// charted ones, then the flow-traffic ones when some run of d holds a value.
+func chartedColumns(d *Data) []*results.Column {
+	out := results.Charted()
+	for i := range results.Runs.Columns {
+		c := &results.Runs.Columns[i]
+		if !c.FlowOnly {
+			continue
+		}
+		k := results.Runs.Index(c.Name)
+		for j := range d.Runs {
+			if !math.IsNaN(d.Runs[j].at(k)) {
+				out = append(out, c)
+				break
+			}
+		}
+	}
+	return out
 }

@@ -65,6 +65,9 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.ControlBytes = r.ControlBytes
 	run.ControlDropped = r.ControlDropped
 	run.RouteChanges = r.RouteChanges
+	if f := r.Flows; f != nil {
+		flowColumns(run, f)
+	}
 	run.FailureEvents = len(r.Failures)
 	run.Events = r.Events
 	run.WallS = wall
@@ -201,4 +204,32 @@ func finite(v float64) *float64 {
 		return nil
 	}
 	return &v
+}
+
+// flowColumns fills the flow-traffic columns of run from f.
+func flowColumns(run *RunRow, f *sim.FlowResult) {
+	run.FlowsStarted, run.FlowsCompleted, run.FlowsFailed = f.Started, f.Completed, f.Failed
+	fct, sd := sim.NewHistogram(), sim.NewHistogram()
+	var fctSum, sdSum float64
+	for k := range f.Classes {
+		c := &f.Classes[k]
+		if c.FCT != nil {
+			fct.Merge(c.FCT)
+			sd.Merge(c.Slowdown)
+		}
+		fctSum += c.FCTSum
+		sdSum += c.SlowdownSum
+	}
+	run.FCTMeanS = ratio(fctSum, f.Completed)
+	run.FCTP99S = quantile(fct, 0.99)
+	run.SlowdownMean = ratio(sdSum, sd.Count())
+	run.SlowdownP99 = quantile(sd, 0.99)
+	mice, el := &f.Classes[sim.Mice], &f.Classes[sim.Elephant]
+	run.FCTMiceMeanS = ratio(mice.FCTSum, mice.Completed)
+	run.FCTElephantMeanS = ratio(el.FCTSum, el.Completed)
+	if mice.Slowdown != nil {
+		run.SlowdownMiceMean = ratio(mice.SlowdownSum, mice.Slowdown.Count())
+		run.SlowdownElephantMean = ratio(el.SlowdownSum, el.Slowdown.Count())
+	}
+	run.ReorderedFraction = ratio(float64(f.Reordered), f.Delivered)
 }

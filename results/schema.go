@@ -59,6 +59,10 @@ type Column struct {
 	// interval by batch means); summary.parquet's <name>_ci95 takes it for
 	// a cell of one replicate instead of leaving it null.
 	OneRunCI string
+	// FlowOnly columns describe flow traffic: text tables leave them out
+	// and the report draws them (against load, like Charted ones, but not
+	// in compare) only when some run holds a value.
+	FlowOnly bool
 	// Label is a short name for table heads and chart axes, without unit.
 	Label string
 	// Doc says what the column holds, in one sentence.
@@ -211,6 +215,13 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "delivery_p95_s", Unit: "s", Summary: MeanCI95, Charted: true, Label: "delivery p95", Doc: "95th percentile of delivery time (histogram, relative error ≤ 0.1%); null if none"},
 	{Name: "loss_rate", Unit: "1", Summary: MeanCI95, Charted: true, Label: "loss", Doc: "dropped / generated over the measured window; null if nothing was generated"},
 	{Name: "throughput_bps", Unit: "bit/s", Summary: MeanCI95, Label: "throughput", Doc: "delivered measured bits over the measured window (duration − warmup)"},
+	{Name: "fct_mean_s", Unit: "s", Summary: MeanCI95, FlowOnly: true, Label: "flow completion time", Doc: "mean completion time (first packet sent to last delivered) of the flows started after the warm-up that completed; null without flow traffic"},
+	{Name: "fct_mice_mean_s", Unit: "s", Summary: MeanCI95, FlowOnly: true, Label: "flow completion time, mice", Doc: "fct_mean_s of the mice (flows of at most mice_bytes); null if none completed"},
+	{Name: "fct_elephant_mean_s", Unit: "s", Summary: MeanCI95, FlowOnly: true, Label: "flow completion time, elephants", Doc: "fct_mean_s of the elephants (flows of at least elephant_bytes); null if none completed"},
+	{Name: "slowdown_mean", Summary: MeanCI95, FlowOnly: true, Label: "slowdown", Doc: "mean over completed flows of completion time / completion time alone on the idle network along the hop-count shortest path; null without flow traffic"},
+	{Name: "slowdown_mice_mean", Summary: MeanCI95, FlowOnly: true, Label: "slowdown, mice", Doc: "slowdown_mean of the mice; null if none completed"},
+	{Name: "slowdown_elephant_mean", Summary: MeanCI95, FlowOnly: true, Label: "slowdown, elephants", Doc: "slowdown_mean of the elephants; null if none completed"},
+	{Name: "reordered_fraction", Unit: "1", Summary: MeanCI95, FlowOnly: true, Label: "reordered", Doc: "delivered packets of measured flows that arrived below the next expected sequence number (reordered, RFC 4737), over those delivered; null without flow traffic"},
 
 	{Name: "nodes", Label: "nodes", Doc: "nodes of the topology"},
 	{Name: "links", Label: "links", Doc: "links of the topology (each two directed channels)"},
@@ -249,6 +260,11 @@ var Runs = &Table{Name: "runs", File: RunsFile, Doc: "one run", Columns: []Colum
 	{Name: "opt_delay_mean_s", Unit: "s", Summary: Same, Label: "optimum: delivery mean", Doc: "least mean delivery time of any splittable routing under the model of M/M/1 channels with propagation; null when no routing keeps every channel below saturation, or not computed"},
 	{Name: "opt_util_gap", Unit: "1", Summary: Same, Label: "optimum: max utilisation gap", Doc: "certified relative gap of opt_util_max: opt_util_max / (its proven lower bound) − 1"},
 	{Name: "opt_delay_gap", Unit: "1", Summary: Same, Label: "optimum: delivery mean gap", Doc: "certified relative gap of opt_delay_mean_s: opt_delay_mean_s / (its proven lower bound) − 1; null with opt_delay_mean_s"},
+	{Name: "flows_started", Label: "flows started", Doc: "flows started at or after the warm-up (0 without flow traffic)"},
+	{Name: "flows_completed", Label: "flows completed", Doc: "measured flows whose every packet was delivered"},
+	{Name: "flows_failed", Label: "flows failed", Doc: "measured flows that lost a packet or whose source failed while sending; the rest were unfinished at the end"},
+	{Name: "fct_p99_s", Unit: "s", Label: "flow completion time p99", Doc: "99th percentile of the completed measured flows' completion times (histogram, relative error ≤ 0.1%); null if none"},
+	{Name: "slowdown_p99", Label: "slowdown p99", Doc: "99th percentile of the completed measured flows' slowdowns (histogram, relative error ≤ 0.1%); null if none"},
 	{Name: "failure_events", Label: "failure events", Doc: "failure events in the run"},
 	{Name: "events", Unit: "events", Label: "events", Doc: "simulation events processed"},
 	{Name: "wall_s", Unit: "s", Label: "wall time", Doc: "wall-clock time of the run: the one column that differs between two executions"},

@@ -23,7 +23,7 @@ import (
 func WriteSummary(w io.Writer, rows []results.SummaryRow) error {
 	var cols []*results.Column
 	for _, c := range results.Summarized() {
-		if c.Summary == results.MeanCI95 {
+		if c.Summary == results.MeanCI95 && (!c.FlowOnly || anyMean(rows, c.Name)) {
 			cols = append(cols, c)
 		}
 	}
@@ -59,4 +59,14 @@ func estimate(mean, half *float64) stats.Estimate {
 		e.CI95 = *half
 	}
 	return e
+}
+
+// anyMean reports whether some row holds a mean of column name.
+func anyMean(rows []results.SummaryRow, name string) bool {
+	for i := range rows {
+		if m, _ := rows[i].MeanCI95(name); m != nil {
+			return true
+		}
+	}
+	return false
 }
