@@ -53,5 +53,9 @@
 // Every count in a Result covers data packets generated after the warm-up,
 // and Run verifies conservation: generated = delivered + dropped + in
 // flight. Delivery-time percentiles come from a mergeable log-bucketed
-// Histogram with relative error at most 0.1%.
+// Histogram with relative error at most 0.1%; the delivery times are also
+// kept in equal Batches, in order of delivery, for a steady-state interval
+// from the run alone (package stats). The time Series covers the whole
+// run, warm-up included, so that the approach to steady state (a learning
+// agent's learning) can be seen and its end detected.
 package sim
