@@ -1,0 +1,236 @@
+package xcheck
+
+import (
+	"context"
+	"errors"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/parquet-go/parquet-go"
+
+	"hoplore/experiments"
+	"hoplore/sweep"
+)
+
+// canon returns a value in a form both readers agree on: integers as
+// int64 (bit pattern for unsigned), floats by their bits, strings, booleans,
+// nil for null.
+func canon(x any) any {
+	switch v := x.(type) {
+	case int32:
+		return int64(v)
+	case uint32:
+		return int64(v)
+	case uint64:
+		return int64(v)
+	case float32:
+		return math.Float64bits(float64(v))
+	case float64:
+		return math.Float64bits(v)
+	case []byte:
+		return string(v)
+	}
+	return x
+}
+
+func arrowValue(t *testing.T, a arrow.Array, i int) any {
+	if a.IsNull(i) {
+		return nil
+	}
+	switch c := a.(type) {
+	case *array.String:
+		return c.Value(i)
+	case *array.LargeString:
+		return c.Value(i)
+	case *array.Binary:
+		return string(c.Value(i))
+	case *array.Int64:
+		return c.Value(i)
+	case *array.Int32:
+		return c.Value(i)
+	case *array.Uint64:
+		return c.Value(i)
+	case *array.Uint32:
+		return c.Value(i)
+	case *array.Float64:
+		return c.Value(i)
+	case *array.Float32:
+		return c.Value(i)
+	case *array.Boolean:
+		return c.Value(i)
+	case *array.Dictionary:
+		return arrowValue(t, c.Dictionary(), c.GetValueIndex(i))
+	}
+	t.Fatalf("unexpected arrow array type %s", a.DataType())
+	return nil
+}
+
+func parquetGoValue(v parquet.Value) any {
+	if v.IsNull() {
+		return nil
+	}
+	switch v.Kind() {
+	case parquet.Boolean:
+		return v.Boolean()
+	case parquet.Int32:
+		return v.Int32()
+	case parquet.Int64:
+		return v.Int64()
+	case parquet.Float:
+		return v.Float()
+	case parquet.Double:
+		return v.Double()
+	case parquet.ByteArray, parquet.FixedLenByteArray:
+		return string(v.ByteArray())
+	}
+	return v.String()
+}
+
+// readParquetGo reads every column of a flat Parquet file with parquet-go.
+func readParquetGo(t *testing.T, path string) (names []string, cols [][]any) {
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	st, _ := f.Stat()
+	pf, err := parquet.OpenFile(f, st.Size())
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	for _, c := range pf.Schema().Columns() {
+		names = append(names, strings.Join(c, "."))
+	}
+	cols = make([][]any, len(names))
+	for _, rg := range pf.RowGroups() {
+		rows := rg.Rows()
+		buf := make([]parquet.Row, 128)
+		for {
+			n, err := rows.ReadRows(buf)
+			for _, row := range buf[:n] {
+				for _, v := range row {
+					cols[v.Column()] = append(cols[v.Column()], canon(parquetGoValue(v)))
+				}
+			}
+			if errors.Is(err, io.EOF) {
+				break
+			}
+			if err != nil {
+				t.Fatalf("%s: %v", path, err)
+			}
+		}
+		rows.Close()
+	}
+	return names, cols
+}
+
+// TestArrowReadsEveryFileOfASweep runs a small sweep through the tool
+// (failures, learning and central agents, the model optimum) and reads every
+// Parquet file of its results folder with both parquet-go and Apache
+// arrow-go (an independent implementation): the same columns, row counts,
+// nulls and values, the table name in every file's metadata and the
+// experiment hash in every result table's.
+func TestArrowReadsEveryFileOfASweep(t *testing.T) {
+	y := `name: xcheck-sweep
+duration: 12s
+warmup: 2s
+bin: 1s
+replicates: 2
+seed: 3
+topologies: [{name: ring, nodes: 6}]
+traffic:
+  matrix: uniform
+  loads: [0.5, 1.2]
+  packet_size: {dist: fixed, bytes: 1000}
+agents:
+  - shortest-path
+  - q-routing
+  - {kind: central-adaptive, every: 2s}
+failures:
+  - none
+  - {name: cut, events: [{at: 5s, link: [n0, n1], action: down}, {at: 8s, link: [n0, n1], action: up}]}
+`
+	e, err := experiments.Parse("xcheck-sweep.yaml", []byte(y))
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	oc, err := sweep.Execute(context.Background(), e, sweep.Options{Out: dir, Workers: 2, Quiet: true, Version: "xcheck"})
+	if err != nil || !oc.Complete {
+		t.Fatalf("sweep: %v (complete %v)", err, oc != nil && oc.Complete)
+	}
+	var files []string
+	filepath.WalkDir(dir, func(p string, d os.DirEntry, err error) error {
+		if err == nil && strings.HasSuffix(p, ".parquet") {
+			files = append(files, p)
+		}
+		return nil
+	})
+	if len(files) < 5 {
+		t.Fatalf("%d Parquet files: %v", len(files), files)
+	}
+	for _, path := range files {
+		name := filepath.Base(path)
+		pgNames, pgCols := readParquetGo(t, path)
+		rdr, err := file.OpenParquetFile(path, false)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		kv := rdr.MetaData().KeyValueMetadata()
+		if tb := kv.FindValue("hoplore.table"); tb == nil || *tb == "" {
+			t.Errorf("%s: no hoplore.table in its metadata", name)
+		}
+		// the result tables (not the learned state beside them) name the experiment
+		if filepath.Dir(path) == dir {
+			if h := kv.FindValue("hoplore.experiment_hash"); h == nil || *h != e.Hash {
+				t.Errorf("%s: experiment hash %v, want %s", name, h, e.Hash)
+			}
+		}
+		fr, err := pqarrow.NewFileReader(rdr, pqarrow.ArrowReadProperties{BatchSize: 4096}, memory.DefaultAllocator)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		tbl, err := fr.ReadTable(context.Background())
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if int(tbl.NumCols()) != len(pgNames) {
+			t.Fatalf("%s: arrow reads %d columns, parquet-go %d", name, tbl.NumCols(), len(pgNames))
+		}
+		for ci := 0; ci < int(tbl.NumCols()); ci++ {
+			if got := tbl.Schema().Field(ci).Name; got != pgNames[ci] {
+				t.Errorf("%s: column %d is %q for arrow, %q for parquet-go", name, ci, got, pgNames[ci])
+			}
+			row := 0
+			for _, chunk := range tbl.Column(ci).Data().Chunks() {
+				for i := 0; i < chunk.Len(); i++ {
+					got := canon(arrowValue(t, chunk, i))
+					if row >= len(pgCols[ci]) || got != pgCols[ci][row] {
+						t.Fatalf("%s.%s row %d: arrow %v, parquet-go %v", name, pgNames[ci], row, got, pgCols[ci][min(row, len(pgCols[ci])-1)])
+					}
+					row++
+				}
+			}
+			if row != len(pgCols[ci]) || row == 0 && name != "recoveries.parquet" {
+				t.Errorf("%s.%s: %d rows for arrow, %d for parquet-go", name, pgNames[ci], row, len(pgCols[ci]))
+			}
+		}
+		tbl.Release()
+		rdr.Close()
+	}
+	t.Logf("%d files cross-read: %v", len(files), func() (n []string) {
+		for _, f := range files {
+			n = append(n, filepath.Base(f))
+		}
+		return
+	}())
+}
