@@ -169,3 +169,18 @@ func commitTables(dir string, files []*atomicfile.File, m Manifest) error {
 // before the first table is renamed into place; returning true stops the
 // commit there, as a kill would.
 var testHookTables func(files []*atomicfile.File) bool
+
+// Extra is a table that Finalize writes with the others, in the same set
+// (the manifest covers it): File is its name in the result folder, Write
+// writes the whole table with meta's key-value metadata.
+type Extra struct {
+	File  string
+	Write func(w io.Writer, meta Meta) error
+}
+
+// ExtraTable returns an Extra that writes rows as the named table.
+func ExtraTable[T any](file, table string, rows []T) Extra {
+	return Extra{File: file, Write: func(w io.Writer, meta Meta) error {
+		return writeTable(w, rows, meta.kv(table))
+	}}
+}

@@ -152,7 +152,7 @@ func ReadPart(dir, id string) (*RunTables, error) {
 //
 // Cost: one read of every part; memory: the runs rows plus one row group
 // of each table.
-func Finalize(dir string, order []string, meta Meta) error {
+func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 	if order == nil {
 		var err error
 		if order, err = partOrder(dir); err != nil {
@@ -227,6 +227,15 @@ func Finalize(dir string, order []string, meta Meta) error {
 	}
 	if err := writeSummary(sf, Summarize(runs), meta.kv(tableSummary)); err != nil {
 		return fail(fmt.Errorf("results: writing %s: %w", sf.Path(), err))
+	}
+	for _, x := range extras {
+		xf, err := create(x.File)
+		if err != nil {
+			return fail(err)
+		}
+		if err := x.Write(xf, meta); err != nil {
+			return fail(fmt.Errorf("results: writing %s: %w", xf.Path(), err))
+		}
 	}
 	return commitTables(dir, files, Manifest{
 		Experiment: meta.Experiment, ExperimentHash: meta.ExperimentHash,

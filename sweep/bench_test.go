@@ -174,7 +174,7 @@ func BenchmarkResume(b *testing.B) {
 	})
 	b.Run("finalize", func(b *testing.B) {
 		for i := 0; i < b.N; i++ {
-			oc, err := executeTables(context.Background(), meta, units, Options{Out: dir, Workers: 2, Quiet: true})
+			oc, err := executeTables(context.Background(), meta, units, Options{Out: dir, Workers: 2, Quiet: true}, nil)
 			if err != nil || oc.Skipped != n || !oc.Complete {
 				b.Fatalf("%v %+v", err, oc)
 			}

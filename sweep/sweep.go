@@ -85,19 +85,23 @@ func Execute(ctx context.Context, e *experiments.Experiment, opts Options) (*Out
 		units[i] = &expUnit{r: r, version: opts.Version, opt: opt}
 	}
 	meta := results.Meta{Version: opts.Version, Experiment: e.Name, ExperimentHash: e.Hash, Runs: len(runs)}
-	oc, err := executeTables(ctx, meta, units, opts)
-	if err != nil || !oc.Complete || !e.Optimum.Compute {
-		return oc, err
+	var extras func() ([]results.Extra, error)
+	if e.Optimum.Compute {
+		extras = func() ([]results.Extra, error) { // optimum.parquet, in the same set as the other tables
+			rows, err := optimumRows(e, opt)
+			if err != nil {
+				return nil, err
+			}
+			return []results.Extra{results.ExtraTable(results.OptimumFile, results.TableOptimum, rows)}, nil
+		}
 	}
-	rows, err := optimumRows(e, opt)
-	if err == nil {
-		err = results.WriteTable(filepath.Join(opts.Out, results.OptimumFile), results.TableOptimum, meta, rows)
-	}
-	return oc, err
+	return executeTables(ctx, meta, units, opts, extras)
 }
 
 // executeTables is Execute on any units producing result tables.
-func executeTables(ctx context.Context, meta results.Meta, units []unit[*results.RunTables], opts Options) (*Outcome, error) {
+// extras, when not nil, gives the tables written with the others when the
+// folder is complete.
+func executeTables(ctx context.Context, meta results.Meta, units []unit[*results.RunTables], opts Options, extras func() ([]results.Extra, error)) (*Outcome, error) {
 	p, sh, err := makePlan(units, opts)
 	if err != nil {
 		return nil, err
@@ -121,7 +125,7 @@ func executeTables(ctx context.Context, meta results.Meta, units []unit[*results
 			eo.prog = &lineReporter{w: opts.Progress, every: every, label: label}
 		}
 	}
-	st := &resultsStore{meta: meta}
+	st := &resultsStore{meta: meta, extras: extras}
 	oc, err := execute(ctx, p, st, eo)
 	if oc != nil {
 		oc.Rejected = st.rejected
@@ -188,6 +192,7 @@ type resultsStore struct {
 	meta     results.Meta
 	verified bool     // parts checked (first List)
 	rejected []string // parts moved aside as damaged or foreign
+	extras   func() ([]results.Extra, error)
 }
 
 func (s *resultsStore) Check(dir string) error { return results.CheckDir(dir, s.meta.ExperimentHash) }
@@ -210,5 +215,12 @@ func (s *resultsStore) Write(dir string, t *results.RunTables) error {
 	return results.WritePart(dir, t)
 }
 func (s *resultsStore) Finalize(dir string, order []string) error {
-	return results.Finalize(dir, order, s.meta)
+	var xs []results.Extra
+	if s.extras != nil {
+		var err error
+		if xs, err = s.extras(); err != nil {
+			return err
+		}
+	}
+	return results.Finalize(dir, order, s.meta, xs...)
 }

@@ -18,6 +18,7 @@ import (
 	"github.com/parquet-go/parquet-go"
 
 	"hoplore/experiments"
+	"hoplore/results"
 	"hoplore/sweep"
 )
 
@@ -177,6 +178,20 @@ failures:
 	})
 	if len(files) < 5 {
 		t.Fatalf("%d Parquet files: %v", len(files), files)
+	}
+	// every result table is in the set the manifest verifies
+	m, err := results.CheckTables(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	listed := map[string]bool{}
+	for _, tb := range m.Tables {
+		listed[tb.File] = true
+	}
+	for _, p := range files {
+		if filepath.Dir(p) == dir && !listed[filepath.Base(p)] {
+			t.Errorf("%s is not in %s", filepath.Base(p), results.ManifestFile)
+		}
 	}
 	for _, path := range files {
 		name := filepath.Base(path)
