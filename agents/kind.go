@@ -225,6 +225,7 @@ func Register(k Kind) {
 	if _, dup := registry[k.Name]; dup {
 		panic(fmt.Sprintf("agents: kind %q registered twice", k.Name))
 	}
+	k.Fields = append(slices.Clone(k.Fields), pinField)
 	seen := map[string]bool{}
 	for _, f := range k.Fields {
 		if f.Name == "" || f.Name == "kind" || f.Name == "label" || seen[f.Name] || f.ptr == nil {

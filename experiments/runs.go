@@ -367,6 +367,7 @@ func (r *Run) Config() (*sim.Config, error) {
 		Failures:   r.Failures(),
 		Conditions: t.conditions,
 		Agent:      agent,
+		PinFlows:   r.Agent.Pin == agents.PinFlow,
 		Seed:       r.Dims.Seed,
 		AgentSeed:  r.AgentSeed,
 	}

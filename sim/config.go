@@ -15,6 +15,12 @@ type Config struct {
 	// Conditions change links' bandwidth, delay or loss from given times on.
 	Conditions []LinkCondition
 	Agent      Agent
+	// PinFlows makes the packets of a flow of flow traffic follow, at every
+	// node, the channel the flow's first packet to reach that node was sent
+	// on, while the node sees that channel up: per-flow decisions. The agent
+	// is still asked (and learns) for every packet; only the forwarding
+	// follows the pin.
+	PinFlows bool
 	// ControlDelay is the age of a central agent's telemetry and the delay
 	// before its tables take effect.
 	ControlDelay Time

@@ -634,6 +634,9 @@ func (e *engine) forward(node int, id int32) {
 		return
 	}
 	c := e.route(node, p)
+	if e.cfg.PinFlows && p.fl != 0 {
+		c = e.pinned(node, p, c)
+	}
 	if c == NoRoute {
 		e.drop(id, NoRouteDrop, -1)
 		return

@@ -396,6 +396,7 @@ type flowState struct {
 	measured  bool
 	stopped   bool
 	live      bool
+	path      []pinHop // with Config.PinFlows: the flow's channel at each node it reached
 }
 
 func (e *engine) initFlows() {
@@ -469,7 +470,8 @@ func (e *engine) startFlow(s int) {
 	}
 	e.fserial++
 	f := &e.fl[fi]
-	*f = flowState{src: int32(s), dst: int32(d), size: size,
+	path := f.path[:0] // keeps its storage: no allocation in the steady state
+	*f = flowState{path: path, src: int32(s), dst: int32(d), size: size,
 		npkts: int32((size + int64(e.fpkt) - 1) / int64(e.fpkt)), start: e.now, rate: fs.send,
 		label: uint32(Mix(uint64(s)<<32|uint64(d), e.fserial)), class: g.Class(float64(size)),
 		measured: e.now >= e.cfg.Warmup, live: true}
@@ -576,4 +578,31 @@ func (e *engine) endFlow(fi int32) {
 	}
 	f.live = false
 	e.ffree = append(e.ffree, fi)
+}
+
+// pinHop is one node's channel of a pinned flow.
+type pinHop struct{ node, ch int32 }
+
+// pinned returns the channel packet p of a flow follows at node: the one
+// recorded by the flow's first packet there while node sees it up, else
+// choice (the agent's), which is then recorded.
+func (e *engine) pinned(node int, p *Packet, choice int) int {
+	f := &e.fl[p.fl-1]
+	for i := range f.path {
+		h := &f.path[i]
+		if int(h.node) != node {
+			continue
+		}
+		if e.ch[h.ch].seenUp {
+			return int(h.ch)
+		}
+		if choice != NoRoute {
+			h.ch = int32(choice)
+		}
+		return choice
+	}
+	if choice != NoRoute {
+		f.path = append(f.path, pinHop{int32(node), int32(choice)})
+	}
+	return choice
 }

@@ -143,7 +143,9 @@ func (r *splitRouter) Route(p *sim.Packet) int {
 // per packet over a fast and a slow path whose delays differ by more than
 // the flow lasts delivers the even packets first, so the odd ones 1, 3, 5, 7
 // arrive below the next expected number (9 does not): exactly 4 reordered.
-// Pinned per flow, none.
+// Split by flow label, none; split per packet but pinned per flow by the
+// engine (Config.PinFlows: the first packet chooses, the rest follow),
+// none either.
 func TestFlowReordering(t *testing.T) {
 	g := &sim.Graph{Name: "diamond"}
 	for _, n := range []string{"a", "b", "c", "d"} {
@@ -158,11 +160,13 @@ func TestFlowReordering(t *testing.T) {
 	net := sim.Compile(g)
 	for _, c := range []struct {
 		pinned        bool
+		pinFlows      bool
 		wantPerFlow   int64
 		wantReordered bool
-	}{{false, 4, true}, {true, 0, false}} {
+	}{{false, false, 4, true}, {true, false, 0, false}, {false, true, 0, false}} {
 		cfg := flowCfg(t, net, 3, 0.2, sim.SizeDist{Kind: sim.Fixed, Bytes: 15_000}, 0, 200*sim.Second)
 		cfg.Agent = &splitter{net: net, pinned: c.pinned}
+		cfg.PinFlows = c.pinFlows
 		r, err := sim.Run(cfg)
 		if err != nil {
 			t.Fatal(err)
@@ -172,7 +176,7 @@ func TestFlowReordering(t *testing.T) {
 			t.Fatalf("completed %d, failed %d", f.Completed, f.Failed)
 		}
 		if f.Reordered != c.wantPerFlow*f.Completed || f.Delivered != 10*f.Completed {
-			t.Errorf("pinned %v: %d of %d packets reordered over %d flows, want %d per flow", c.pinned, f.Reordered, f.Delivered, f.Completed, c.wantPerFlow)
+			t.Errorf("pinned %v, pin flows %v: %d of %d packets reordered over %d flows, want %d per flow", c.pinned, c.pinFlows, f.Reordered, f.Delivered, f.Completed, c.wantPerFlow)
 		}
 		if got := f.ReorderedFlows == f.Completed; got != c.wantReordered {
 			t.Errorf("pinned %v: %d of %d flows reordered", c.pinned, f.ReorderedFlows, f.Completed)
