@@ -72,9 +72,12 @@ type Params struct {
 	Objective string // min-max-util | min-delay
 	Split     string // flow (by flow hash) | packet
 	// every kind: PinPacket (default) or PinFlow (see PinFlow)
-	Pin      string
-	MaxShift float64 // largest share of a (node, destination)'s traffic moved per install
-	Epsilon  float64 // relative gap at which the solver stops
+	Pin string
+	// q-routing: forwarding uses a snapshot of the tables taken every
+	// InstallEvery (0: the live tables)
+	InstallEvery sim.Time
+	MaxShift     float64 // largest share of a (node, destination)'s traffic moved per install
+	Epsilon      float64 // relative gap at which the solver stops
 
 	// MeanPacketBytes is the mean packet size of the run's traffic, used for
 	// zero-load time estimates; set by whoever builds the run, not read from

@@ -49,6 +49,7 @@ func init() {
 			giveUpField(),
 			learningField(),
 			startFromField(),
+			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
 		},
 		New: newQRouting,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -202,6 +203,13 @@ func (a *QRouting) Node(v *sim.NodeView) sim.Router {
 	if a.warm != nil {
 		r.continueFrom(a.warm.nodes[r.id], a.warmShift)
 	}
+	if r.fq != nil {
+		// the first snapshot holds the tables the run starts from
+		copy(r.fq, r.q)
+		copy(r.fb, r.b)
+		copy(r.fr, r.r)
+		copy(r.fu, r.u)
+	}
 	a.nodes = append(a.nodes, r)
 	return r
 }
@@ -241,6 +249,42 @@ type qrNode struct {
 	cons *consensusState
 	pref prefs
 	give *giveUp // nil unless give_up_after is set
+
+	// with install_every: the tables forwarding uses, copied from the live
+	// ones at every install, and the install's time (the predictive
+	// estimate is frozen there)
+	fq, fb, fr []float64
+	fu         []sim.Time
+	installed  sim.Time
+}
+
+// tagQInstall is q-routing's install timer.
+const tagQInstall = 2
+
+// install copies the live tables into the forwarding snapshot and counts
+// the route changes it makes: per destination, the greedy choice on the new
+// snapshot against the preference so far. Cost O(N·degree), no allocation.
+func (r *qrNode) install() {
+	copy(r.fq, r.q)
+	copy(r.fb, r.b)
+	copy(r.fr, r.r)
+	copy(r.fu, r.u)
+	r.installed = r.v.Now()
+	for d := 0; d < r.s.n; d++ {
+		if d == r.id {
+			continue
+		}
+		best, bestV := -1, 0.0
+		for k, c := range r.out {
+			if !r.v.Up(c) {
+				continue
+			}
+			if val := r.estimate(d*r.deg+k, 0); best < 0 || val < bestV {
+				best, bestV = k, val
+			}
+		}
+		r.pref.saw(r.v, d, best)
+	}
 }
 
 func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
@@ -262,6 +306,19 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	}
 	for k := range out {
 		r.resetColumn(k)
+	}
+	if s.p.InstallEvery > 0 {
+		r.fq = make([]float64, len(r.q))
+		if r.b != nil {
+			r.fb = make([]float64, len(r.b))
+			r.fr = make([]float64, len(r.r))
+			r.fu = make([]sim.Time, len(r.u))
+		}
+		copy(r.fq, r.q)
+		copy(r.fb, r.b)
+		copy(r.fr, r.r)
+		copy(r.fu, r.u)
+		v.After(s.p.InstallEvery, tagQInstall)
 	}
 	if s.p.Consensus != nil && !s.p.frozen() {
 		r.cons = newConsensusState(s.p.Consensus)
@@ -305,11 +362,16 @@ func (r *qrNode) resetColumn(k int) {
 }
 
 // estimate returns the value the decision compares for entry i.
+// With install_every it reads the forwarding snapshot, as of the install.
 func (r *qrNode) estimate(i int, now sim.Time) float64 {
-	if r.s.variant == variantPredictive {
-		return math.Max(r.q[i]+(now-r.u[i]).Seconds()*r.r[i], r.b[i])
+	q, b, rr, u := r.q, r.b, r.r, r.u
+	if r.fq != nil {
+		q, b, rr, u, now = r.fq, r.fb, r.fr, r.fu, r.installed
 	}
-	return r.q[i]
+	if r.s.variant == variantPredictive {
+		return math.Max(q[i]+(now-u[i]).Seconds()*rr[i], b[i])
+	}
+	return q[i]
 }
 
 // Route picks the outgoing channel for p. Cost: O(degree), no allocation.
@@ -527,6 +589,11 @@ func (r *qrNode) Detected(out int, up bool) {
 
 // Timer runs a consensus round.
 func (r *qrNode) Timer(tag int) {
+	if tag == tagQInstall {
+		r.install()
+		r.v.After(r.s.p.InstallEvery, tagQInstall)
+		return
+	}
 	if tag != tagConsensus || r.cons == nil {
 		return
 	}
