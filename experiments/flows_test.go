@@ -143,3 +143,23 @@ func TestFlowArrivalsAndCDF(t *testing.T) {
 		t.Errorf("rate limit %g, want 5e6", e.Traffic.FlowGen.RateLimit)
 	}
 }
+
+// The agents' mean packet size weighs the packets and the flows' packets
+// by their rates: a mix of 10 kB flows (7 packets of at most 1500 bytes)
+// and 1 MB flows (667 packets) averages 0.9·7 + 0.1·667 = 73 packets of
+// 109,000/73 bytes.
+func TestFlowMeanPacketBytes(t *testing.T) {
+	e, err := Load("testdata/flows/mixed.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := e.Runs()[0]
+	if got := e.Traffic.FlowGen.packetsPerFlow(); math.Abs(got-73) > 1e-9 {
+		t.Fatalf("packets per flow %g, want 73", got)
+	}
+	pr, fr := sumRates(r.Rates()), sumRates(r.FlowRates())*73
+	want := (pr*1000 + fr*109_000/73) / (pr + fr)
+	if got := r.meanPacketBytes(); math.Abs(got-want) > 1e-9*want || got <= 1000 || got >= 1500 {
+		t.Errorf("mean packet bytes %g, want %g", got, want)
+	}
+}

@@ -344,7 +344,7 @@ func (r *Run) Periods() []sim.RatePeriod {
 func (r *Run) Config() (*sim.Config, error) {
 	e, t := r.Exp, r.Topology
 	ap := r.Agent
-	ap.MeanPacketBytes = e.Traffic.Size.Mean()
+	ap.MeanPacketBytes = r.meanPacketBytes()
 	agent, err := agents.New(ap, t.Net)
 	if err != nil {
 		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
@@ -454,15 +454,7 @@ func (r *Run) size() agents.RunSize {
 			total *= 1 - g.Share
 		}
 		// flow packets per second: flows per second times packets per flow
-		pkt := float64(g.PacketBytes)
-		if pkt == 0 {
-			pkt = sim.DefaultFlowPacketBytes
-		}
-		for _, row := range r.FlowRates() {
-			for _, v := range row {
-				total += v * math.Ceil(g.Size.Mean()/pkt)
-			}
-		}
+		total += sumRates(r.FlowRates()) * g.packetsPerFlow()
 	}
 	meanHops := 0.0
 	if t.shapeTotal > 0 {
@@ -538,4 +530,51 @@ func fmtLoad(l float64) string {
 		return "absolute"
 	}
 	return strconv.FormatFloat(l, 'g', -1, 64)
+}
+
+// packetsPerFlow returns the mean number of packets of a flow: exact for
+// fixed sizes and mixes, E[X]/P + 1/2 (at least 1) otherwise (the last
+// packet's fill taken as uniform).
+func (g *FlowTraffic) packetsPerFlow() float64 {
+	pkt := float64(g.PacketBytes)
+	if pkt == 0 {
+		pkt = sim.DefaultFlowPacketBytes
+	}
+	if g.Size.Kind == sim.Classes {
+		var n float64
+		for _, c := range g.Size.Classes {
+			n += c.Fraction * math.Ceil(math.Ceil(c.Bytes)/pkt)
+		}
+		return n
+	}
+	return math.Max(1, g.Size.Mean()/pkt+0.5)
+}
+
+func sumRates(m [][]float64) float64 {
+	var s float64
+	for _, row := range m {
+		for _, v := range row {
+			s += v
+		}
+	}
+	return s
+}
+
+// meanPacketBytes is the mean size of the run's data packets, for the
+// agents' estimates: the packet traffic's mean size and the flows' packets
+// (mean flow size over mean packets per flow), weighted by packets per
+// second.
+func (r *Run) meanPacketBytes() float64 {
+	e := r.Exp
+	g := e.Traffic.FlowGen
+	if g == nil || e.Traffic.Replay {
+		return e.Traffic.Size.Mean()
+	}
+	pr := sumRates(r.Rates())
+	fr := sumRates(r.FlowRates()) * g.packetsPerFlow()
+	if pr+fr == 0 {
+		return e.Traffic.Size.Mean()
+	}
+	flowPkt := g.Size.Mean() / g.packetsPerFlow()
+	return (pr*e.Traffic.Size.Mean() + fr*flowPkt) / (pr + fr)
 }

@@ -399,3 +399,40 @@ func BenchmarkFlowSteadyState(b *testing.B) {
 	b.ReportMetric(float64(events)/b.Elapsed().Seconds(), "events/s")
 	b.ReportMetric(float64(ms.Mallocs-mallocs)/float64(events), "allocs/event")
 }
+
+// Under hop-count shortest path the idle-network completion time is a
+// lower bound on every flow's: other traffic can only delay a packet in a
+// FIFO store-and-forward tandem (the max-plus recursion is monotone in its
+// inputs: Baccelli et al., Synchronization and Linearity, 1992), so no
+// slowdown falls below 1. A 4×4 grid at load 0.7 with a mix of mice and
+// elephants beside packet traffic.
+func TestSlowdownAtLeastOne(t *testing.T) {
+	net := sim.Compile(gridGraph(4, 4, 10e6, 64))
+	size := sim.SizeDist{Kind: sim.Classes, Classes: []sim.SizeClass{{Fraction: 0.8, Bytes: 3_000}, {Fraction: 0.15, Bytes: 150_000}, {Fraction: 0.05, Bytes: 2e6}}}
+	pm, fm := sim.UniformMatrix(net), sim.UniformMatrix(net)
+	ps := sim.SaturationScale(net, pm, 1000) * 0.35
+	fs := sim.SaturationScale(net, fm, size.Mean()) * 0.35
+	for s := range pm {
+		for d := range pm[s] {
+			pm[s][d] *= ps
+			fm[s][d] *= fs
+		}
+	}
+	r, err := sim.Run(&sim.Config{Net: net, Agent: shortest(t, net), Seed: 11, Duration: 20 * sim.Second, Warmup: 2 * sim.Second, Bin: sim.Second,
+		Traffic: sim.Traffic{Rates: pm, Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}, FlowGen: &sim.FlowGen{Rates: fm, Size: size, ElephantBytes: 1e6}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkConservation(t, r)
+	for k := range r.Flows.Classes {
+		c := &r.Flows.Classes[k]
+		if c.Completed == 0 {
+			t.Fatalf("%v: no flow completed", sim.FlowClass(k))
+		}
+		// the histogram keeps the exact minimum
+		if lo := c.Slowdown.Min(); lo < 1-1e-9 {
+			t.Errorf("%v: slowdown %.12f below 1", sim.FlowClass(k), lo)
+		}
+		t.Logf("%v: %d flows, slowdown min %.4f mean %.3f", sim.FlowClass(k), c.Completed, c.Slowdown.Min(), c.SlowdownSum/float64(c.Slowdown.Count()))
+	}
+}
