@@ -28,6 +28,7 @@ func init() {
 			NewField("discount", func(p *Params) *float64 { return &p.Discount }, 0.5, inUnitClosedOpen),
 			exploreField(0.05),
 			NewField("drop_penalty", func(p *Params) *sim.Time { return &p.DropPenalty }, 1*sim.Second, nonNegativeTime),
+			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveDelay, oneOf("objective", ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation)),
 		},
 		New: newCentralQ,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -35,6 +36,19 @@ func init() {
 		},
 	})
 }
+
+// Objectives of central-q: what its reward measures.
+const (
+	// ObjectiveDelay: r = −(mean delivery time in seconds + DropPenalty ×
+	// drop fraction); a drop costs DropPenalty seconds of delivery time.
+	ObjectiveDelay = "delay"
+	// ObjectiveLoss: r = −(drop fraction), a probability in [0, 1].
+	ObjectiveLoss = "loss"
+	// ObjectiveUtilisation: r = −(largest utilisation over the chosen
+	// path's channels in the interval), a fraction in [0, 1] (more when a
+	// channel carried control traffic too).
+	ObjectiveUtilisation = "utilisation"
+)
 
 // Utilisation bucket edges of central-q's state; a candidate with a channel
 // down gets the extra bucket cqBuckets. Chosen so that the buckets separate
@@ -56,10 +70,13 @@ const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, an
 //   - state: the tuple of the K candidates' bottleneck utilisations (largest
 //     over the path's channels), each bucketed at 0.5, 0.8 and 0.95, with a
 //     fifth bucket for a candidate with a channel down;
-//   - reward of the last interval: r = −(mean delivery time in seconds +
-//     DropPenalty × drop fraction), from the pair's delivered, delay-sum and
-//     dropped counters (differences between snapshots); pairs with no
-//     packets in the interval are not updated;
+//   - reward of the last interval, by Objective: delay (default) r =
+//     −(mean delivery time in seconds + DropPenalty × drop fraction); loss
+//     r = −drop fraction; utilisation r = −(bottleneck utilisation of the
+//     path chosen for the interval); from the pair's delivered, delay-sum
+//     and dropped counters and the channels' busy time (differences
+//     between snapshots); pairs with no packets in the interval are not
+//     updated;
 //   - update: Q(s,a) += learning_rate·(r + discount·max_a' Q(s',a') − Q(s,a))
 //     for the previous state and action (Watkins 1989), the max over
 //     candidates that are up;
@@ -254,6 +271,11 @@ func (a *CentralQ) rowOf(pr *cqPair, key uint64) int32 {
 	r := int32(len(pr.states))
 	pr.states[key] = r
 	for _, c := range pr.cands {
+		if a.p.Objective == ObjectiveLoss || a.p.Objective == ObjectiveUtilisation {
+			// no prior on loss or utilisation: ties go to the shorter candidate
+			pr.q = append(pr.q, 0)
+			continue
+		}
 		pr.q = append(pr.q, -c.cost/(1-a.p.Discount))
 	}
 	return r
@@ -299,10 +321,19 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 		nc := len(pr.cands)
 		if pr.row >= 0 && dDel+dDrop > 0 {
 			r := 0.0
-			if dDel > 0 {
-				r -= dDelay / float64(dDel)
+			switch a.p.Objective {
+			case ObjectiveLoss:
+				r = -float64(dDrop) / float64(dDel+dDrop)
+			case ObjectiveUtilisation:
+				for _, c := range pr.cands[pr.action].chans {
+					r = math.Min(r, -a.util[c])
+				}
+			default:
+				if dDel > 0 {
+					r -= dDelay / float64(dDel)
+				}
+				r -= a.p.DropPenalty.Seconds() * float64(dDrop) / float64(dDel+dDrop)
 			}
-			r -= a.p.DropPenalty.Seconds() * float64(dDrop) / float64(dDel+dDrop)
 			best := math.Inf(-1)
 			for j := 0; j < nc; j++ {
 				if ok[j] && pr.q[int(row)*nc+j] > best {
