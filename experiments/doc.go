@@ -76,7 +76,15 @@
 //	  loads        required unless pairs or a matrix file give absolute rates: normalised loads > 0,
 //	               distinct; 1.0 saturates the busiest channel under hop-count
 //	               shortest path (lowest-index tie-break) on the intact topology
-//	  flows        optional, ≥ 1: flow labels per pair for ECMP hashing (default 8)
+//	  flows        optional, ≥ 1: flow labels per pair for ECMP hashing (default 8);
+//	               or a mapping of flow traffic (FlowTraffic): arrivals: N/s per source
+//	               (absolute, on top of the packets) or share: X in (0, 1] of every
+//	               cell's load; size: {dist: fixed {bytes} | pareto {shape > 1,
+//	               mean_bytes} | lognormal {mu, sigma ≥ 0} | mix {classes: [{fraction,
+//	               bytes}, ...], fractions adding up to 1} | cdf {file: CSV of
+//	               bytes,probability, both increasing, ending at 1}}; rate_limit
+//	               (default the source's fastest channel), packet_bytes (default 1500),
+//	               mice_bytes (default 1e5), elephant_bytes (default 1e7)
 //	  phases       optional [{at: DURATION, factor: F}], times increasing: from `at` on
 //	               every rate is multiplied by F ≥ 0 (load that rises or falls mid-run)
 //	agents       required list; each entry is KIND or {kind: KIND, label: TEXT, FIELD: value ...}
@@ -84,7 +92,8 @@
 //	             Unset fields take agents.Defaults(kind). consensus is {every: DURATION
 //	             (required), weight: W (default 0.5), split_horizon: true|false (q-routing
 //	             only, default false)}. Two entries with the same label
-//	             (explicit or canonical) are an error
+//	             (explicit or canonical) are an error. Every kind takes pin: packet
+//	             (default) | flow (agents.PinFlow)
 //	failures     default [none]; each entry is none or a mapping:
 //	  name         required, distinct, not "none"
 //	  detection    default 50ms, ≥ 0: time until the end nodes notice a link change
