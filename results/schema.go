@@ -329,8 +329,29 @@ var Recoveries = &Table{Name: "recoveries", File: RecoveriesFile, Doc: "one fail
 // column of Runs makes (Summary.Suffixes).
 var Summaries = &Table{Name: "summary", File: SummaryFile, Doc: "one cell, over its replicates"}
 
-// Tables lists every table of a result folder, in the order a folder is
-// described.
+// Optimum is optimum.parquet: one row per cell (without its agent) and
+// topology state of its failure schedule (OptimumRow). Its dimensions are
+// its own, so they are declared here with the other columns.
+var Optimum = &Table{Name: TableOptimum, File: OptimumFile, Doc: "the model optimum of one cell's offered matrix in one topology state", Columns: []Column{
+	{Name: "experiment", Label: "experiment", Doc: "name of the experiment"},
+	{Name: "topology", Label: "topology", Doc: "label of the topology"},
+	{Name: "load", Unit: "1", Label: "load", Doc: "normalised offered load"},
+	{Name: "failure", Label: "failure", Doc: "name of the failure schedule"},
+	{Name: "state", Label: "state", Doc: "topology state: 0 intact from time 0, then one per scheduled event that changes what is down"},
+	{Name: "t_start_s", Unit: "s", Label: "start", Doc: "start of the state"},
+	{Name: "t_end_s", Unit: "s", Label: "end", Doc: "end of the state"},
+	{Name: "down", Label: "down", Doc: "elements down in the state, comma separated; empty when intact"},
+	{Name: "unroutable_share", Unit: "1", Label: "unroutable share", Doc: "share of the offered demand no routing could deliver in the state"},
+	{Name: "opt_util_max", Unit: "1", Label: "optimum: max utilisation", Doc: "least maximum channel utilisation of any splittable routing in the state; null when not computed"},
+	{Name: "opt_load_limit", Unit: "1", Label: "optimum: load limit", Doc: "load / opt_util_max; null when not computed or nothing is offered"},
+	{Name: "opt_delay_mean_s", Unit: "s", Label: "optimum: delivery mean", Doc: "least mean delivery time of any splittable routing (M/M/1 channels with propagation); null when none stays below saturation, or not computed"},
+	{Name: "opt_util_gap", Unit: "1", Label: "optimum: max utilisation gap", Doc: "certified relative gap of opt_util_max"},
+	{Name: "opt_delay_gap", Unit: "1", Label: "optimum: delivery mean gap", Doc: "certified relative gap of opt_delay_mean_s"},
+}}
+
+// Tables lists the tables every finished result folder holds, in the order
+// a folder is described. optimum.parquet (Optimum) is there only when the
+// sweep computed the optimum.
 var Tables = []*Table{Runs, Series, Links, Recoveries, Summaries}
 
 func init() {
@@ -340,6 +361,7 @@ func init() {
 	bind(Series, reflect.TypeFor[SeriesRow]())
 	bind(Links, reflect.TypeFor[LinkRow]())
 	bind(Recoveries, reflect.TypeFor[RecoveryRow]())
+	bind(Optimum, reflect.TypeFor[OptimumRow]())
 	Summaries.Columns = []Column{{Name: "replicates", Label: "replicates", Doc: "runs in the cell", number: true}}
 	for _, c := range Summarized() {
 		for _, suf := range c.Summary.Suffixes() {

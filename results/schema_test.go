@@ -32,6 +32,7 @@ func TestSchemaMatchesFiles(t *testing.T) {
 		{results.Links, parquet.SchemaOf(results.LinkRow{}), results.DimColumns},
 		{results.Recoveries, parquet.SchemaOf(results.RecoveryRow{}), results.DimColumns},
 		{results.Summaries, results.SummarySchema(), results.CellColumns},
+		{results.Optimum, parquet.SchemaOf(results.OptimumRow{}), nil}, // its dimensions are its columns
 	} {
 		t.Run(tc.table.Name, func(t *testing.T) {
 			var names []string
@@ -141,6 +142,7 @@ func TestSchemaKinds(t *testing.T) {
 		{results.Series, reflect.TypeFor[results.SeriesRow]()},
 		{results.Links, reflect.TypeFor[results.LinkRow]()},
 		{results.Recoveries, reflect.TypeFor[results.RecoveryRow]()},
+		{results.Optimum, reflect.TypeFor[results.OptimumRow]()},
 	} {
 		for i := 0; i < tc.typ.NumField(); i++ {
 			f := tc.typ.Field(i)
