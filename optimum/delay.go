@@ -9,8 +9,10 @@ type MinDelay struct {
 	// not be shown < 1): then no finite mean delay exists and Mean, Lower
 	// and Gap are NaN.
 	Feasible bool
-	// Mean is the mean delay in seconds of the routing found:
-	// T = (1/γ) Σ_e [f_e/(c_e − f_e) + f_e·p_e], γ the routable demand.
+	// Mean is the mean delay in seconds of the routing found, γ the
+	// routable demand and cs² the solver's service-time variability:
+	// T = (1/γ) Σ_e [f_e/c_e + (1 + cs²)/2 · f_e²/(c_e(c_e − f_e)) + f_e·p_e],
+	// T = (1/γ) Σ_e [f_e/(c_e − f_e) + f_e·p_e] for cs² = 1 (M/M/1).
 	Mean float64
 	// Lower is a certified lower bound on the least mean delay of any
 	// splittable routing, in seconds.
@@ -29,21 +31,31 @@ const maxIterations = 5000
 
 // MinDelay finds a splittable routing of the demand (SetDemand) that
 // minimises the mean delay under Kleinrock's model of a network of
-// independent M/M/1 channels with propagation (Kleinrock, Communication
-// Nets, 1964; Queueing Systems Vol. 2, 1976):
+// independent channels with propagation (the independence assumption:
+// Kleinrock, Communication Nets, 1964; Queueing Systems Vol. 2, 1976), each
+// channel an M/G/1 queue with an infinite buffer whose mean sojourn is the
+// Pollaczek–Khinchine one (Kleinrock, Queueing Systems Vol. 1, 1975, ch. 5):
+// 1/c + ρ(1 + cs²)/(2(c − f)), ρ = f/c, with cs² the squared coefficient of
+// variation of the service time (SetServiceSCV; 1 by default, the M/M/1
+// sojourn 1/(c − f)). So
 //
-//	T(f) = (1/γ) Σ_e [ f_e/(c_e − f_e) + f_e·p_e ]
+//	T(f) = (1/γ) Σ_e [ f_e/(c_e − f_e)·(1 − b·f_e/c_e) + f_e·p_e ],  b = (1 − cs²)/2
 //
 // with f_e and c_e in packets/s, p_e the propagation delay and γ the total
-// routable demand. The method is flow deviation (Fratta, Gerla & Kleinrock,
-// Networks 3, 1973), that is Frank–Wolfe: from a feasible routing (the
-// min–max one, feasible when its maximum utilisation is below 1), route all
-// demand on cheapest trees under the marginal lengths
-// ∂T/∂f_e ∝ c_e/(c_e − f_e)² + p_e, then move to the best point towards that
-// flow by a line search (bisection on the derivative, which is increasing
-// since T is convex). The Frank–Wolfe gap g = ∇T(f)·(f − y) ≥ T(f) − T*
-// certifies a lower bound T(f) − g at every iteration; it stops when
-// Mean/Lower − 1 ≤ eps, or after a bounded number of iterations.
+// routable demand; each term is f_e/c_e + (1 + cs²)/2 · f_e²/(c_e(c_e − f_e))
+// + f_e·p_e, convex on [0, c_e) for cs² ≥ 0. The method is flow deviation
+// (Fratta, Gerla & Kleinrock, Networks 3, 1973), that is Frank–Wolfe: from
+// a feasible routing (the min–max one, feasible when its maximum
+// utilisation is below 1), route all demand on cheapest trees under the
+// marginal lengths
+//
+//	∂(γT)/∂f_e = (c_e − b·f_e(2c_e − f_e)/c_e)/(c_e − f_e)² + p_e,
+//
+// (c_e/(c_e − f_e)² + p_e for M/M/1), then move to the best point towards
+// that flow by a line search (bisection on the derivative, which is
+// increasing since T is convex). The Frank–Wolfe gap g = ∇T(f)·(f − y) ≥
+// T(f) − T* certifies a lower bound T(f) − g at every iteration; it stops
+// when Mean/Lower − 1 ≤ eps, or after a bounded number of iterations.
 //
 // When the last solve was MinMaxUtil at the same eps for the current
 // demand, its routing is the start and it is not solved again. The routing
@@ -74,14 +86,15 @@ func (s *Solver) MinDelay(eps float64) (MinDelay, error) {
 	}
 	s.solved = 2
 	res.Feasible = true
-	gamma := s.total
+	gamma, b := s.total, s.short
 	cost := s.delaySum()
 	lower := 0.0
 	for res.Iterations = 0; res.Iterations < maxIterations; res.Iterations++ {
 		for c, ch := range s.net.Channels {
 			if ch.Capacity > 0 {
-				r := ch.Capacity - s.tot[c]
-				s.lengths[c] = ch.Capacity/(r*r) + ch.Delay
+				f := s.tot[c]
+				r := ch.Capacity - f
+				s.lengths[c] = (ch.Capacity-b*f*(2*ch.Capacity-f)/ch.Capacity)/(r*r) + ch.Delay
 			} else {
 				s.lengths[c] = math.Inf(1)
 			}
@@ -108,12 +121,13 @@ func (s *Solver) MinDelay(eps float64) (MinDelay, error) {
 	return res, nil
 }
 
-// delaySum returns γ·T(tot) = Σ_e f_e/(c_e − f_e) + f_e·p_e.
+// delaySum returns γ·T(tot) = Σ_e f_e/(c_e − f_e)·(1 − b·f_e/c_e) + f_e·p_e.
 func (s *Solver) delaySum() float64 {
 	var sum float64
+	b := s.short
 	for c, ch := range s.net.Channels {
 		if f := s.tot[c]; f > 0 {
-			sum += f/(ch.Capacity-f) + f*ch.Delay
+			sum += f/(ch.Capacity-f)*(1-b*f/ch.Capacity) + f*ch.Delay
 		}
 	}
 	return sum
@@ -128,6 +142,7 @@ func (s *Solver) lineDelay() float64 {
 			hi = math.Min(hi, (ch.Capacity-s.tot[c])/d)
 		}
 	}
+	b := s.short
 	deriv := func(step float64) float64 {
 		var sum float64
 		for c, ch := range s.net.Channels {
@@ -135,11 +150,12 @@ func (s *Solver) lineDelay() float64 {
 			if d == 0 || ch.Capacity == 0 {
 				continue
 			}
-			r := ch.Capacity - (s.tot[c] + step*d)
+			f := s.tot[c] + step*d
+			r := ch.Capacity - f
 			if r <= 0 {
 				return math.Inf(1)
 			}
-			sum += (ch.Capacity/(r*r) + ch.Delay) * d
+			sum += ((ch.Capacity-b*f*(2*ch.Capacity-f)/ch.Capacity)/(r*r) + ch.Delay) * d
 		}
 		return sum
 	}

@@ -16,7 +16,10 @@
 //     utilisation reached, a certified lower bound from the algorithm's own
 //     lengths, and the gap between them.
 //   - MinDelay: the least mean packet delay under the model of independent
-//     M/M/1 channels with propagation (Kleinrock 1964), by flow deviation
+//     channels with propagation (Kleinrock's independence assumption, 1964),
+//     each an M/G/1 queue with an infinite buffer and the Pollaczek–Khinchine
+//     mean sojourn for the packet service-time variability cs² set by
+//     SetServiceSCV (1, M/M/1, by default; 0 for fixed-size packets), by flow deviation
 //     (Fratta, Gerla & Kleinrock 1973: Frank–Wolfe with a line search)
 //     from the min–max routing; its Frank–Wolfe gap certifies a lower
 //     bound. When λ* ≥ 1 no routing keeps every queue stable and no finite

@@ -35,3 +35,34 @@ func ExampleSolver() {
 	// channel 0 carries 0.771
 	// channel 1 carries 0.229
 }
+
+// The same two sites with fixed-size packets: each channel is an M/D/1
+// queue (service-time cs² = 0), whose mean wait is half an M/M/1 one's at
+// the same load: the least mean delay falls from 0.3720 s to 0.2538 s and
+// the fast channel takes a little more of the traffic.
+func ExampleSolver_SetServiceSCV() {
+	s, err := optimum.NewSolver(optimum.Network{Nodes: 2, Channels: []optimum.Channel{
+		{From: 0, To: 1, Capacity: 10, Delay: 0.002},
+		{From: 0, To: 1, Capacity: 4, Delay: 0.002},
+	}})
+	if err != nil {
+		panic(err)
+	}
+	if err := s.SetServiceSCV(0); err != nil {
+		panic(err)
+	}
+	if err := s.SetDemand([][]float64{{0, 9}}); err != nil {
+		panic(err)
+	}
+	d, _ := s.MinDelay(0.0001)
+	fmt.Printf("least mean delay %.4f s (gap below %v: %v)\n", d.Mean, 0.0001, d.Gap <= 0.0001)
+	var sp optimum.Splits
+	s.Splits(&sp)
+	for _, x := range sp.At(0, 1) {
+		fmt.Printf("channel %d carries %.3f\n", x.Channel, x.Weight)
+	}
+	// Output:
+	// least mean delay 0.2538 s (gap below 0.0001: true)
+	// channel 0 carries 0.780
+	// channel 1 carries 0.220
+}

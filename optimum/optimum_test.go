@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize/convex/lp"
 
@@ -136,6 +137,131 @@ func TestTwoParallelChannels(t *testing.T) {
 	}
 	if got := w[0].Weight * lam; math.Abs(got-s.Load()[0]) > 1e-9 {
 		t.Errorf("split weight gives %.6f packets/s on channel 0, flow is %.6f", got, s.Load()[0])
+	}
+}
+
+// TestSingleChannelMG1: one channel of capacity c = 8 packets/s carrying
+// λ = 6 with 10 ms propagation, for several service-time variabilities cs²:
+// the mean delay is exactly the Pollaczek–Khinchine M/G/1 sojourn
+// 1/c + ρ(1 + cs²)/(2(c − λ)), ρ = λ/c, plus propagation (Kleinrock,
+// Queueing Systems Vol. 1, 1975, §5.6; M/D/1 at cs² = 0, §5.5's
+// W = ρ/(2μ(1 − ρ)): 0.3125 s + 0.01 s; M/M/1 at cs² = 1, §3.2: 1/(c − λ)).
+func TestSingleChannelMG1(t *testing.T) {
+	const c, lam, p = 8.0, 6.0, 0.01
+	for _, tc := range []struct {
+		name string
+		scv  float64
+		want float64
+	}{
+		{"M/D/1", 0, 1.0/c + (lam/c)/(2*c*(1-lam/c)) + p},
+		{"M/M/1", 1, 1/(c-lam) + p},
+		{"M/G/1 cs²=0.25", 0.25, 1.0/c + (lam/c)*1.25/(2*(c-lam)) + p},
+		{"M/G/1 cs²=4", 4, 1.0/c + (lam/c)*5/(2*(c-lam)) + p},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			s, err := optimum.NewSolver(optimum.Network{Nodes: 2, Channels: []optimum.Channel{{From: 0, To: 1, Capacity: c, Delay: p}}})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := s.SetServiceSCV(tc.scv); err != nil {
+				t.Fatal(err)
+			}
+			if s.ServiceSCV() != tc.scv {
+				t.Fatalf("ServiceSCV %v after setting %v", s.ServiceSCV(), tc.scv)
+			}
+			if err := s.SetDemand([][]float64{{0, lam}}); err != nil {
+				t.Fatal(err)
+			}
+			d, err := s.MinDelay(0.01)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !d.Feasible || math.Abs(d.Mean-tc.want) > 1e-12 || d.Gap != 0 {
+				t.Errorf("got %+v, want mean %.15g exactly", d, tc.want)
+			}
+		})
+	}
+	if want := 0.3125 + p; math.Abs(1.0/c+(lam/c)/(2*c*(1-lam/c))+p-want) > 1e-15 {
+		t.Fatalf("M/D/1 by hand: want %v", want)
+	}
+}
+
+// TestTwoParallelChannelsMD1: the two-channel instance of
+// TestTwoParallelChannels (capacities 10 and 4, λ = 9) with fixed-size
+// packets, cs² = 0. The optimum equalises the marginal delays of the two
+// M/D/1 channels; that one-variable problem is solved here independently:
+// γT(f1) = Σ_i f_i·(1/c_i + ρ_i/(2(c_i − f_i))) written from the
+// Pollaczek–Khinchine mean (Kleinrock, Queueing Systems Vol. 1, 1975, ch. 5),
+// its derivative by gonum's finite differences (diff/fd) and the root by
+// bisection. T* must lie inside the solver's certified [Lower, Mean] and
+// the flow near f1*.
+func TestTwoParallelChannelsMD1(t *testing.T) {
+	c1, c2, lam := 10.0, 4.0, 9.0
+	gammaT := func(f1 float64) float64 {
+		f2 := lam - f1
+		return f1*(1/c1+(f1/c1)/(2*(c1-f1))) + f2*(1/c2+(f2/c2)/(2*(c2-f2)))
+	}
+	deriv := func(f1 float64) float64 {
+		return fd.Derivative(gammaT, f1, &fd.Settings{Formula: fd.Central, Step: 1e-6})
+	}
+	lo, hi := lam-c2+1e-9, c1-1e-9
+	for i := 0; i < 100 && hi-lo > 1e-12; i++ {
+		if mid := (lo + hi) / 2; deriv(mid) > 0 {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
+	f1 := (lo + hi) / 2
+	tStar := gammaT(f1) / lam
+	if !(f1 > lam-c2+1e-6 && f1 < c1-1e-6) {
+		t.Fatalf("independent optimum f1 = %v not inside (%v, %v)", f1, lam-c2, c1)
+	}
+	s, err := optimum.NewSolver(optimum.Network{Nodes: 2, Channels: []optimum.Channel{
+		{From: 0, To: 1, Capacity: c1}, {From: 0, To: 1, Capacity: c2}, {From: 1, To: 0, Capacity: 1},
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := s.SetServiceSCV(0); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.SetDemand([][]float64{{0, lam}}); err != nil {
+		t.Fatal(err)
+	}
+	curv := fd.Derivative(gammaT, f1, &fd.Settings{Formula: fd.Central2nd, Step: 1e-4}) / lam
+	for _, eps := range []float64{0.01, 0.001} {
+		r, err := s.MinDelay(eps)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// tStar is a minimum found to ~1e-12 in f1, so flat: relative 1e-9 covers
+		// the finite-difference and bisection error.
+		if !r.Feasible || r.Lower > tStar*(1+1e-9) || r.Mean < tStar*(1-1e-9) || r.Gap > eps {
+			t.Errorf("ε %v: mean %.6f lower %.6f gap %.5f, want T* = %.6f inside, gap ≤ ε", eps, r.Mean, r.Lower, r.Gap, tStar)
+		}
+		// T − T* ≈ ½T''·Δf², so the flow is within √(2·ε·T*/T'') of f1*.
+		tol := math.Sqrt(2 * r.Gap * tStar / curv)
+		if got := s.Load()[0]; math.Abs(got-f1) > tol+1e-6 {
+			t.Errorf("ε %v: f1 = %.6f, want %.6f ± %.2g", eps, got, f1, tol)
+		}
+	}
+}
+
+// TestServiceSCVBadInput: a service-time variability must be a finite
+// number ≥ 0.
+func TestServiceSCVBadInput(t *testing.T) {
+	s, err := optimum.NewSolver(optimum.Network{Nodes: 2, Channels: []optimum.Channel{{From: 0, To: 1, Capacity: 1}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, v := range []float64{-0.5, math.NaN(), math.Inf(1)} {
+		if err := s.SetServiceSCV(v); !errors.Is(err, optimum.ErrInput) {
+			t.Errorf("SetServiceSCV(%v): got %v, want an optimum.ErrInput", v, err)
+		}
+	}
+	if s.ServiceSCV() != 1 {
+		t.Errorf("ServiceSCV %v after refused values, want the default 1", s.ServiceSCV())
 	}
 }
 
@@ -462,13 +588,16 @@ func checkSplits(t *testing.T, s *optimum.Solver, dem [][]float64) {
 	}
 }
 
-// lpMinDelay brackets the least mean delay of the M/M/1-with-propagation
-// model by Kelley's cutting-plane method (Kelley, J. SIAM 8, 1960) on top
-// of gonum's simplex: each channel's convex cost φ_e(F) = F/(c−F) + p·F is
-// replaced by the maximum of tangents, whose LP optimum is a lower bound;
-// the LP's flows evaluated in the true cost give an upper bound; tangents
-// are added at the LP's flows until the two meet within rel.
-func lpMinDelay(t *testing.T, net optimum.Network, dem [][]float64, rel float64) (lower, upper float64) {
+// lpMinDelay brackets the least mean delay of the model of independent
+// M/G/1 channels with propagation, service-time variability scv = cs², by
+// Kelley's cutting-plane method (Kelley, J. SIAM 8, 1960) on top of gonum's
+// simplex: each channel's convex cost φ_e(F) = F·(1/c + ρ(1+cs²)/(2(c−F)))
+// + p·F, ρ = F/c (F times the Pollaczek–Khinchine mean sojourn plus
+// propagation: Kleinrock, Queueing Systems Vol. 1, 1975, ch. 5; F/(c−F) +
+// p·F for cs² = 1) is replaced by the maximum of tangents, whose LP optimum
+// is a lower bound; the LP's flows evaluated in the true cost give an upper
+// bound; tangents are added at the LP's flows until the two meet within rel.
+func lpMinDelay(t *testing.T, net optimum.Network, dem [][]float64, scv, rel float64) (lower, upper float64) {
 	t.Helper()
 	N, E := net.Nodes, len(net.Channels)
 	var gamma float64
@@ -481,7 +610,9 @@ func lpMinDelay(t *testing.T, net optimum.Network, dem [][]float64, rel float64)
 	}
 	phi := func(e int, f float64) (v, dv float64) {
 		c, p := net.Channels[e].Capacity, net.Channels[e].Delay
-		return f/(c-f) + p*f, c/((c-f)*(c-f)) + p
+		k := (1 + scv) / 2
+		// d/dF [F²/(c−F)] = F(2c−F)/(c−F)²
+		return f*(1/c+k*(f/c)/(c-f)) + p*f, 1/c + k*f*(2*c-f)/(c*(c-f)*(c-f)) + p
 	}
 	type cut struct {
 		e int
@@ -572,43 +703,61 @@ func lpMinDelay(t *testing.T, net optimum.Network, dem [][]float64, rel float64)
 // from a cutting-plane LP (gonum's simplex) on random small instances scaled
 // to a least maximum utilisation of 0.8: the solver's mean must be at least
 // the LP's lower bound, its certified lower bound at most the LP's upper
-// bound, and its mean within ε of the LP's upper bound.
+// bound, and its mean within ε of the LP's upper bound. M/M/1 channels
+// (cs² = 1, the default), M/D/1 ones (cs² = 0, fixed-size packets) and
+// M/G/1 ones of a bimodal size mix (64 and 1500 bytes, 30% large: cs² =
+// 1.769).
 func TestDelayAgainstSimplex(t *testing.T) {
 	rng := rand.New(rand.NewPCG(15, 2))
 	const eps = 0.01
-	n := 20
-	if testing.Short() {
-		n = 2 // the simplex is slow under the race detector
-	}
-	for i := 0; i < n; {
-		net, dem := randomInstance(rng)
-		if net.Nodes > 6 {
-			continue // keep the cutting-plane LPs small
+	for _, tc := range []struct {
+		name     string
+		scv      float64
+		n, short int
+	}{
+		{"M/M/1", 1, 20, 2}, // the simplex is slow under the race detector
+		{"M/D/1", 0, 4, 1},
+		{"M/G/1 bimodal", sim.SizeDist{Kind: sim.Bimodal, SmallBytes: 64, LargeBytes: 1500, LargeFraction: 0.3}.SCV(), 2, 0},
+	} {
+		n := tc.n
+		if testing.Short() {
+			n = tc.short
 		}
-		lam := lpMinMax(t, net, dem)
-		for s := range dem {
-			for d := range dem[s] {
-				dem[s][d] *= 0.8 / lam
+		for i := 0; i < n; {
+			net, dem := randomInstance(rng)
+			if net.Nodes > 6 {
+				continue // keep the cutting-plane LPs small
 			}
+			lam := lpMinMax(t, net, dem)
+			for s := range dem {
+				for d := range dem[s] {
+					dem[s][d] *= 0.8 / lam
+				}
+			}
+			s, err := optimum.NewSolver(net)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if tc.scv != 1 {
+				if err := s.SetServiceSCV(tc.scv); err != nil {
+					t.Fatal(err)
+				}
+			}
+			if err := s.SetDemand(dem); err != nil {
+				t.Fatal(err)
+			}
+			r, err := s.MinDelay(eps)
+			if err != nil {
+				t.Fatal(err)
+			}
+			lo, hi := lpMinDelay(t, net, dem, tc.scv, 1e-4)
+			if !r.Feasible || r.Mean < lo*(1-1e-9) || r.Lower > hi*(1+1e-9) || r.Mean > hi*(1+eps) || r.Gap > eps {
+				t.Errorf("%s instance %d (%d nodes, %d channels): mean %.6f lower %.6f gap %.4f, LP bracket [%.6f, %.6f]", tc.name, i, net.Nodes, len(net.Channels), r.Mean, r.Lower, r.Gap, lo, hi)
+			}
+			checkRouting(t, s, dem)
+			checkSplits(t, s, dem)
+			i++
 		}
-		s, err := optimum.NewSolver(net)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := s.SetDemand(dem); err != nil {
-			t.Fatal(err)
-		}
-		r, err := s.MinDelay(eps)
-		if err != nil {
-			t.Fatal(err)
-		}
-		lo, hi := lpMinDelay(t, net, dem, 1e-4)
-		if !r.Feasible || r.Mean < lo*(1-1e-9) || r.Lower > hi*(1+1e-9) || r.Mean > hi*(1+eps) || r.Gap > eps {
-			t.Errorf("instance %d (%d nodes, %d channels): mean %.6f lower %.6f gap %.4f, LP bracket [%.6f, %.6f]", i, net.Nodes, len(net.Channels), r.Mean, r.Lower, r.Gap, lo, hi)
-		}
-		checkRouting(t, s, dem)
-		checkSplits(t, s, dem)
-		i++
 	}
 }
 

@@ -24,6 +24,11 @@ type Solver struct {
 	mm         MinMax  // the last MinMaxUtil result (solved == 1)
 	mmEps      float64 // and its eps
 
+	// Service-time variability of MinDelay's M/G/1 channels: scv is the
+	// squared coefficient of variation cs², and short = (1 − cs²)/2, the
+	// share of the M/M/1 queueing term the Pollaczek–Khinchine mean lacks.
+	scv, short float64
+
 	// Shortest-path workspace; dist and next alias the search's results.
 	search paths.Search
 	dist   []float64
@@ -55,7 +60,7 @@ func NewSolver(net Network) (*Solver, error) {
 		return nil, err
 	}
 	N, E := net.Nodes, len(net.Channels)
-	s := &Solver{net: Network{Nodes: N, Channels: append([]Channel(nil), net.Channels...)}}
+	s := &Solver{net: Network{Nodes: N, Channels: append([]Channel(nil), net.Channels...)}, scv: 1}
 	tails, heads := make([]int, E), make([]int, E)
 	for c, ch := range net.Channels {
 		tails[c], heads[c] = ch.From, ch.To
@@ -88,6 +93,22 @@ func NewSolver(net Network) (*Solver, error) {
 	s.sumtot = make([]float64, E)
 	return s, nil
 }
+
+// SetServiceSCV sets the squared coefficient of variation cs² of the
+// packet service time that MinDelay's channels assume: 1 (the default)
+// for exponential packet sizes, M/M/1 channels; 0 for a fixed size, M/D/1
+// channels; any finite cs² ≥ 0 for M/G/1 channels (sim.SizeDist.SCV gives
+// it for a size distribution). It leaves the last solution in place.
+func (s *Solver) SetServiceSCV(cs2 float64) error {
+	if !(cs2 >= 0) || math.IsInf(cs2, 1) {
+		return fmt.Errorf("%w: service-time squared coefficient of variation %v is not a finite number >= 0", ErrInput, cs2)
+	}
+	s.scv, s.short = cs2, (1-cs2)/2
+	return nil
+}
+
+// ServiceSCV returns the service-time cs² set by SetServiceSCV (default 1).
+func (s *Solver) ServiceSCV() float64 { return s.scv }
 
 // Network returns the solver's network (shared: do not modify).
 func (s *Solver) Network() *Network { return &s.net }

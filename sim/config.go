@@ -175,6 +175,50 @@ func (d SizeDist) Mean() float64 {
 	}
 }
 
+// SCV returns the squared coefficient of variation of the size,
+// Var[X]/E[X]², of the continuous distribution like Mean: 0 for a fixed
+// size, 1 for an exponential one, +Inf for a Pareto tail index at most 2
+// (infinite variance). With a channel's service time proportional to the
+// size, it is the service-time variability of the Pollaczek–Khinchine mean
+// (Kleinrock, Queueing Systems Vol. 1, 1975, §5.6).
+func (d SizeDist) SCV() float64 {
+	m := d.Mean()
+	var m2 float64 // E[X²]
+	switch d.Kind {
+	case Fixed:
+		return 0
+	case Exponential:
+		return 1
+	case Pareto:
+		if d.Shape <= 2 {
+			return math.Inf(1)
+		}
+		return 1 / (d.Shape * (d.Shape - 2))
+	case Lognormal:
+		return math.Expm1(d.Sigma * d.Sigma)
+	case Classes:
+		for _, c := range d.Classes {
+			m2 += c.Fraction * c.Bytes * c.Bytes
+		}
+	case Empirical:
+		if len(d.CDF) == 0 {
+			return 0
+		}
+		m2 = d.CDF[0].P * d.CDF[0].Bytes * d.CDF[0].Bytes
+		for i := 1; i < len(d.CDF); i++ {
+			a, b := d.CDF[i-1], d.CDF[i]
+			m2 += (b.P - a.P) * (a.Bytes*a.Bytes + a.Bytes*b.Bytes + b.Bytes*b.Bytes) / 3
+		}
+	default:
+		s, l := float64(d.SmallBytes), float64(d.LargeBytes)
+		m2 = s*s*(1-d.LargeFraction) + l*l*d.LargeFraction
+	}
+	if m == 0 {
+		return 0
+	}
+	return math.Max(0, m2/(m*m)-1)
+}
+
 // Failures is a run's failure schedule, resolved to element indices.
 type Failures struct {
 	// Detection is the time after a link change until its end nodes notice.
