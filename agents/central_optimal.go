@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"hoplore/optimum"
 	"hoplore/sim"
 )
 
@@ -66,8 +67,9 @@ func init() {
 // (channels down, or at a node down, are left out; each channel a queue
 // drained at bandwidth/(8·mean packet size) packets/s plus its propagation
 // delay), either the min–max utilisation routing (Objective min-max-util)
-// or the least mean delay routing under M/M/1 queues per channel (min-delay;
-// when the estimated demand does not fit, so that no finite mean delay
+// or the least mean delay routing under M/G/1 queues per channel with the
+// run's packet-size variability (min-delay; M/M/1 for exponential sizes,
+// M/D/1 for a fixed size; when the estimated demand does not fit, so that no finite mean delay
 // exists, the min–max routing instead), within relative gap Epsilon (package
 // optimum). The solution's flow towards each destination, made loop-free,
 // gives every node split weights over its outgoing channels: the share of
@@ -302,8 +304,9 @@ func (a *CentralOptimal) Telemetry(s *sim.Snapshot) {
 
 // evaluate returns the objective of weights w under the demand estimate on
 // the usable channels: the maximum channel utilisation, or with delay the
-// mean delay of the M/M/1-per-channel model (the optimum package's model:
-// capacity bandwidth/(8·mean packet size) packets/s, plus propagation).
+// mean delay of the optimum package's model (optimum.ChannelDelay: M/G/1
+// channels of the run's packet-size variability, capacity
+// bandwidth/(8·mean packet size) packets/s, plus propagation).
 // ok is false when w does not carry every demand to its destination over
 // usable channels without a loop (then only a new table will do). Each
 // destination's traffic is pushed through its split graph in topological
@@ -381,7 +384,7 @@ func (a *CentralOptimal) evaluate(w []float64, delay bool) (v float64, ok bool) 
 		if load[c] >= capacity {
 			return math.Inf(1), true
 		}
-		v += load[c]/(capacity-load[c]) + load[c]*a.net.Channels[c].Delay.Seconds()
+		v += optimum.ChannelDelay(load[c], capacity, a.net.Channels[c].Delay.Seconds(), a.p.packetSCV())
 	}
 	if delay && total > 0 {
 		v /= total

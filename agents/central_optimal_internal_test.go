@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"testing"
 
+	"hoplore/optimum"
 	"hoplore/sim"
 )
 
@@ -141,6 +142,68 @@ func TestCentralOptimalFlowHashSplit(t *testing.T) {
 	tol := 3.29 * math.Sqrt(0.25*0.75/n)
 	if math.Abs(share-0.25) > tol {
 		t.Errorf("share via node 1: %.4f, want 0.25 ± %.4f", share, tol)
+	}
+}
+
+// TestCentralOptimalServiceModel: with objective min-delay, central-optimal
+// solves and weighs routings under the optimum package's M/G/1 channels of
+// the run's packet-size variability (PacketSizeSCV, read with
+// MeanPacketBytes; unset, exponential sizes: M/M/1). On the triangle, 150
+// packets/s from 0 to 1 (over a direct channel of 125 packets/s and a
+// two-hop bypass) must split; the solve's value must be the one a solver
+// of the same model finds, and evaluating the installed weights must give
+// the same mean delay (the splits carry the solution's flow exactly: it
+// has no cycle).
+func TestCentralOptimalServiceModel(t *testing.T) {
+	net := triangle(t)
+	for _, tc := range []struct {
+		name    string
+		bytes   float64
+		scv     float64
+		wantSCV float64
+	}{
+		{"fixed size", 1000, 0, 0},
+		{"bimodal sizes", 1000, 1.769, 1.769},
+		{"unknown sizes", 0, 0, 1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p := Defaults(CentralOptimalKind)
+			p.Objective = ObjectiveMinDelay
+			p.MeanPacketBytes, p.PacketSizeSCV = tc.bytes, tc.scv
+			ag, err := New(p, net)
+			if err != nil {
+				t.Fatal(err)
+			}
+			a := ag.(*CentralOptimal)
+			a.demand[0][1] = 150
+			next := make([]float64, len(a.w))
+			a.zeroLoadInto(next)
+			got, err := a.sol.solveInto(a, next)
+			if err != nil {
+				t.Fatal(err)
+			}
+			s, err := optimum.NewSolver(optimum.FromNet(net, a.p.packetBytes(), nil))
+			if err == nil {
+				err = s.SetServiceSCV(tc.wantSCV)
+			}
+			if err == nil {
+				err = s.SetDemand(a.demand)
+			}
+			var want optimum.MinDelay
+			if err == nil {
+				want, err = s.MinDelay(a.p.Epsilon)
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !got.delay || got.value != want.Mean {
+				t.Fatalf("solve gave %+v, a solver with cs² = %v gives mean %v", got, tc.wantSCV, want.Mean)
+			}
+			v, ok := a.evaluate(next, true)
+			if !ok || math.Abs(v-want.Mean) > 1e-12*want.Mean {
+				t.Errorf("installed weights evaluate to %v (ok %v), the solution's mean delay is %v", v, ok, want.Mean)
+			}
+		})
 	}
 }
 

@@ -23,6 +23,9 @@ func (cs *coSolver) init(a *CentralOptimal) error { return cs.build(a) }
 func (cs *coSolver) build(a *CentralOptimal) error {
 	m := optimum.FromNet(a.net, a.p.packetBytes(), func(c int) bool { return !a.usable[c] })
 	s, err := optimum.NewSolver(m)
+	if err == nil {
+		err = s.SetServiceSCV(a.p.packetSCV())
+	}
 	if err != nil {
 		return err
 	}

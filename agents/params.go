@@ -83,6 +83,12 @@ type Params struct {
 	// zero-load time estimates; set by whoever builds the run, not read from
 	// files. Zero means AssumedPacketBytes.
 	MeanPacketBytes float64
+	// PacketSizeSCV is the squared coefficient of variation of the run's
+	// packet sizes (sim.SizeDist.SCV: 0 for a fixed size, 1 for exponential
+	// sizes), the service-time variability of central-optimal's min-delay
+	// model; set with MeanPacketBytes by whoever builds the run and read
+	// only when MeanPacketBytes is set (otherwise 1).
+	PacketSizeSCV float64
 }
 
 // packetBytes returns the packet size zero-load estimates assume.
@@ -91,6 +97,15 @@ func (p *Params) packetBytes() float64 {
 		return p.MeanPacketBytes
 	}
 	return AssumedPacketBytes
+}
+
+// packetSCV returns the packet-size variability the min-delay model
+// assumes.
+func (p *Params) packetSCV() float64 {
+	if p.MeanPacketBytes > 0 {
+		return p.PacketSizeSCV
+	}
+	return 1
 }
 
 // Fields returns the experiment-file fields kind accepts besides kind and

@@ -8,6 +8,8 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/stat"
+
 	"hoplore/internal/yamlx"
 	"hoplore/sim"
 )
@@ -161,5 +163,12 @@ func TestFlowMeanPacketBytes(t *testing.T) {
 	want := (pr*1000 + fr*109_000/73) / (pr + fr)
 	if got := r.meanPacketBytes(); math.Abs(got-want) > 1e-9*want || got <= 1000 || got >= 1500 {
 		t.Errorf("mean packet bytes %g, want %g", got, want)
+	}
+	// Their size variability: the fixed 1000-byte packets and the flows'
+	// packets at their mean size form a two-point mix (gonum's weighted
+	// population variance).
+	m, v := stat.PopMeanVariance([]float64{1000, 109_000.0 / 73}, []float64{pr, fr})
+	if got := r.packetSizeSCV(); math.Abs(got-v/(m*m)) > 1e-9 || got <= 0 {
+		t.Errorf("packet size cs² %g, want %g", got, v/(m*m))
 	}
 }

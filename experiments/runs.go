@@ -345,6 +345,7 @@ func (r *Run) Config() (*sim.Config, error) {
 	e, t := r.Exp, r.Topology
 	ap := r.Agent
 	ap.MeanPacketBytes = r.meanPacketBytes()
+	ap.PacketSizeSCV = r.packetSizeSCV()
 	agent, err := agents.New(ap, t.Net)
 	if err != nil {
 		return nil, fmt.Errorf("experiments: run %s: %w", r.Dims.RunID, err)
@@ -548,6 +549,29 @@ func (g *FlowTraffic) packetsPerFlow() float64 {
 		return n
 	}
 	return math.Max(1, g.Size.Mean()/pkt+0.5)
+}
+
+// packetSizeSCV is the squared coefficient of variation of the run's data
+// packet sizes, for central-optimal's min-delay model: the packet
+// traffic's (sim.SizeDist.SCV), mixed with the flows' packets by packets
+// per second as in meanPacketBytes, a flow's packets taken at their mean
+// size (the shorter last packet of a flow is neglected).
+func (r *Run) packetSizeSCV() float64 {
+	e := r.Exp
+	d := e.Traffic.Size
+	g := e.Traffic.FlowGen
+	if g == nil || e.Traffic.Replay {
+		return d.SCV()
+	}
+	pr := sumRates(r.Rates())
+	fr := sumRates(r.FlowRates()) * g.packetsPerFlow()
+	if pr+fr == 0 {
+		return d.SCV()
+	}
+	m, flowPkt := d.Mean(), g.Size.Mean()/g.packetsPerFlow()
+	mean := (pr*m + fr*flowPkt) / (pr + fr)
+	second := (pr*m*m*(1+d.SCV()) + fr*flowPkt*flowPkt) / (pr + fr) // E[X²]
+	return math.Max(0, second/(mean*mean)-1)
 }
 
 func sumRates(m [][]float64) float64 {

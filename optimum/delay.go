@@ -121,6 +121,20 @@ func (s *Solver) MinDelay(eps float64) (MinDelay, error) {
 	return res, nil
 }
 
+// ChannelDelay returns a channel's term of γ·T in MinDelay: f packets/s
+// times the channel's mean delay, the Pollaczek–Khinchine M/G/1 sojourn for
+// service-time variability cs² plus propagation p, that is
+// f/(c − f)·(1 − (1 − cs²)/2·f/c) + f·p for f < c packets/s of capacity c
+// (+Inf for f ≥ c). With cs² = 1 it is the M/M/1 term f/(c − f) + f·p
+// exactly. For a controller that weighs the routing in force on the same
+// scale as MinDelay's.
+func ChannelDelay(f, c, p, cs2 float64) float64 {
+	if f >= c {
+		return math.Inf(1)
+	}
+	return f/(c-f)*(1-(1-cs2)/2*f/c) + f*p
+}
+
 // delaySum returns γ·T(tot) = Σ_e f_e/(c_e − f_e)·(1 − b·f_e/c_e) + f_e·p_e.
 func (s *Solver) delaySum() float64 {
 	var sum float64

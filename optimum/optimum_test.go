@@ -179,7 +179,16 @@ func TestSingleChannelMG1(t *testing.T) {
 			if !d.Feasible || math.Abs(d.Mean-tc.want) > 1e-12 || d.Gap != 0 {
 				t.Errorf("got %+v, want mean %.15g exactly", d, tc.want)
 			}
+			if got := optimum.ChannelDelay(lam, c, p, tc.scv) / lam; math.Abs(got-tc.want) > 1e-12 {
+				t.Errorf("ChannelDelay/λ = %.15g, want %.15g", got, tc.want)
+			}
+			if got := optimum.ChannelDelay(c, c, p, tc.scv); !math.IsInf(got, 1) {
+				t.Errorf("ChannelDelay at saturation = %v, want +Inf", got)
+			}
 		})
+	}
+	if got, want := optimum.ChannelDelay(lam, c, p, 1), lam/(c-lam)+lam*p; got != want {
+		t.Errorf("ChannelDelay with cs² = 1: %v, want the M/M/1 term %v exactly", got, want)
 	}
 	if want := 0.3125 + p; math.Abs(1.0/c+(lam/c)/(2*c*(1-lam/c))+p-want) > 1e-15 {
 		t.Fatalf("M/D/1 by hand: want %v", want)

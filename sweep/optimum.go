@@ -70,7 +70,9 @@ func (o *optima) of(r *experiments.Run) (cellOptimum, error) {
 // computeOptimum solves the least maximum utilisation and the least mean
 // delay (package optimum) for run r's offered matrix — the matrix its
 // sources emit before any phase factor, the first matrix of a replay — on
-// the intact topology, with capacities from the mean packet size.
+// the intact topology, with capacities from the mean packet size and M/G/1
+// channels of the packet sizes' variability (0 for a fixed size, 1 for
+// exponential sizes).
 func computeOptimum(r *experiments.Run) (cellOptimum, error) {
 	if !wantOptimum(r) {
 		return cellOptimum{}, nil
@@ -92,7 +94,11 @@ func wantOptimum(r *experiments.Run) bool {
 func solveState(r *experiments.Run, demand [][]float64, down func(c int) bool) (cellOptimum, float64, error) {
 	var c cellOptimum
 	eps := r.Exp.Optimum.Epsilon
-	s, err := optimum.NewSolver(optimum.FromNet(r.Topology.Net, r.Exp.Traffic.Size.Mean(), down))
+	size := r.Exp.Traffic.Size
+	s, err := optimum.NewSolver(optimum.FromNet(r.Topology.Net, size.Mean(), down))
+	if err == nil {
+		err = s.SetServiceSCV(size.SCV())
+	}
 	if err == nil {
 		err = s.SetDemand(demand)
 	}
