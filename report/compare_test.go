@@ -470,3 +470,31 @@ func TestReadResultNamesFromSchema(t *testing.T) {
 	}()
 	readResult(t.TempDir(), results.Series, []string{"topology", "delivery_avg_s"}, nil)
 }
+
+// TestBelowOptimum: the delivery chart's caption explains the model
+// optimum only when some agent's mean lies below it at the same topology
+// and load.
+func TestBelowOptimum(t *testing.T) {
+	refs := map[string]optimumRef{"a": {line: []Point{{X: 0.5, Est: estimateOf(0.010)}, {X: 1, Est: estimateOf(0.040)}}, limit: 1.2}}
+	panel := func(topo string, pts ...Point) []LoadPanel {
+		return []LoadPanel{{Topology: topo, Failure: "none", Curves: []Curve{{Agent: "x", Points: pts}}}}
+	}
+	for _, tc := range []struct {
+		name   string
+		panels []LoadPanel
+		want   bool
+	}{
+		{"above everywhere", panel("a", Point{X: 0.5, Est: estimateOf(0.011)}, Point{X: 1, Est: estimateOf(0.041)}), false},
+		{"equal", panel("a", Point{X: 1, Est: estimateOf(0.040)}), false},
+		{"below near the limit", panel("a", Point{X: 0.5, Est: estimateOf(0.011)}, Point{X: 1, Est: estimateOf(0.030)}), true},
+		{"below at a load without optimum", panel("a", Point{X: 1.5, Est: estimateOf(0.001)}), false},
+		{"other topology", panel("b", Point{X: 1, Est: estimateOf(0.001)}), false},
+	} {
+		if got := belowOptimum(tc.panels, refs); got != tc.want {
+			t.Errorf("%s: got %v, want %v", tc.name, got, tc.want)
+		}
+	}
+	if belowOptimum(panel("a", Point{X: 1, Est: estimateOf(0.001)}), nil) {
+		t.Error("no references: got true")
+	}
+}

@@ -17,9 +17,10 @@ import (
 
 // Optimum is the model optimum of one topology at one load, read from the
 // opt_* columns of its runs (the same in every run of the cell): the least
-// mean delivery time of any splittable routing under the M/M/1-channel
-// model (NaN when none is finite or it was not computed) and the highest
-// load of the matrix any routing could carry (NaN when not computed).
+// mean delivery time of any splittable routing under the model of
+// independent M/G/1 channels (NaN when none is finite or it was not
+// computed) and the highest load of the matrix any routing could carry
+// (NaN when not computed).
 type Optimum struct {
 	Topology  string
 	Load      float64
@@ -105,6 +106,31 @@ func optimumRefs(d *Data, col string) map[string]optimumRef {
 		out[o.Topology] = ref
 	}
 	return out
+}
+
+// belowOptimumText explains, in the delivery-time chart's caption, an
+// agent's mean delivery time below the model optimum's.
+const belowOptimumText = "Some agents' means lie below the model optimum (grey dashed): the optimum delivers all the offered traffic through unlimited buffers, so near its load limit its queues approach saturation and its mean grows without bound, while an agent that drops packets at full buffers delivers fewer packets, which waited in bounded queues (see the loss chart); and the model treats channels as independent M/G/1 queues, whereas a packet keeps its size from hop to hop, which shortens queues after the first hop."
+
+// belowOptimum reports whether some agent's mean in panels lies below the
+// reference line of its topology at the same load.
+func belowOptimum(panels []LoadPanel, refs map[string]optimumRef) bool {
+	for _, lp := range panels {
+		ref, ok := refs[lp.Topology]
+		if !ok {
+			continue
+		}
+		for _, c := range lp.Curves {
+			for _, p := range c.Points {
+				for _, q := range ref.line {
+					if q.X == p.X && p.Est.Mean < q.Est.Mean {
+						return true
+					}
+				}
+			}
+		}
+	}
+	return false
 }
 
 // optimumStyle is the reference line's style: dashed, in the theme's

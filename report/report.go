@@ -131,7 +131,12 @@ func Build(d *Data, o Options) (*Report, error) {
 	agents := d.Agents()
 	for _, c := range chartedColumns(d) {
 		t := textFor(c)
-		r.charts = append(r.charts, loadChart(t.id, t.title, t.caption, loadCurves(d, results.Runs.Index(c.Name)), agents, c, optimumRefs(d, c.Name)))
+		panels, refs := loadCurves(d, results.Runs.Index(c.Name)), optimumRefs(d, c.Name)
+		caption := t.caption
+		if c.Name == "delivery_mean_s" && belowOptimum(panels, refs) {
+			caption += " " + belowOptimumText
+		}
+		r.charts = append(r.charts, loadChart(t.id, t.title, caption, panels, agents, c, refs))
 	}
 	if o.ExpectedRuns > len(d.Runs) {
 		r.Notes = append(r.Notes, fmt.Sprintf("Incomplete: the tables hold %d of the experiment's %d runs (%d missing: a shard not merged, or a sweep not finished). Means and intervals cover the runs present only.",
