@@ -344,7 +344,7 @@ var Optimum = &Table{Name: TableOptimum, File: OptimumFile, Doc: "the model opti
 	{Name: "unroutable_share", Unit: "1", Label: "unroutable share", Doc: "share of the offered demand no routing could deliver in the state"},
 	{Name: "opt_util_max", Unit: "1", Label: "optimum: max utilisation", Doc: "least maximum channel utilisation of any splittable routing in the state; null when not computed"},
 	{Name: "opt_load_limit", Unit: "1", Label: "optimum: load limit", Doc: "load / opt_util_max; null when not computed or nothing is offered"},
-	{Name: "opt_delay_mean_s", Unit: "s", Label: "optimum: delivery mean", Doc: "least mean delivery time of any splittable routing (M/M/1 channels with propagation); null when none stays below saturation, or not computed"},
+	{Name: "opt_delay_mean_s", Unit: "s", Label: "optimum: delivery mean", Doc: "least mean delivery time of any splittable routing (independent M/G/1 channels of the run's packet-size variability, with propagation); null when none stays below saturation, or not computed"},
 	{Name: "opt_util_gap", Unit: "1", Label: "optimum: max utilisation gap", Doc: "certified relative gap of opt_util_max"},
 	{Name: "opt_delay_gap", Unit: "1", Label: "optimum: delivery mean gap", Doc: "certified relative gap of opt_delay_mean_s"},
 }}
