@@ -1,6 +1,7 @@
 package optimum_test
 
 import (
+	"slices"
 	"syscall"
 	"testing"
 	"time"
@@ -16,10 +17,11 @@ var benchCases = []struct {
 	topo   string
 	params map[string]float64
 	load   float64
+	fixed  bool // M/D/1 channels in BenchmarkMinDelay
 }{
-	{"waxman50/load1", "waxman", map[string]float64{"nodes": 50}, 1},
-	{"waxman50/load2.5", "waxman", map[string]float64{"nodes": 50}, 2.5},
-	{"torus7x7/load1", "torus", map[string]float64{"rows": 7, "cols": 7}, 1},
+	{"waxman50/load1", "waxman", map[string]float64{"nodes": 50}, 1, false},
+	{"waxman50/load2.5", "waxman", map[string]float64{"nodes": 50}, 2.5, false},
+	{"torus7x7/load1", "torus", map[string]float64{"rows": 7, "cols": 7}, 1, false},
 }
 
 // BenchmarkMinMaxUtil times one least-maximum-utilisation solve at ε = 1%
@@ -50,11 +52,23 @@ func BenchmarkMinMaxUtil(b *testing.B) {
 
 // BenchmarkMinDelay times one least-mean-delay solve at ε = 1%, including
 // the min–max solve it starts from, and reports the certified gap and the
-// flow-deviation iterations.
+// flow-deviation iterations: M/M/1 channels on every bench case, and M/D/1
+// ones (fixed-size packets, cs² = 0) on the Waxman graph.
 func BenchmarkMinDelay(b *testing.B) {
-	for _, bc := range benchCases {
+	cases := slices.Clone(benchCases)
+	for _, bc := range benchCases[:2] {
+		bc.name += "/fixed-size"
+		bc.fixed = true
+		cases = append(cases, bc)
+	}
+	for _, bc := range cases {
 		b.Run(bc.name, func(b *testing.B) {
 			s := uniformAt(b, bc.topo, bc.params, bc.load)
+			if bc.fixed {
+				if err := s.SetServiceSCV(0); err != nil {
+					b.Fatal(err)
+				}
+			}
 			b.ReportAllocs()
 			var r optimum.MinDelay
 			cpu := cpuTime()
