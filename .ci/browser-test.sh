@@ -46,8 +46,13 @@ rm -rf "$dir"
 note "writing synthetic result tables and their report into $dir"
 go test ./report -count=1 -run '^TestWriteDemoReport$' -args -out "$dir" >"$work/go-test.log" 2>&1 ||
 	{ cat "$work/go-test.log" >&2; fail "go test TestWriteDemoReport"; }
-note "rewriting the report with: hoplore report $dir"
-"$work/hoplore" report "$dir" || fail "hoplore report exited with $?"
+# The command line on a real result folder (report refuses folders without
+# the marker and table manifest that a run writes, as the synthetic one is).
+cli="$work/cli"
+note "a real sweep and its report through the command line: hoplore run testdata/tiny.yaml, hoplore report"
+"$work/hoplore" run testdata/tiny.yaml --out "$cli" --quiet || fail "hoplore run exited with $?"
+"$work/hoplore" report "$cli" || fail "hoplore report exited with $?"
+[ -s "$cli/report/index.html" ] || fail "$cli/report/index.html missing or empty"
 
 page="$dir/report/index.html"
 [ -s "$page" ] || fail "$page missing or empty"
