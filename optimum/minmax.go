@@ -42,6 +42,10 @@ const maxPhases = 5000
 //     lengths give a lower bound on λ*), evaluated every phase with the
 //     best kept; and one with fine steps (η = 5ε), whose phase flows make
 //     the primal.
+//   - Once a routing is found, the same bound is also taken for lengths
+//     kept only on the channels that routing nearly saturates (see
+//     tightBound): near the optimum these certify the gap in a few phases
+//     where the multiplicative lengths alone approach it only slowly.
 //   - The primal is the best routing found among the average of the fine
 //     phase flows since the last power-of-two phase and the best point on
 //     the segment from the current routing to each new phase flow (exact
@@ -50,7 +54,8 @@ const maxPhases = 5000
 //
 // It stops when Util/Lower − 1 ≤ eps, or after a bounded number of phases
 // (the gap reached is reported either way). Cost per phase: about three
-// times N reverse Dijkstras plus O(N·E).
+// times N reverse Dijkstras, plus 4N for the bounds on nearly saturated
+// channels, plus O(N·E).
 //
 // The routing found stays in the solver (for Splits and as the start of
 // MinDelay). Allocation-free once the solver exists.
@@ -90,7 +95,7 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 			mix(s.tot, s.ytot, g)
 			res.Util = s.maxUtil(s.tot)
 		}
-		res.Lower = math.Max(res.Lower, s.dualBound(s.lengths))
+		res.Lower = max(res.Lower, s.dualBound(s.lengths), s.tightBound(res.Util))
 		// The primal process: fine steps whose phase flows average well.
 		s.phase(s.lprimal, etaP, scale)
 		if res.Phases&(res.Phases-1) == 0 && res.Phases >= 8 {
@@ -124,6 +129,47 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 	res.Gap = res.Util/res.Lower - 1
 	s.mm, s.mmEps = res, eps
 	return res, nil
+}
+
+// tightFracs set the channels tightBound keeps: those loaded to at least
+// (1 − f) times the routing's maximum utilisation, for each f (a routing
+// near the optimum often has channels just below the maximum that no
+// optimal routing saturates).
+var tightFracs = [...]float64{1e-3, 1e-6}
+
+// tightBound returns the best dual bound of two length functions kept only
+// on the channels the current routing loads to nearly its maximum
+// utilisation util, zero elsewhere: the coarse lengths there, and length 1
+// on each of them. Complementary slackness says an optimal length function
+// is zero off the channels an optimal routing saturates (Ahuja, Magnanti &
+// Orlin, Network Flows, 1993, §17.2 for the concurrent flow LP), so once
+// the routing is close to optimal these are often far stronger bounds than
+// the lengths themselves: when the saturated channels form a cut the
+// second is the cut's demand over its capacity, which the multiplicative
+// lengths only approach. Any lengths ≥ 0 give a valid bound (weak duality),
+// so nothing is lost when they are weaker. Cost 4N Dijkstras.
+func (s *Solver) tightBound(util float64) float64 {
+	var b float64
+	for _, f := range tightFracs {
+		for c, ch := range s.net.Channels {
+			switch {
+			case ch.Capacity <= 0:
+				s.lmask[c] = math.Inf(1)
+			case s.tot[c] >= (1-f)*util*ch.Capacity:
+				s.lmask[c] = s.lengths[c]
+			default:
+				s.lmask[c] = 0
+			}
+		}
+		b = max(b, s.dualBound(s.lmask))
+		for c, l := range s.lmask {
+			if l > 0 && !math.IsInf(l, 1) {
+				s.lmask[c] = 1
+			}
+		}
+		b = max(b, s.dualBound(s.lmask))
+	}
+	return b
 }
 
 // phase routes every destination's whole demand once (one Garg–Könemann
