@@ -54,8 +54,8 @@ const maxPhases = 5000
 //
 // It stops when Util/Lower − 1 ≤ eps, or after a bounded number of phases
 // (the gap reached is reported either way). Cost per phase: about three
-// times N reverse Dijkstras, plus 4N for the bounds on nearly saturated
-// channels, plus O(N·E).
+// times N reverse Dijkstras, plus 4N every fourth phase for the bounds on
+// nearly saturated channels, plus O(N·E).
 //
 // The routing found stays in the solver (for Splits and as the start of
 // MinDelay). Allocation-free once the solver exists.
@@ -95,7 +95,10 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 			mix(s.tot, s.ytot, g)
 			res.Util = s.maxUtil(s.tot)
 		}
-		res.Lower = max(res.Lower, s.dualBound(s.lengths), s.tightBound(res.Util))
+		res.Lower = math.Max(res.Lower, s.dualBound(s.lengths))
+		if res.Phases%tightEvery == 0 {
+			res.Lower = math.Max(res.Lower, s.tightBound(res.Util))
+		}
 		// The primal process: fine steps whose phase flows average well.
 		s.phase(s.lprimal, etaP, scale)
 		if res.Phases&(res.Phases-1) == 0 && res.Phases >= 8 {
@@ -136,6 +139,10 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 // near the optimum often has channels just below the maximum that no
 // optimal routing saturates).
 var tightFracs = [...]float64{1e-3, 1e-6}
+
+// tightEvery: tightBound is taken every tightEvery phases, which bounds its
+// cost where it does not help (it costs more than a phase's lengths bound).
+const tightEvery = 4
 
 // tightBound returns the best dual bound of two length functions kept only
 // on the channels the current routing loads to nearly its maximum
