@@ -54,8 +54,9 @@ const maxPhases = 5000
 //
 // It stops when Util/Lower − 1 ≤ eps, or after a bounded number of phases
 // (the gap reached is reported either way). Cost per phase: about three
-// times N reverse Dijkstras, plus 4N every fourth phase for the bounds on
-// nearly saturated channels, plus O(N·E).
+// times N reverse Dijkstras, plus at most 4N (every phase while they
+// help, every 16th at most while they do not) for the bounds on nearly
+// saturated channels, plus O(N·E).
 //
 // The routing found stays in the solver (for Splits and as the start of
 // MinDelay). Allocation-free once the solver exists.
@@ -83,6 +84,7 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 	res.Lower = s.dualBound(s.lengths)
 	etaD, etaP := math.Min(0.5, 10*eps), math.Min(0.5, 5*eps)
 	count := 1.0 // phases summed in sumk
+	nextTight, tightGap := 1, 1
 	for res.Phases = 1; res.Phases <= maxPhases; res.Phases++ {
 		if res.Util <= (1+eps)*res.Lower {
 			break
@@ -96,8 +98,14 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 			res.Util = s.maxUtil(s.tot)
 		}
 		res.Lower = math.Max(res.Lower, s.dualBound(s.lengths))
-		if res.Phases%tightEvery == 0 {
-			res.Lower = math.Max(res.Lower, s.tightBound(res.Util))
+		if res.Phases >= nextTight {
+			// Back off while it does not raise the bound.
+			if b := s.tightBound(res.Util); b > res.Lower {
+				res.Lower, tightGap = b, 1
+			} else {
+				tightGap = min(2*tightGap, maxTightGap)
+			}
+			nextTight = res.Phases + tightGap
 		}
 		// The primal process: fine steps whose phase flows average well.
 		s.phase(s.lprimal, etaP, scale)
@@ -140,9 +148,11 @@ func (s *Solver) MinMaxUtil(eps float64) (MinMax, error) {
 // optimal routing saturates).
 var tightFracs = [...]float64{1e-3, 1e-6}
 
-// tightEvery: tightBound is taken every tightEvery phases, which bounds its
-// cost where it does not help (it costs more than a phase's lengths bound).
-const tightEvery = 4
+// maxTightGap: tightBound is taken every phase while it raises the lower
+// bound, and at intervals doubling up to maxTightGap phases while it does
+// not, which bounds its cost where it does not help (it costs more than a
+// phase's lengths bound).
+const maxTightGap = 16
 
 // tightBound returns the best dual bound of two length functions kept only
 // on the channels the current routing loads to nearly its maximum
