@@ -55,3 +55,10 @@ func CentralOptimalSolve(ag sim.Agent, demand [][]float64, d int) ([][]float64, 
 	}
 	return out, a.LastUtil, err
 }
+
+// QRoutingValue returns node's estimate Q(d, out[k]) of a q-routing agent
+// after its run.
+func QRoutingValue(a sim.Agent, node, d, k int) float64 {
+	r := a.(*QRouting).nodes[node]
+	return r.q[d*r.deg+k]
+}

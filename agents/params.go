@@ -69,7 +69,7 @@ type Params struct {
 	DropPenalty  sim.Time // central-q: cost charged per dropped packet
 
 	// central-optimal (also Every, ControlDelay, Smoothing)
-	Objective string // min-max-util | min-delay
+	Objective string // central-optimal: min-max-util | min-delay; central-q: delay | loss | utilisation; q-routing: delay | loss
 	Split     string // flow (by flow hash) | packet
 	// every kind: PinPacket (default) or PinFlow (see PinFlow)
 	Pin string

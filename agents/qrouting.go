@@ -50,8 +50,10 @@ func init() {
 			learningField(),
 			startFromField(),
 			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
+			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveDelay, oneOf("objective", ObjectiveDelay, ObjectiveLoss)),
 		},
-		New: newQRouting,
+		Check: checkQRoutingObjective,
+		New:   newQRouting,
 		Cost: func(p *Params, r RunSize) Cost {
 			c := Cost{Events: consensusEvents(p, r)}
 			if p.Feedback == "in-band" {
@@ -63,6 +65,25 @@ func init() {
 			return c
 		},
 	})
+}
+
+// checkQRoutingObjective rejects what a loss estimate cannot be combined
+// with: the parts of q-routing whose values are times.
+func checkQRoutingObjective(p *Params) error {
+	if p.Objective == ObjectiveDelay {
+		return nil
+	}
+	switch {
+	case p.Variant == "dual" || p.Variant == "confidence":
+		return perr("variant", "%s has no %s objective (use plain or predictive)", p.Variant, p.Objective)
+	case p.GiveUpAfter > 0:
+		return perr("give_up_after", "is a delivery time and applies to objective delay only")
+	case p.Consensus != nil:
+		return perr("consensus", "blends delivery times and applies to objective delay only")
+	case p.StartFrom != nil:
+		return perr("start_from", "loads delivery-time tables and applies to objective delay only")
+	}
+	return nil
 }
 
 // QRouting is per-node tabular Q-routing (Boyan & Littman, "Packet routing in
@@ -111,6 +132,36 @@ func init() {
 //     C += η(C_est − C). Every other entry of the same destination row
 //     decays by confidenceDecay at each update of that row (lazily).
 //
+// Objective (objective: delay, the default, is all of the above):
+//   - delay: Q is a delivery time in seconds. A drop does not enter it: a
+//     packet lost after x chose y brings x no feedback, so the estimate
+//     learns only from the packets that reach y (as Boyan & Littman).
+//     Heavy loss on a short path therefore does not move traffic away
+//     from it; a full queue does only through the wait it causes.
+//   - loss: Q_x(d,y) is the probability that a packet for d sent now into
+//     the channel towards y is lost before delivery, in [0, 1]. x samples
+//     the outcome of each packet it sends: a drop on its own channel (a
+//     full output queue or a loss on the link, reported to x alone by
+//     sim.Dropper) gives the sample 1; an arrival at y gives y's
+//     V_y(d) = min_z Q_y(d,z) (0 at y = d). Q moves towards each sample
+//     (rate as the variant), so it converges to the Bellman target
+//     p_xy·1 + (1 − p_xy)·V_y(d) = 1 − (1 − p_xy)(1 − V_y(d)), p_xy being
+//     the drop frequency x observes on its channel: Q-learning on sampled
+//     transitions (Watkins & Dayan, "Q-learning", Machine Learning 8,
+//     1992) with loss as a terminal cost of 1. A packet that reaches its
+//     hop limit at y (it will be dropped there) is a loss too: y then
+//     returns 1, so a forwarding loop shows as loss. Tables start at 0 (1
+//     for an unreachable destination). Beside them each node keeps the
+//     delivery-time table of objective delay (same start, same update at
+//     rate learning_rate, the feedback carrying both values) and breaks
+//     exact ties of loss estimates, such as between loss-free paths, by it:
+//     packets take the fastest of the least lossy routes, and around a
+//     failed link the rising delivery time breaks the loops that equal loss
+//     values cannot. The variants plain and predictive (whose recovery
+//     machinery acts on the loss table) take this objective; dual and
+//     confidence, and give_up_after, consensus and start_from, are
+//     delivery-time notions and are refused with it.
+//
 // With give_up_after B > 0 a node drops (no_route) the packets for a
 // destination whose every estimate exceeds B, forwarding one every B as a
 // probe (see giveUp); this is hoplore's addition, off by default.
@@ -143,6 +194,7 @@ type qrShared struct {
 	dist     [][]float64 // zero-load least cost dist[u][d]
 	qCap     float64     // ceiling on estimates (unreachable)
 	consVals bool
+	loss     bool // objective loss: estimates are loss probabilities
 }
 
 var (
@@ -150,6 +202,7 @@ var (
 	_ sim.Router   = (*qrNode)(nil)
 	_ sim.Arrivals = (*qrNode)(nil)
 	_ sim.Receiver = (*qrNode)(nil)
+	_ sim.Dropper  = (*qrNode)(nil)
 	_ sim.Detector = (*qrNode)(nil)
 	_ sim.Timed    = (*qrNode)(nil)
 )
@@ -171,6 +224,19 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	s.zl = zeroLoadCosts(net, p.packetBytes())
 	s.dist = allPairsDist(net, s.zl)
 	s.qCap = qCeiling(s.dist)
+	switch p.Objective {
+	case ObjectiveDelay:
+	case ObjectiveLoss:
+		if s.variant == variantDual {
+			return nil, fmt.Errorf("agents: q-routing: variant dual has no objective %s", p.Objective)
+		}
+		if s.variant == variantConfidence {
+			return nil, fmt.Errorf("agents: q-routing: variant confidence has no objective %s", p.Objective)
+		}
+		s.loss = true
+	default:
+		return nil, fmt.Errorf("agents: q-routing: unknown objective %q", p.Objective)
+	}
 	return &QRouting{p: p, shared: s}, nil
 }
 
@@ -206,6 +272,7 @@ func (a *QRouting) Node(v *sim.NodeView) sim.Router {
 	if r.fq != nil {
 		// the first snapshot holds the tables the run starts from
 		copy(r.fq, r.q)
+		copy(r.fqd, r.qd)
 		copy(r.fb, r.b)
 		copy(r.fr, r.r)
 		copy(r.fu, r.u)
@@ -217,6 +284,7 @@ func (a *QRouting) Node(v *sim.NodeView) sim.Router {
 // continueFrom copies the learned tables of o, times shifted back by shift.
 func (r *qrNode) continueFrom(o *qrNode, shift sim.Time) {
 	copy(r.q, o.q)
+	copy(r.qd, o.qd)
 	copy(r.b, o.b)
 	copy(r.r, o.r)
 	for i := range r.u {
@@ -236,7 +304,11 @@ type qrNode struct {
 	deg int
 	net *sim.Net
 
-	q []float64 // [d*deg+k] seconds
+	q []float64 // [d*deg+k] seconds (objective loss: probabilities)
+	// objective loss: delivery-time estimates breaking ties, seconds, and
+	// the hop limit beyond which a packet counts as lost
+	qd, fqd  []float64
+	hopLimit int
 	// predictive
 	b, r []float64
 	u    []sim.Time
@@ -266,6 +338,7 @@ const tagQInstall = 2
 // snapshot against the preference so far. Cost O(N·degree), no allocation.
 func (r *qrNode) install() {
 	copy(r.fq, r.q)
+	copy(r.fqd, r.qd)
 	copy(r.fb, r.b)
 	copy(r.fr, r.r)
 	copy(r.fu, r.u)
@@ -279,7 +352,7 @@ func (r *qrNode) install() {
 			if !r.v.Up(c) {
 				continue
 			}
-			if val := r.estimate(d*r.deg+k, 0); best < 0 || val < bestV {
+			if val := r.estimate(d*r.deg+k, 0); best < 0 || val < bestV || val == bestV && r.s.loss && r.tieDelay(d, k) < r.tieDelay(d, best) {
 				best, bestV = k, val
 			}
 		}
@@ -292,6 +365,10 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	r := &qrNode{s: s, v: v, id: v.ID(), out: out, deg: len(out), net: v.Net()}
 	r.proc = r.net.Graph.Nodes[r.id].Processing.Seconds()
 	r.q = make([]float64, s.n*r.deg)
+	if s.loss {
+		r.qd = make([]float64, len(r.q))
+		r.hopLimit = v.HopLimit()
+	}
 	r.pref = newPrefs(s.n)
 	r.give = newGiveUp(s.p.GiveUpAfter, s.n)
 	switch s.variant {
@@ -309,6 +386,10 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	}
 	if s.p.InstallEvery > 0 {
 		r.fq = make([]float64, len(r.q))
+		if r.qd != nil {
+			r.fqd = make([]float64, len(r.qd))
+		}
+		copy(r.fqd, r.qd)
 		if r.b != nil {
 			r.fb = make([]float64, len(r.b))
 			r.fr = make([]float64, len(r.r))
@@ -346,6 +427,13 @@ func (r *qrNode) resetColumn(k int) {
 		v := r.s.zl[c] + r.s.dist[y][d]
 		if math.IsInf(v, 1) || v > r.s.qCap {
 			v = r.s.qCap
+		}
+		if r.s.loss {
+			r.qd[i] = v
+			v = 0
+			if r.qd[i] == r.s.qCap {
+				v = 1
+			}
 		}
 		r.q[i] = v
 		switch r.s.variant {
@@ -399,7 +487,7 @@ func (r *qrNode) Route(p *sim.Packet) int {
 				continue
 			}
 			val := r.estimate(base+k, now)
-			if best < 0 || val < bestV {
+			if best < 0 || val < bestV || val == bestV && r.s.loss && r.tieDelay(d, k) < r.tieDelay(d, best) {
 				best, bestV = k, val
 			}
 		}
@@ -417,6 +505,16 @@ func (r *qrNode) Route(p *sim.Packet) int {
 		}
 	}
 	return r.out[best]
+}
+
+// tieDelay returns the delivery-time estimate to d via out[k] that breaks
+// ties of the loss objective (from the forwarding snapshot with
+// install_every).
+func (r *qrNode) tieDelay(d, k int) float64 {
+	if r.fqd != nil {
+		return r.fqd[d*r.deg+k]
+	}
+	return r.qd[d*r.deg+k]
 }
 
 // randomUp returns a uniformly chosen usable column, or -1.
@@ -465,6 +563,32 @@ func (r *qrNode) value(d int) (float64, int) {
 	return math.Min(r.proc+bestV, r.s.qCap), best
 }
 
+// lossValue returns, under objective loss, V_x(d) = min over usable
+// channels of the loss estimate Q_x(d,·) (0 for d = x; 1 when no channel
+// is usable), ties broken by the delivery-time estimate, and the
+// delivery-time value of that channel plus processing (0 for d = x; the
+// ceiling when none is usable).
+func (r *qrNode) lossValue(d int) (loss, delay float64) {
+	if d == r.id {
+		return 0, 0
+	}
+	base := d * r.deg
+	best := -1
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		i := base + k
+		if best < 0 || r.q[i] < r.q[base+best] || r.q[i] == r.q[base+best] && r.qd[i] < r.qd[base+best] {
+			best = k
+		}
+	}
+	if best < 0 {
+		return 1, r.s.qCap
+	}
+	return r.q[base+best], math.Min(r.proc+r.qd[base+best], r.s.qCap)
+}
+
 // confidenceOf returns entry i's confidence after lazy decay.
 func (r *qrNode) confidenceOf(d, i int) float64 {
 	age := r.rowN[d] - r.stamp[i]
@@ -481,6 +605,7 @@ const (
 	msgValues                        // consensus: Vec = V_y(d) for all d
 	msgParams                        // consensus: Vec = network parameters
 	msgNetFeedback                   // q-network: Value = q+s+t, Aux = decision's queue feature
+	msgFeedbackLoss                  // objective loss: Value = loss value of y, Aux = q+s+t
 )
 
 // Arrived runs at y when a data packet comes in from x: it returns the
@@ -492,6 +617,20 @@ func (r *qrNode) Arrived(p *sim.Packet, in int) {
 	back := in ^ 1 // this node → previous node
 	d := p.Dst
 	qs := (p.LastWait + p.LastTx).Seconds()
+	if r.s.loss {
+		l, t := r.lossValue(d)
+		if d != r.id && p.Hops >= r.hopLimit {
+			l = 1 // the packet expires here: lost
+		}
+		m := sim.Message{Type: msgFeedbackLoss, Dst: d, Value: l, Aux: qs + t}
+		if r.s.inBand {
+			m.Bytes = FeedbackBytes
+			r.v.Send(back, m)
+		} else {
+			r.v.Tell(back, m)
+		}
+		return
+	}
 	t, bk := r.value(d)
 	m := sim.Message{Type: msgFeedback, Dst: d, Value: t, Aux: qs}
 	if r.s.variant == variantConfidence {
@@ -531,6 +670,12 @@ func (r *qrNode) Receive(m *sim.Message, in int) {
 	}
 	delay := r.net.Channels[r.out[k]].Delay.Seconds()
 	switch m.Type {
+	case msgFeedbackLoss:
+		r.update(m.Dst, k, m.Value, 1)
+		if d := m.Dst; d != r.id && d >= 0 && d < r.s.n {
+			i := d*r.deg + k
+			r.qd[i] += r.s.p.LearningRate * (math.Min(m.Aux+delay, r.s.qCap) - r.qd[i])
+		}
 	case msgFeedback:
 		r.update(m.Dst, k, m.Value+m.Aux+delay, 1)
 	case msgFeedbackConf:
@@ -573,6 +718,18 @@ func (r *qrNode) update(d, k int, target, conf float64) {
 		r.stamp[i] = r.rowN[d]
 	default:
 		r.q[i] = old + r.s.p.LearningRate*(target-old)
+	}
+}
+
+// Dropped samples a loss under objective loss: the packet for p.Dst sent
+// into this node's channel out was lost there (full queue or link loss), so
+// Q_x(d, out) moves towards 1. Under delay a drop teaches nothing.
+func (r *qrNode) Dropped(p *sim.Packet, out int, _ sim.DropReason) {
+	if !r.s.loss || r.s.p.frozen() {
+		return
+	}
+	if k := r.localIndex(out); k >= 0 {
+		r.update(p.Dst, k, 1, 1)
 	}
 }
 

@@ -46,6 +46,15 @@ type Arrivals interface {
 	Arrived(p *Packet, in int)
 }
 
+// Dropper is told when a data packet this node routed is lost on one of its
+// own outgoing channels: refused by the full output queue (QueueFull) or
+// lost on the link after its transmission (LinkLoss). out is that channel.
+// It is what a sender observes of its own channel; drops elsewhere are not
+// reported. p is valid only during the call.
+type Dropper interface {
+	Dropped(p *Packet, out int, reason DropReason)
+}
+
 // Receiver gets control messages sent by neighbours (in-band, over channel
 // in, or instantly with NodeView.Tell, in which case in is the channel from
 // the sender to this node). m is valid only during the call: copy what you

@@ -35,8 +35,8 @@
 // and reordering.
 //
 // Routing is delegated to agents through small interfaces declared here
-// (PerNode/Router with optional Arrivals, Receiver, Detector, LinkStater,
-// Timed; or Central). A per-node router sees the network only through a
+// (PerNode/Router with optional Arrivals, Dropper, Receiver, Detector,
+// LinkStater, Timed; or Central). A per-node router sees the network only through a
 // *NodeView of its own node; a central agent only through Snapshots that
 // are ControlDelay old. Of hoplore's packages sim imports only the leaf
 // package paths (graph algorithms).

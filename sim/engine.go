@@ -102,6 +102,7 @@ type engine struct {
 
 	routers []Router
 	arr     []Arrivals
+	drp     []Dropper
 	rcv     []Receiver
 	det     []Detector
 	ls      []LinkStater
@@ -309,6 +310,7 @@ func newEngine(cfg *Config) (*engine, error) {
 	case PerNode:
 		e.routers = make([]Router, N)
 		e.arr = make([]Arrivals, N)
+		e.drp = make([]Dropper, N)
 		e.rcv = make([]Receiver, N)
 		e.det = make([]Detector, N)
 		e.ls = make([]LinkStater, N)
@@ -318,6 +320,7 @@ func newEngine(cfg *Config) (*engine, error) {
 			r := a.Node(view)
 			e.routers[v] = r
 			e.arr[v], _ = r.(Arrivals)
+			e.drp[v], _ = r.(Dropper)
 			e.rcv[v], _ = r.(Receiver)
 			e.det[v], _ = r.(Detector)
 			e.ls[v], _ = r.(LinkStater)
@@ -859,6 +862,11 @@ func (e *engine) drop(id int32, reason DropReason, c int) {
 			case LinkLoss:
 				e.res.Channels[c].DroppedLinkLoss++
 			}
+		}
+	}
+	if c >= 0 && (reason == QueueFull || reason == LinkLoss) && e.drp != nil {
+		if d := e.drp[e.net.Channels[c].From]; d != nil {
+			d.Dropped(p, c, reason)
 		}
 	}
 	if p.fl != 0 {

@@ -54,6 +54,11 @@ func (v *NodeView) Backlog(c int) float64 {
 	return bits
 }
 
+// HopLimit returns the hop count at which a packet arriving at a node other
+// than its destination is dropped (hop_limit), as a header's hop budget is
+// known to every router.
+func (v *NodeView) HopLimit() int { return v.e.hopLimit }
+
 // Up reports whether this node believes channel c is usable: false from when
 // it detected the link going down until it detected it coming back. c must
 // leave this node.
