@@ -28,7 +28,7 @@ var contract = map[string][]func(p *agents.Params){
 
 // qRoutingCases are every variant with either feedback, consensus, and the
 // loss objective with in-band feedback (the variants that take it), once
-// with install_every.
+// with install_every, and the utilisation objective.
 func qRoutingCases() []func(p *agents.Params) {
 	var cs []func(p *agents.Params)
 	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
@@ -40,6 +40,7 @@ func qRoutingCases() []func(p *agents.Params) {
 		cs = append(cs, func(p *agents.Params) { p.Variant, p.Feedback, p.Objective = v, "in-band", agents.ObjectiveLoss })
 	}
 	cs = append(cs, func(p *agents.Params) { p.Objective, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond })
+	cs = append(cs, func(p *agents.Params) { p.Objective = agents.ObjectiveUtilisation })
 	return append(cs, func(p *agents.Params) {
 		p.Explore = 0.05
 		p.Consensus = &agents.Consensus{Every: sim.Second, Weight: 0.5}

@@ -50,7 +50,7 @@ func init() {
 			learningField(),
 			startFromField(),
 			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
-			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveDelay, oneOf("objective", ObjectiveDelay, ObjectiveLoss)),
+			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveDelay, oneOf("objective", ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation)),
 		},
 		Check: checkQRoutingObjective,
 		New:   newQRouting,
@@ -76,6 +76,8 @@ func checkQRoutingObjective(p *Params) error {
 	switch {
 	case p.Variant == "dual" || p.Variant == "confidence":
 		return perr("variant", "%s has no %s objective (use plain or predictive)", p.Variant, p.Objective)
+	case p.Variant == "predictive" && p.Objective == ObjectiveUtilisation:
+		return perr("variant", "predictive has no utilisation objective (use plain): its recovery rate, learned from a noisy utilisation average, lets estimates fall to their best-ever 0")
 	case p.GiveUpAfter > 0:
 		return perr("give_up_after", "is a delivery time and applies to objective delay only")
 	case p.Consensus != nil:
@@ -161,6 +163,23 @@ func checkQRoutingObjective(p *Params) error {
 //     machinery acts on the loss table) take this objective; dual and
 //     confidence, and give_up_after, consensus and start_from, are
 //     delivery-time notions and are refused with it.
+//   - utilisation: Q_x(d,y) is the largest utilisation, in [0, 1], of the
+//     channels a packet for d sent towards y will cross (minimax, the
+//     widest-path value): on each feedback from y x moves it towards
+//     max(u_xy, V_y(d)), u_xy being its own channel's utilisation (busy
+//     fraction since the last sample, EWMA of time constant utilWindow;
+//     sim.NodeView.Busy), and a packet expiring at y counts as 1. y's
+//     V_y(d) leaves out its channel back to x (split horizon, common
+//     practice in distance-vector routing): a bottleneck value does not
+//     grow around a loop as a time does, so without it two neighbours
+//     left with only each other after a failure would keep their old,
+//     low values and bounce packets until their hop limit. Drops
+//     do not enter it (use loss for that). Start, delivery-time table and
+//     refusals as loss, and predictive is refused too: its recovery rate,
+//     learned from the decreases of a noisy average, lets estimates fall
+//     to their best-ever value 0 and reopens loops. Decisions compare
+//     utilisation in classes of utilBand and take the lower delivery-time
+//     estimate within a class.
 //
 // With give_up_after B > 0 a node drops (no_route) the packets for a
 // destination whose every estimate exceeds B, forwarding one every B as a
@@ -194,7 +213,8 @@ type qrShared struct {
 	dist     [][]float64 // zero-load least cost dist[u][d]
 	qCap     float64     // ceiling on estimates (unreachable)
 	consVals bool
-	loss     bool // objective loss: estimates are loss probabilities
+	alt      bool // objective loss or utilisation: estimates in [0, 1], with a delivery-time table for ties
+	util     bool // objective utilisation
 }
 
 var (
@@ -226,14 +246,14 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	s.qCap = qCeiling(s.dist)
 	switch p.Objective {
 	case ObjectiveDelay:
-	case ObjectiveLoss:
+	case ObjectiveLoss, ObjectiveUtilisation:
 		if s.variant == variantDual {
 			return nil, fmt.Errorf("agents: q-routing: variant dual has no objective %s", p.Objective)
 		}
-		if s.variant == variantConfidence {
-			return nil, fmt.Errorf("agents: q-routing: variant confidence has no objective %s", p.Objective)
+		if s.variant == variantConfidence || s.variant == variantPredictive && p.Objective == ObjectiveUtilisation {
+			return nil, fmt.Errorf("agents: q-routing: variant %s has no objective %s", p.Variant, p.Objective)
 		}
-		s.loss = true
+		s.alt, s.util = true, p.Objective == ObjectiveUtilisation
 	default:
 		return nil, fmt.Errorf("agents: q-routing: unknown objective %q", p.Objective)
 	}
@@ -309,6 +329,10 @@ type qrNode struct {
 	// the hop limit beyond which a packet counts as lost
 	qd, fqd  []float64
 	hopLimit int
+	// objective utilisation: per channel, the EWMA utilisation and the
+	// time and busy time of its last sample
+	util         []float64
+	utilT, utilB []sim.Time
 	// predictive
 	b, r []float64
 	u    []sim.Time
@@ -352,7 +376,7 @@ func (r *qrNode) install() {
 			if !r.v.Up(c) {
 				continue
 			}
-			if val := r.estimate(d*r.deg+k, 0); best < 0 || val < bestV || val == bestV && r.s.loss && r.tieDelay(d, k) < r.tieDelay(d, best) {
+			if val := r.estimate(d*r.deg+k, 0); best < 0 || r.less(val, bestV, r.tieDelay(d, k), r.tieDelay(d, best)) {
 				best, bestV = k, val
 			}
 		}
@@ -365,9 +389,14 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	r := &qrNode{s: s, v: v, id: v.ID(), out: out, deg: len(out), net: v.Net()}
 	r.proc = r.net.Graph.Nodes[r.id].Processing.Seconds()
 	r.q = make([]float64, s.n*r.deg)
-	if s.loss {
+	if s.alt {
 		r.qd = make([]float64, len(r.q))
 		r.hopLimit = v.HopLimit()
+	}
+	if s.util {
+		r.util = make([]float64, r.deg)
+		r.utilT = make([]sim.Time, r.deg)
+		r.utilB = make([]sim.Time, r.deg)
 	}
 	r.pref = newPrefs(s.n)
 	r.give = newGiveUp(s.p.GiveUpAfter, s.n)
@@ -428,7 +457,7 @@ func (r *qrNode) resetColumn(k int) {
 		if math.IsInf(v, 1) || v > r.s.qCap {
 			v = r.s.qCap
 		}
-		if r.s.loss {
+		if r.s.alt {
 			r.qd[i] = v
 			v = 0
 			if r.qd[i] == r.s.qCap {
@@ -487,7 +516,7 @@ func (r *qrNode) Route(p *sim.Packet) int {
 				continue
 			}
 			val := r.estimate(base+k, now)
-			if best < 0 || val < bestV || val == bestV && r.s.loss && r.tieDelay(d, k) < r.tieDelay(d, best) {
+			if best < 0 || r.less(val, bestV, r.tieDelay(d, k), r.tieDelay(d, best)) {
 				best, bestV = k, val
 			}
 		}
@@ -507,10 +536,38 @@ func (r *qrNode) Route(p *sim.Packet) int {
 	return r.out[best]
 }
 
+// utilBand is the width of the utilisation classes that objective
+// utilisation compares: within one class the delivery-time estimate
+// decides (a shortest-widest path choice; Wang & Crowcroft, "Quality-of-
+// service routing for supporting multimedia applications", IEEE JSAC 14,
+// 1996), which keeps loops out where utilisation alone cannot tell them
+// apart. 0.05 is a choice: twenty classes.
+const utilBand = 0.05
+
+// less reports whether estimate a (delivery-time tie-break ta) is better
+// than b (tb): the lower value under delay; under loss the lower value,
+// exact ties by time; under utilisation the lower utilBand class, then the
+// lower time.
+func (r *qrNode) less(a, b, ta, tb float64) bool {
+	switch {
+	case !r.s.alt:
+		return a < b
+	case r.s.util:
+		if ca, cb := math.Floor(a/utilBand), math.Floor(b/utilBand); ca != cb {
+			return ca < cb
+		}
+		return ta < tb
+	}
+	return a < b || a == b && ta < tb
+}
+
 // tieDelay returns the delivery-time estimate to d via out[k] that breaks
 // ties of the loss objective (from the forwarding snapshot with
 // install_every).
 func (r *qrNode) tieDelay(d, k int) float64 {
+	if !r.s.alt {
+		return 0
+	}
 	if r.fqd != nil {
 		return r.fqd[d*r.deg+k]
 	}
@@ -563,23 +620,23 @@ func (r *qrNode) value(d int) (float64, int) {
 	return math.Min(r.proc+bestV, r.s.qCap), best
 }
 
-// lossValue returns, under objective loss, V_x(d) = min over usable
-// channels of the loss estimate Q_x(d,·) (0 for d = x; 1 when no channel
-// is usable), ties broken by the delivery-time estimate, and the
-// delivery-time value of that channel plus processing (0 for d = x; the
-// ceiling when none is usable).
-func (r *qrNode) lossValue(d int) (loss, delay float64) {
+// altValue returns, under objective loss or utilisation, V_x(d) = the best
+// over usable channels other than out[skip] (skip -1: all) of Q_x(d,·) as
+// decisions compare them (0 for d = x; 1 when no channel is usable), and
+// the delivery-time value of that channel plus processing (0 for d = x;
+// the ceiling when none is usable).
+func (r *qrNode) altValue(d, skip int) (value, delay float64) {
 	if d == r.id {
 		return 0, 0
 	}
 	base := d * r.deg
 	best := -1
 	for k, c := range r.out {
-		if !r.v.Up(c) {
+		if !r.v.Up(c) || k == skip {
 			continue
 		}
 		i := base + k
-		if best < 0 || r.q[i] < r.q[base+best] || r.q[i] == r.q[base+best] && r.qd[i] < r.qd[base+best] {
+		if best < 0 || r.less(r.q[i], r.q[base+best], r.qd[i], r.qd[base+best]) {
 			best = k
 		}
 	}
@@ -617,8 +674,12 @@ func (r *qrNode) Arrived(p *sim.Packet, in int) {
 	back := in ^ 1 // this node → previous node
 	d := p.Dst
 	qs := (p.LastWait + p.LastTx).Seconds()
-	if r.s.loss {
-		l, t := r.lossValue(d)
+	if r.s.alt {
+		skip := -1
+		if r.s.util {
+			skip = r.localIndex(back) // split horizon: not back through x
+		}
+		l, t := r.altValue(d, skip)
 		if d != r.id && p.Hops >= r.hopLimit {
 			l = 1 // the packet expires here: lost
 		}
@@ -671,7 +732,11 @@ func (r *qrNode) Receive(m *sim.Message, in int) {
 	delay := r.net.Channels[r.out[k]].Delay.Seconds()
 	switch m.Type {
 	case msgFeedbackLoss:
-		r.update(m.Dst, k, m.Value, 1)
+		target := m.Value
+		if r.s.util {
+			target = math.Max(r.channelUtil(k), target)
+		}
+		r.update(m.Dst, k, target, 1)
 		if d := m.Dst; d != r.id && d >= 0 && d < r.s.n {
 			i := d*r.deg + k
 			r.qd[i] += r.s.p.LearningRate * (math.Min(m.Aux+delay, r.s.qCap) - r.qd[i])
@@ -721,11 +786,31 @@ func (r *qrNode) update(d, k int, target, conf float64) {
 	}
 }
 
+// utilWindow is the time constant of the utilisation EWMA: a sample
+// covering dt weighs 1 − exp(−dt/utilWindow). A choice: long against a
+// packet time, short against the load changes routing should follow.
+const utilWindow = sim.Second
+
+// channelUtil returns the utilisation of channel out[k] as x measures it:
+// the channel's busy fraction since the last sample, folded into an EWMA
+// of time constant utilWindow. Cost O(1), no allocation.
+func (r *qrNode) channelUtil(k int) float64 {
+	now := r.v.Now()
+	if dt := now - r.utilT[k]; dt > 0 {
+		busy := r.v.Busy(r.out[k])
+		sample := float64(busy-r.utilB[k]) / float64(dt)
+		w := -math.Expm1(-float64(dt) / float64(utilWindow))
+		r.util[k] += w * (sample - r.util[k])
+		r.utilT[k], r.utilB[k] = now, busy
+	}
+	return r.util[k]
+}
+
 // Dropped samples a loss under objective loss: the packet for p.Dst sent
 // into this node's channel out was lost there (full queue or link loss), so
 // Q_x(d, out) moves towards 1. Under delay a drop teaches nothing.
 func (r *qrNode) Dropped(p *sim.Packet, out int, _ sim.DropReason) {
-	if !r.s.loss || r.s.p.frozen() {
+	if !r.s.alt || r.s.util || r.s.p.frozen() {
 		return
 	}
 	if k := r.localIndex(out); k >= 0 {

@@ -66,12 +66,12 @@ type State struct {
 
 // ExportState returns the learned state of a per-node learner after its
 // run, and false for any other agent and for q-routing with objective loss
-// (whose loss tables no start_from could use).
+// or utilisation (whose tables no start_from could use).
 func ExportState(a sim.Agent) (*State, bool) {
 	switch x := a.(type) {
 	case *QRouting:
-		if x.shared.loss {
-			return nil, false // loss tables; start_from loads delivery times
+		if x.shared.alt {
+			return nil, false // loss or utilisation tables; start_from loads delivery times
 		}
 		st := &State{Kind: QRoutingKind, Variant: x.p.Variant}
 		for _, r := range x.nodes {

@@ -59,6 +59,19 @@ func (v *NodeView) Backlog(c int) float64 {
 // known to every router.
 func (v *NodeView) HopLimit() int { return v.e.hopLimit }
 
+// Busy returns channel c's cumulative transmitting time up to now (any
+// packet, the current transmission included). Its increase over an interval
+// divided by the interval's length is the channel's utilisation there. c
+// must leave this node.
+func (v *NodeView) Busy(c int) Time {
+	s := v.own(c)
+	t := s.busyTotal
+	if s.busy && v.e.now > s.txStart {
+		t += v.e.now - s.txStart
+	}
+	return t
+}
+
 // Up reports whether this node believes channel c is usable: false from when
 // it detected the link going down until it detected it coming back. c must
 // leave this node.
