@@ -16,6 +16,11 @@ func benchParams() []agents.Params {
 		p.Variant = v
 		ps = append(ps, p)
 	}
+	for _, o := range []string{agents.ObjectiveLoss, agents.ObjectiveUtilisation} {
+		p := agents.Defaults(agents.QRoutingKind)
+		p.Objective = o
+		ps = append(ps, p)
+	}
 	ps = append(ps, agents.Defaults(agents.QNetworkKind)) // hidden [32]
 	ps = append(ps, agents.Defaults(agents.CentralAdaptiveKind), agents.Defaults(agents.CentralQKind))
 	co := agents.Defaults(agents.CentralOptimalKind)
