@@ -9,7 +9,6 @@ import (
 	"testing"
 
 	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
@@ -103,30 +102,6 @@ func summaryColumns(rows []results.SummaryRow) expected {
 	return e
 }
 
-// value returns element i of an arrow array as string, int64, uint64 or
-// float64, or nil when null; dictionary arrays are looked through.
-func value(t *testing.T, a arrow.Array, i int) any {
-	if a.IsNull(i) {
-		return nil
-	}
-	switch c := a.(type) {
-	case *array.String:
-		return c.Value(i)
-	case *array.LargeString:
-		return c.Value(i)
-	case *array.Int64:
-		return c.Value(i)
-	case *array.Uint64:
-		return c.Value(i)
-	case *array.Float64:
-		return c.Value(i)
-	case *array.Dictionary:
-		return value(t, c.Dictionary(), c.GetValueIndex(i))
-	}
-	t.Fatalf("unexpected arrow array type %s", a.DataType())
-	return nil
-}
-
 func same(a, b any) bool {
 	fa, ok1 := a.(float64)
 	fb, ok2 := b.(float64)
@@ -208,7 +183,7 @@ func check(t *testing.T, path string, want expected, meta results.Meta, table st
 				dt = d.ValueType
 			}
 			for i := 0; i < chunk.Len(); i++ {
-				got := value(t, chunk, i)
+				got := arrowValue(t, chunk, i)
 				w := wantVals[row]
 				if w != nil && dt.ID() != wantType(w) {
 					t.Fatalf("%s.%s: arrow type %s, want %s", table, name, dt, wantType(w))

@@ -43,6 +43,9 @@ func canon(x any) any {
 	return x
 }
 
+// arrowValue returns element i of an arrow array as the Go value of its
+// type (string, int32, int64, uint32, uint64, float32, float64 or bool), or
+// nil when null; dictionary arrays are looked through.
 func arrowValue(t *testing.T, a arrow.Array, i int) any {
 	if a.IsNull(i) {
 		return nil
