@@ -22,6 +22,9 @@ func benchParams() []agents.Params {
 		ps = append(ps, p)
 	}
 	ps = append(ps, agents.Defaults(agents.QNetworkKind)) // hidden [32]
+	qn := agents.Defaults(agents.QNetworkKind)
+	qn.InstallEvery = 500 * sim.Millisecond
+	ps = append(ps, qn)
 	ps = append(ps, agents.Defaults(agents.CentralAdaptiveKind), agents.Defaults(agents.CentralQKind))
 	co := agents.Defaults(agents.CentralOptimalKind)
 	co.Split = agents.SplitPacket

@@ -9,12 +9,15 @@ import (
 )
 
 // With install_every, q-routing forwards by a snapshot of its tables taken
-// at multiples of the interval, so its route changes (counted in the bin of
+// at multiples of the interval, and q-network by the channels installed
+// from a snapshot of its parameters at those instants, so its route changes (counted in the bin of
 // the instant they happen) fall only in bins that start at an install:
 // exactly, with 100 ms bins and installs every 500 ms. The same runs
 // without install_every change routes in other bins too, so the check has
 // teeth. A 3×3 grid of 10 Mbit/s links at load 0.8 under uniform traffic,
-// no failures (a detected failure may still change a route at once).
+// no failures (a detected failure may still change a route at once). The
+// run ends 50 ms before 10 s: an event at the end instant is counted in the
+// last bin (start 9.9 s), which would hide an install at 10 s.
 func TestInstallEveryChangesOnlyAtInstants(t *testing.T) {
 	g := &sim.Graph{Name: "grid3x3"}
 	for i := 0; i < 9; i++ {
@@ -40,15 +43,22 @@ func TestInstallEveryChangesOnlyAtInstants(t *testing.T) {
 		}
 	}
 	const every = 500 * sim.Millisecond
-	for _, install := range []sim.Time{every, 0} {
-		p := agents.Defaults(agents.QRoutingKind)
+	for _, tc := range []struct {
+		kind    string
+		install sim.Time
+	}{
+		{agents.QRoutingKind, every}, {agents.QRoutingKind, 0},
+		{agents.QNetworkKind, every}, {agents.QNetworkKind, 0},
+	} {
+		install := tc.install
+		p := agents.Defaults(tc.kind)
 		p.InstallEvery = install
 		p.Explore = 0
 		a, err := agents.New(p, net)
 		if err != nil {
 			t.Fatal(err)
 		}
-		r, err := sim.Run(&sim.Config{Net: net, Agent: a, Seed: 5, Duration: 10 * sim.Second, Bin: 100 * sim.Millisecond,
+		r, err := sim.Run(&sim.Config{Net: net, Agent: a, Seed: 5, Duration: 10*sim.Second - 50*sim.Millisecond, Bin: 100 * sim.Millisecond,
 			Traffic: sim.Traffic{Rates: m, Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}}})
 		if err != nil {
 			t.Fatal(err)
@@ -63,10 +73,10 @@ func TestInstallEveryChangesOnlyAtInstants(t *testing.T) {
 		}
 		switch {
 		case install > 0 && (off != 0 || at == 0):
-			t.Errorf("install_every %v: %d route changes at installs, %d between them; want some and none", install.Seconds(), at, off)
+			t.Errorf("%s install_every %v: %d route changes at installs, %d between them; want some and none", tc.kind, install.Seconds(), at, off)
 		case install == 0 && off == 0:
-			t.Errorf("live tables: no route change outside the install instants (%d at them): the check cannot tell", at)
+			t.Errorf("%s live: no route change outside the install instants (%d at them): the check cannot tell", tc.kind, at)
 		}
-		t.Logf("install_every %gs: %d route changes at multiples of 500 ms, %d elsewhere", install.Seconds(), at, off)
+		t.Logf("%s install_every %gs: %d route changes at multiples of 500 ms, %d elsewhere", tc.kind, install.Seconds(), at, off)
 	}
 }

@@ -73,7 +73,8 @@ type Params struct {
 	Split     string // flow (by flow hash) | packet
 	// every kind: PinPacket (default) or PinFlow (see PinFlow)
 	Pin string
-	// q-routing: forwarding uses a snapshot of the tables taken every
+	// q-routing, q-network: forwarding uses a snapshot of the tables
+	// (q-network: channels installed from a parameter snapshot) taken every
 	// InstallEvery (0: the live tables)
 	InstallEvery sim.Time
 	MaxShift     float64 // largest share of a (node, destination)'s traffic moved per install

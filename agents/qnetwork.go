@@ -35,6 +35,7 @@ func init() {
 			giveUpField(),
 			learningField(),
 			startFromField(),
+			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
 		},
 		New: newQNetwork,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -108,6 +109,19 @@ const (
 // Metropolis weight 1/(1+max(deg_x,deg_y)) and w the consensus weight. When
 // all of a round's messages arrive and no training intervenes, this is
 // exactly one step θ ← (I − w(I − W))θ of Metropolis averaging.
+//
+// Install checkpoints (InstallEvery > 0): training goes on with every
+// feedback, but forwarding follows a table installed at multiples of the
+// interval: at each install the node copies its parameters into a snapshot
+// and fixes, per destination, the greedy channel on that snapshot with the
+// queue features of that instant. Between installs a packet takes its
+// destination's installed channel; only when that channel is down does the
+// node decide on its live parameters with the current queue features (a
+// detected failure still moves traffic at once at the detecting node; its
+// neighbours keep their installed channels until the next install, so a
+// packet may bounce between two nodes until then). The first packet for a destination
+// before any install fixes its entry the same way. Route changes therefore
+// happen at the installs only, failures aside.
 type QNetwork struct {
 	p      Params
 	shared *qnShared
@@ -181,6 +195,9 @@ func (a *QNetwork) Node(v *sim.NodeView) sim.Router {
 		copy(r.theta, a.start.Params[r.id])
 		copy(r.target, a.start.Target[r.id])
 	}
+	if r.snap != nil {
+		copy(r.snap, r.theta) // the run's first forwarding parameters
+	}
 	a.nodes = append(a.nodes, r)
 	return r
 }
@@ -212,6 +229,47 @@ type qnNode struct {
 	cons *consensusState
 	pref prefs
 	give *giveUp // nil unless give_up_after is set
+
+	// with install_every: the parameters forwarding uses, copied from theta
+	// at every install, and the installed channel (Out index) per
+	// destination, −1 until fixed
+	snap []float64
+	fwd  []int32
+}
+
+// tagQNInstall is q-network's install timer.
+const tagQNInstall = 2
+
+// install copies the parameters into the forwarding snapshot and fixes every
+// destination's channel: the greedy choice on the snapshot with the queue
+// features of now, counted as a route change where it differs from the
+// preference so far. Cost O(N·degree·network size), no allocation.
+func (r *qnNode) install() {
+	copy(r.snap, r.theta)
+	for d := 0; d < r.s.n; d++ {
+		if d == r.id {
+			continue
+		}
+		best := r.greedy(r.snap, d)
+		r.fwd[d] = int32(best)
+		r.pref.saw(r.v, d, best)
+	}
+}
+
+// greedy returns the Out index of the usable channel with the least Q(d,·)
+// under parameters theta and the current queue features, −1 if none.
+func (r *qnNode) greedy(theta []float64, d int) int {
+	r.s.firstLayerCommon(theta, r.id, d, r.common)
+	best, bestV := -1, 0.0
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		if val := r.qvalue(theta, d, k, r.queueFeature(c)); best < 0 || val < bestV {
+			best, bestV = k, val
+		}
+	}
+	return best
 }
 
 func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
@@ -232,6 +290,14 @@ func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
 	r.common = make([]float64, s.sizes[1])
 	r.give = newGiveUp(s.p.GiveUpAfter, r.net.NumNodes())
 	r.pref = newPrefs(s.n)
+	if s.p.InstallEvery > 0 {
+		r.snap = append([]float64(nil), r.theta...)
+		r.fwd = make([]int32, s.n)
+		for d := range r.fwd {
+			r.fwd[d] = -1
+		}
+		v.After(s.p.InstallEvery, tagQNInstall)
+	}
 	R := s.p.Replay
 	r.rd, r.rk, r.rq, r.rt = make([]int32, R), make([]int16, R), make([]float64, R), make([]float64, R)
 	if s.p.Consensus != nil && !s.p.frozen() {
@@ -330,16 +396,22 @@ func (r *qnNode) qvalue(theta []float64, d, k int, qf float64) float64 {
 }
 
 // Route picks the outgoing channel for p and records the decision's queue
-// feature in p.Aux[1]. Cost: O(degree·network size), no allocation.
+// feature in p.Aux[1]. With install_every the greedy choice is the
+// destination's installed channel (see QNetwork). Cost: O(degree·network
+// size), no allocation.
 func (r *qnNode) Route(p *sim.Packet) int {
 	d := p.Dst
-	best, bestV, bestQF := -1, 0.0, 0.0
+	theta := r.theta
+	if r.snap != nil {
+		theta = r.snap
+	}
+	best, bestQF := -1, 0.0
 	if r.give != nil {
-		r.s.firstLayerCommon(r.theta, r.id, d, r.common)
+		r.s.firstLayerCommon(theta, r.id, d, r.common)
 		least := math.Inf(1)
 		for k, c := range r.out {
 			if r.v.Up(c) {
-				least = math.Min(least, r.qvalue(r.theta, d, k, r.queueFeature(c)))
+				least = math.Min(least, r.qvalue(theta, d, k, r.queueFeature(c)))
 			}
 		}
 		if r.give.drop(d, least, r.v.Now()) {
@@ -358,7 +430,7 @@ func (r *qnNode) Route(p *sim.Packet) int {
 			for k, c := range r.out {
 				if r.v.Up(c) {
 					if j == 0 {
-						best, bestQF = k, r.queueFeature(c)
+						best = k
 						break
 					}
 					j--
@@ -366,22 +438,23 @@ func (r *qnNode) Route(p *sim.Packet) int {
 			}
 		}
 	} else {
-		r.s.firstLayerCommon(r.theta, r.id, d, r.common)
-		for k, c := range r.out {
-			if !r.v.Up(c) {
-				continue
-			}
-			qf := r.queueFeature(c)
-			val := r.qvalue(r.theta, d, k, qf)
-			if best < 0 || val < bestV {
-				best, bestV, bestQF = k, val, qf
-			}
+		switch {
+		case r.fwd == nil:
+			best = r.greedy(theta, d)
+		case r.fwd[d] < 0:
+			best = r.greedy(theta, d)
+			r.fwd[d] = int32(best)
+		case r.v.Up(r.out[r.fwd[d]]):
+			best = int(r.fwd[d])
+		default:
+			best = r.greedy(r.theta, d) // the installed channel is down: the live parameters
 		}
 		r.pref.saw(r.v, d, best)
 	}
 	if best < 0 {
 		return sim.NoRoute
 	}
+	bestQF = r.queueFeature(r.out[best])
 	p.Aux[1] = bestQF
 	return r.out[best]
 }
@@ -529,8 +602,14 @@ func (r *qnNode) sgd(d, k int, qf, target float64) {
 // has no per-channel state to reset.
 func (r *qnNode) Detected(out int, up bool) {}
 
-// Timer runs a consensus round: send the parameters, remember them.
+// Timer runs an install or a consensus round (send the parameters,
+// remember them).
 func (r *qnNode) Timer(tag int) {
+	if tag == tagQNInstall {
+		r.install()
+		r.v.After(r.s.p.InstallEvery, tagQNInstall)
+		return
+	}
 	if tag != tagConsensus || r.cons == nil {
 		return
 	}
