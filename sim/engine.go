@@ -1,11 +1,13 @@
 package sim
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 
 	"hoplore/paths"
@@ -131,7 +133,9 @@ type engine struct {
 	fl      []flowState
 	ffree   []int32
 	fserial uint64
-	fpkt    int // packet size of flows
+	fpkt    int        // packet size of flows
+	fseen   int64      // measured flows offered to the sample
+	fsample *rand.Rand // the sample's reservoir draws
 
 	// physical partitions, for classifying unreachable packets
 	comp       []int32       // component label of each node over what is up; −1 when down
@@ -1212,8 +1216,10 @@ func (e *engine) finish() (*Result, error) {
 		for i := range e.fl {
 			if f := &e.fl[i]; f.live && f.measured {
 				r.Flows.Unfinished++
+				e.sampleFlow(f, FlowUnfinished)
 			}
 		}
+		slices.SortFunc(r.Flows.Sample, func(a, b FlowRecord) int { return cmp.Compare(a.ID, b.ID) })
 	}
 	if got := r.Generated - r.Delivered - r.DroppedTotal(); got != r.InFlight {
 		return nil, fmt.Errorf("sim: conservation violated: generated %d, delivered %d, dropped %d, in flight %d",

@@ -30,6 +30,14 @@ type FlowGen struct {
 	// elephant, otherwise medium. 0 means DefaultMiceBytes and
 	// DefaultElephantBytes.
 	MiceBytes, ElephantBytes float64
+	// Sample is the most measured flows a run records one by one
+	// (FlowResult.Sample); 0 records none. Every measured flow is kept
+	// while there are at most Sample of them; beyond, a uniform sample of
+	// Sample flows by reservoir sampling (Vitter, Random Sampling with a
+	// Reservoir, 1985, algorithm R) over the order in which flows end,
+	// drawn from the run's own stream StreamFlowSample: a pure function of
+	// the run.
+	Sample int
 }
 
 // Defaults of FlowGen.
@@ -69,6 +77,45 @@ type FlowResult struct {
 	Delivered, Reordered int64
 	// ReorderedFlows counts the measured flows that saw any reordering.
 	ReorderedFlows int64
+	// Sample holds at most FlowGen.Sample of the measured flows (see
+	// there), ordered by flow id.
+	Sample []FlowRecord
+}
+
+// FlowOutcome is how a flow ended.
+type FlowOutcome uint8
+
+// Flow outcomes.
+const (
+	FlowCompleted  FlowOutcome = iota // every packet delivered
+	FlowFailed                        // a packet dropped, or the source stopped it
+	FlowUnfinished                    // still sending or in flight when the run ended
+)
+
+var flowOutcomeNames = [...]string{"completed", "failed", "unfinished"}
+
+// String returns the outcome's name in the results.
+func (o FlowOutcome) String() string { return flowOutcomeNames[o] }
+
+// FlowRecord is one measured flow.
+type FlowRecord struct {
+	// ID numbers the run's flows from 1 in the order they started,
+	// warm-up included.
+	ID       int64
+	Src, Dst int
+	Size     int64 // bytes
+	Class    FlowClass
+	Start    Time // emission of the first packet
+	// End is the delivery of the last packet of a completed flow, −1
+	// otherwise.
+	End Time
+	// Ideal is the completion time alone on the idle network (IdealFCT),
+	// −1 when the destination cannot be reached on the intact network.
+	Ideal     Time
+	Packets   int32 // packets sent
+	Delivered int32 // packets delivered
+	Reordered int32 // packets delivered below the next expected sequence number
+	Outcome   FlowOutcome
 }
 
 // FlowClassResult is what one size class of flows measured.
@@ -310,6 +357,9 @@ func (g *FlowGen) check(N int) error {
 	if g.RateLimit < 0 || math.IsNaN(g.RateLimit) || math.IsInf(g.RateLimit, 0) {
 		return fmt.Errorf("sim: flow rate limit %g must be positive", g.RateLimit)
 	}
+	if g.Sample < 0 {
+		return fmt.Errorf("sim: flow sample %d must not be negative", g.Sample)
+	}
 	if g.PacketBytes < 0 {
 		return fmt.Errorf("sim: flow packet size %d must be positive", g.PacketBytes)
 	}
@@ -378,6 +428,7 @@ type flowSource struct {
 }
 
 type flowState struct {
+	id        int64 // FlowRecord.ID
 	src, dst  int32
 	size      int64 // bytes
 	sentBytes int64
@@ -471,7 +522,7 @@ func (e *engine) startFlow(s int) {
 	e.fserial++
 	f := &e.fl[fi]
 	path := f.path[:0] // keeps its storage: no allocation in the steady state
-	*f = flowState{path: path, src: int32(s), dst: int32(d), size: size,
+	*f = flowState{path: path, id: int64(e.fserial), src: int32(s), dst: int32(d), size: size,
 		npkts: int32((size + int64(e.fpkt) - 1) / int64(e.fpkt)), start: e.now, rate: fs.send,
 		label: uint32(Mix(uint64(s)<<32|uint64(d), e.fserial)), class: g.Class(float64(size)),
 		measured: e.now >= e.cfg.Warmup, live: true}
@@ -559,7 +610,9 @@ func (e *engine) endFlow(fi int32) {
 		if f.reordered > 0 {
 			r.ReorderedFlows++
 		}
+		out := FlowFailed
 		if !f.stopped && f.delivered == f.npkts {
+			out = FlowCompleted
 			r.Completed++
 			c.Completed++
 			fct := (f.lastDel - f.start).Seconds()
@@ -575,6 +628,7 @@ func (e *engine) endFlow(fi int32) {
 			r.Failed++
 			c.Failed++
 		}
+		e.sampleFlow(f, out)
 	}
 	f.live = false
 	e.ffree = append(e.ffree, fi)
@@ -605,4 +659,31 @@ func (e *engine) pinned(node int, p *Packet, choice int) int {
 		f.path = append(f.path, pinHop{int32(node), int32(choice)})
 	}
 	return choice
+}
+
+// sampleFlow offers measured flow f, ended with outcome out, to the
+// sample (FlowGen.Sample). Allocation-free once the sample is full.
+func (e *engine) sampleFlow(f *flowState, out FlowOutcome) {
+	n := e.cfg.Traffic.FlowGen.Sample
+	if n <= 0 {
+		return
+	}
+	rec := FlowRecord{ID: f.id, Src: int(f.src), Dst: int(f.dst), Size: f.size, Class: f.class,
+		Start: f.start, End: -1, Ideal: f.ideal, Packets: f.sent, Delivered: f.delivered,
+		Reordered: f.reordered, Outcome: out}
+	if out == FlowCompleted {
+		rec.End = f.lastDel
+	}
+	e.fseen++
+	r := e.res.Flows
+	if len(r.Sample) < n {
+		r.Sample = append(r.Sample, rec)
+		return
+	}
+	if e.fsample == nil {
+		e.fsample = Stream(e.cfg.Seed, StreamFlowSample, 0)
+	}
+	if j := e.fsample.Uint64N(uint64(e.fseen)); j < uint64(n) {
+		r.Sample[j] = rec
+	}
 }

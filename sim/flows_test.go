@@ -436,3 +436,109 @@ func TestSlowdownAtLeastOne(t *testing.T) {
 		t.Logf("%v: %d flows, slowdown min %.4f mean %.3f", sim.FlowClass(k), c.Completed, c.Slowdown.Min(), c.SlowdownSum/float64(c.Slowdown.Count()))
 	}
 }
+
+// The sample of an isolated flow's run holds every flow with its exact
+// completion time (size·8/bandwidth + propagation on one link sent at the
+// link's rate, common practice), equal to its idle-network time: slowdown 1.
+func TestFlowSampleIsolatedExact(t *testing.T) {
+	const bw, bytes = 1e9, 100_700
+	prop := 3 * sim.Millisecond
+	net := sim.Compile(lineGraph([]float64{bw}, []sim.Time{prop}, 1000))
+	cfg := flowCfg(t, net, 1, 0.2, sim.SizeDist{Kind: sim.Fixed, Bytes: bytes}, 0, 200*sim.Second)
+	cfg.Traffic.FlowGen.Sample = 1000
+	r, err := sim.Run(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := r.Flows
+	if int64(len(f.Sample)) != f.Started || f.Started < 20 {
+		t.Fatalf("sample of %d flows, %d started", len(f.Sample), f.Started)
+	}
+	want := sim.Time(math.Round((bytes*8/bw + prop.Seconds()) * 1e9))
+	for i, rec := range f.Sample {
+		if i > 0 && rec.ID <= f.Sample[i-1].ID {
+			t.Errorf("record %d: id %d after %d", i, rec.ID, f.Sample[i-1].ID)
+		}
+		if rec.Outcome != sim.FlowCompleted || rec.End-rec.Start != want || rec.Ideal != want ||
+			rec.Src != 0 || rec.Dst != 1 || rec.Size != bytes || rec.Class != sim.Medium ||
+			rec.Packets != 68 || rec.Delivered != 68 || rec.Reordered != 0 {
+			t.Errorf("record %d: %+v, want completed 0→1 of %d B, 68 packets, fct = ideal = %v", i, rec, bytes, want)
+		}
+	}
+}
+
+// The sample is bounded, a pure function of the run, a subset of the full
+// record, and leaves the simulation itself unchanged; the full record
+// accounts for every measured flow (outcomes, delivered and reordered
+// packets) under a node failure.
+func TestFlowSampleBoundedDeterministic(t *testing.T) {
+	net := sim.Compile(gridGraph(3, 3, 10e6, 64))
+	N := net.NumNodes()
+	m := sim.UniformMatrix(net)
+	for s := range m {
+		for d := range m[s] {
+			m[s][d] *= 0.5
+		}
+	}
+	run := func(sample int) *sim.Result {
+		cfg := &sim.Config{Net: net, Agent: shortest(t, net), Seed: 3, Duration: 20 * sim.Second, Warmup: 2 * sim.Second, Bin: sim.Second,
+			Traffic: sim.Traffic{Rates: make([][]float64, N), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1},
+				FlowGen: &sim.FlowGen{Rates: m, Sample: sample, Size: sim.SizeDist{Kind: sim.Classes, Classes: []sim.SizeClass{{Fraction: 0.9, Bytes: 10_000}, {Fraction: 0.1, Bytes: 500_000}}}}},
+			Failures: sim.Failures{Detection: 10 * sim.Millisecond, Events: []sim.FailureEvent{{At: 8 * sim.Second, Node: 4}, {At: 12 * sim.Second, Node: 4, Up: true}}}}
+		r, err := sim.Run(cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return r
+	}
+	none, all := run(0), run(1<<30)
+	f := all.Flows
+	if len(none.Flows.Sample) != 0 {
+		t.Errorf("sample 0 recorded %d flows", len(none.Flows.Sample))
+	}
+	if int64(len(f.Sample)) != f.Started {
+		t.Fatalf("full sample has %d flows, %d started", len(f.Sample), f.Started)
+	}
+	var outcomes [3]int64
+	var delivered, reordered int64
+	for _, rec := range f.Sample {
+		outcomes[rec.Outcome]++
+		if rec.Outcome != sim.FlowUnfinished {
+			delivered += int64(rec.Delivered)
+			reordered += int64(rec.Reordered)
+		}
+		if (rec.Outcome == sim.FlowCompleted) != (rec.End >= 0) {
+			t.Errorf("flow %d: outcome %v, end %v", rec.ID, rec.Outcome, rec.End)
+		}
+	}
+	if outcomes != [3]int64{f.Completed, f.Failed, f.Unfinished} || delivered != f.Delivered || reordered != f.Reordered {
+		t.Errorf("sample: outcomes %v, delivered %d, reordered %d; run: %d/%d/%d, %d, %d",
+			outcomes, delivered, reordered, f.Completed, f.Failed, f.Unfinished, f.Delivered, f.Reordered)
+	}
+	if f.Failed == 0 {
+		t.Error("no flow failed: the failure case is not exercised")
+	}
+	byID := make(map[int64]sim.FlowRecord, len(f.Sample))
+	for _, rec := range f.Sample {
+		byID[rec.ID] = rec
+	}
+	const n = 25
+	a, b := run(n), run(n)
+	if len(a.Flows.Sample) != n {
+		t.Fatalf("sample of %d flows, want %d", len(a.Flows.Sample), n)
+	}
+	for i, rec := range a.Flows.Sample {
+		if rec != b.Flows.Sample[i] {
+			t.Errorf("record %d differs between two runs: %+v, %+v", i, rec, b.Flows.Sample[i])
+		}
+		if rec != byID[rec.ID] {
+			t.Errorf("record %+v is not the full record's %+v", rec, byID[rec.ID])
+		}
+		if i > 0 && rec.ID <= a.Flows.Sample[i-1].ID {
+			t.Errorf("record %d: id %d after %d", i, rec.ID, a.Flows.Sample[i-1].ID)
+		}
+	}
+	if a.Delivered != none.Delivered || a.Events != none.Events || a.Flows.Completed != none.Flows.Completed {
+		t.Errorf("sampling changed the run: delivered %d/%d, events %d/%d", a.Delivered, none.Delivered, a.Events, none.Events)
+	}
+}

@@ -172,6 +172,7 @@ const (
 	StreamFlowArrivals
 	StreamFlowDestinations
 	StreamFlowSizes
+	StreamFlowSample
 )
 
 // Mix hashes two values into one (splitmix64 finaliser over a combination).
