@@ -303,6 +303,19 @@ func splitTables(dir string) (map[string]*RunTables, error) {
 		}
 		t.Recoveries = append(t.Recoveries, r)
 	}
+	if _, err := os.Stat(filepath.Join(dir, FlowsFile)); err == nil {
+		flows, err := ReadFlows(filepath.Join(dir, FlowsFile))
+		if err != nil {
+			return nil, err
+		}
+		for _, r := range flows {
+			t, err := get(tableFlows, r.RunID)
+			if err != nil {
+				return nil, err
+			}
+			t.Flows = append(t.Flows, r)
+		}
+	}
 	return out, nil
 }
 
@@ -313,7 +326,8 @@ func SameRun(a, b *RunTables) bool {
 	ra, rb := a.Run, b.Run
 	ra.WallS, rb.WallS = 0, 0
 	return reflect.DeepEqual(ra, rb) &&
-		sameRows(a.Series, b.Series) && sameRows(a.Links, b.Links) && sameRows(a.Recoveries, b.Recoveries)
+		sameRows(a.Series, b.Series) && sameRows(a.Links, b.Links) && sameRows(a.Recoveries, b.Recoveries) &&
+		sameRows(a.Flows, b.Flows)
 }
 
 func sameRows[T any](a, b []T) bool {

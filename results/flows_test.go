@@ -58,3 +58,48 @@ func TestFromRunFlows(t *testing.T) {
 		t.Errorf("flows started/completed/failed %d/%d/%d, want 7/5/1", got.FlowsStarted, got.FlowsCompleted, got.FlowsFailed)
 	}
 }
+
+// Each sampled flow becomes one flows.parquet row: fct_s = end − start and
+// slowdown = fct / ideal for a completed flow, null otherwise; an
+// unreachable destination has no ideal time and so no slowdown.
+func TestFromRunFlowRows(t *testing.T) {
+	net := resultstest.Net()
+	cfg := resultstest.Config(net)
+	r := resultstest.Run(net, 0, false)
+	r.Flows = &sim.FlowResult{Sample: []sim.FlowRecord{
+		{ID: 4, Src: 0, Dst: 1, Size: 3000, Class: sim.Mice, Start: 2 * sim.Second, End: 2*sim.Second + 30*sim.Millisecond,
+			Ideal: 10 * sim.Millisecond, Packets: 2, Delivered: 2, Reordered: 1, Outcome: sim.FlowCompleted},
+		{ID: 9, Src: 1, Dst: 0, Size: 2e7, Class: sim.Elephant, Start: 3 * sim.Second, End: -1,
+			Ideal: -1, Packets: 5, Delivered: 3, Outcome: sim.FlowFailed},
+	}}
+	d := resultstest.Dims("q-routing", 0.5, 0)
+	got := results.FromRun(d, net, cfg, r, 1, "v").Flows
+	want := []results.FlowRow{
+		{Dims: d, FlowID: 4, Source: net.Name(0), Destination: net.Name(1), SizeBytes: 3000, Class: "mice", StartS: 2,
+			EndS: f64p(2.03), FCTS: f64p(0.03), IdealFCTS: f64p(0.01), Slowdown: f64p(3), Packets: 2, DeliveredPackets: 2,
+			ReorderedPackets: 1, Outcome: "completed"},
+		{Dims: d, FlowID: 9, Source: net.Name(1), Destination: net.Name(0), SizeBytes: 2e7, Class: "elephant", StartS: 3,
+			Packets: 5, DeliveredPackets: 3, Outcome: "failed"},
+	}
+	if len(got) != len(want) {
+		t.Fatalf("%d rows, want %d", len(got), len(want))
+	}
+	for i := range want {
+		g, w := got[i], want[i]
+		for _, p := range []struct {
+			name string
+			g, w *float64
+		}{{"end_s", g.EndS, w.EndS}, {"fct_s", g.FCTS, w.FCTS}, {"ideal_fct_s", g.IdealFCTS, w.IdealFCTS}, {"slowdown", g.Slowdown, w.Slowdown}} {
+			if (p.g == nil) != (p.w == nil) || p.g != nil && !approx(*p.g, *p.w, 1e-12) {
+				t.Errorf("row %d %s: got %v, want %v", i, p.name, p.g, p.w)
+			}
+		}
+		g.EndS, g.FCTS, g.IdealFCTS, g.Slowdown = nil, nil, nil, nil
+		w.EndS, w.FCTS, w.IdealFCTS, w.Slowdown = nil, nil, nil, nil
+		if g != w {
+			t.Errorf("row %d: got %+v, want %+v", i, g, w)
+		}
+	}
+}
+
+func f64p(v float64) *float64 { return &v }

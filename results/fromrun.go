@@ -113,6 +113,9 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 		}
 	}
 
+	if r.Flows != nil {
+		t.Flows = flowRows(d, net, r.Flows.Sample)
+	}
 	t.Recoveries = makeRows[RecoveryRow](len(r.Failures))
 	for k := range r.Failures {
 		ev := &r.Failures[k]
@@ -204,6 +207,39 @@ func finite(v float64) *float64 {
 		return nil
 	}
 	return &v
+}
+
+// flowRows returns the rows of flows.parquet of a run's sampled flows.
+func flowRows(d Dims, net *sim.Net, sample []sim.FlowRecord) []FlowRow {
+	rows := makeRows[FlowRow](len(sample))
+	for i := range sample {
+		f := &sample[i]
+		row := FlowRow{
+			Dims:             d,
+			FlowID:           f.ID,
+			Source:           net.Name(f.Src),
+			Destination:      net.Name(f.Dst),
+			SizeBytes:        f.Size,
+			Class:            f.Class.String(),
+			StartS:           f.Start.Seconds(),
+			Packets:          int64(f.Packets),
+			DeliveredPackets: int64(f.Delivered),
+			ReorderedPackets: int64(f.Reordered),
+			Outcome:          f.Outcome.String(),
+		}
+		if f.Ideal >= 0 {
+			row.IdealFCTS = f64(f.Ideal.Seconds())
+		}
+		if f.Outcome == sim.FlowCompleted {
+			fct := (f.End - f.Start).Seconds()
+			row.EndS, row.FCTS = f64(f.End.Seconds()), f64(fct)
+			if f.Ideal > 0 {
+				row.Slowdown = f64(fct / f.Ideal.Seconds())
+			}
+		}
+		rows[i] = row
+	}
+	return rows
 }
 
 // flowColumns fills the flow-traffic columns of run from f.

@@ -39,6 +39,7 @@ const (
 	tableSeries     = "series"
 	tableLinks      = "links"
 	tableRecoveries = "recoveries"
+	tableFlows      = "flows"
 	tableSummary    = "summary"
 )
 
@@ -212,6 +213,9 @@ func ReadLinks(path string) ([]LinkRow, error) { return readTable[LinkRow](path,
 func ReadRecoveries(path string) ([]RecoveryRow, error) {
 	return readTable[RecoveryRow](path, tableRecoveries)
 }
+
+// ReadFlows reads a flows.parquet file.
+func ReadFlows(path string) ([]FlowRow, error) { return readTable[FlowRow](path, tableFlows) }
 
 // ReadSummary reads a summary.parquet file.
 func ReadSummary(path string) ([]SummaryRow, error) {

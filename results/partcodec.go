@@ -14,6 +14,7 @@ import (
 //
 //	magic "hoplore-part\n", format version (1 byte)
 //	five sections: dims (1 row), runs (1 row), series, links, recoveries
+//	a sixth, flows, only when the run has flow rows
 //	CRC-32C of everything before it (4 bytes, little endian)
 //
 // A section is self-describing: uvarint field count, then per field its
@@ -88,11 +89,12 @@ var (
 	planSeries   = planOf(reflect.TypeFor[SeriesRow]())
 	planLinks    = planOf(reflect.TypeFor[LinkRow]())
 	planRecovery = planOf(reflect.TypeFor[RecoveryRow]())
+	planFlows    = planOf(reflect.TypeFor[FlowRow]())
 )
 
 // encodePart encodes t; every row must carry t.Run.Dims.
 func encodePart(t *RunTables) []byte {
-	b := make([]byte, 0, 256+64*(len(t.Series)+len(t.Links)+len(t.Recoveries)))
+	b := make([]byte, 0, 256+64*(len(t.Series)+len(t.Links)+len(t.Recoveries)+len(t.Flows)))
 	b = append(b, partMagic...)
 	b = append(b, partVersion)
 	d := t.Run.Dims
@@ -102,6 +104,9 @@ func encodePart(t *RunTables) []byte {
 	b = planSeries.encode(b, reflect.ValueOf(t.Series), len(t.Series), true)
 	b = planLinks.encode(b, reflect.ValueOf(t.Links), len(t.Links), true)
 	b = planRecovery.encode(b, reflect.ValueOf(t.Recoveries), len(t.Recoveries), true)
+	if len(t.Flows) > 0 {
+		b = planFlows.encode(b, reflect.ValueOf(t.Flows), len(t.Flows), true)
+	}
 	return binary.LittleEndian.AppendUint32(b, crc32.Checksum(b, crcTable))
 }
 
@@ -328,6 +333,16 @@ func decodePart(b []byte) (*RunTables, error) {
 		t.Recoveries[i].Dims = d
 		return reflect.ValueOf(&t.Recoveries[i]).Elem()
 	})
+	if r.err == nil && len(r.b) != 0 {
+		r.section(planFlows, func(n int) {
+			if n > 0 {
+				t.Flows = make([]FlowRow, n)
+			}
+		}, func(i int) reflect.Value {
+			t.Flows[i].Dims = d
+			return reflect.ValueOf(&t.Flows[i]).Elem()
+		})
+	}
 	if r.err == nil && len(r.b) != 0 {
 		r.fail()
 	}

@@ -52,6 +52,11 @@ func WritePart(dir string, t *RunTables) error {
 			return fmt.Errorf("results: run %q: recoveries row %d has other dimensions", id, i)
 		}
 	}
+	for i := range t.Flows {
+		if t.Flows[i].Dims != d {
+			return fmt.Errorf("results: run %q: flows row %d has other dimensions", id, i)
+		}
+	}
 	if t.State != nil {
 		// before the part: a finished run has its state
 		if err := writeState(dir, t.State); err != nil {
@@ -138,7 +143,8 @@ func ReadPart(dir, id string) (*RunTables, error) {
 }
 
 // Finalize assembles the parts in DIR into runs.parquet, series.parquet,
-// links.parquet, recoveries.parquet and summary.parquet, each carrying meta
+// links.parquet, recoveries.parquet, summary.parquet and, when some run has
+// flow rows, flows.parquet, each carrying meta
 // as key-value metadata. Rows follow order (run ids); every listed run must
 // have a part and other parts are left out. With a nil order, every part is
 // taken, ordered by run_index then run_id. The output depends only on the
@@ -189,6 +195,10 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 	sw := newTableWriter[SeriesRow](files[0], meta.kv(tableSeries))
 	lw := newTableWriter[LinkRow](files[1], meta.kv(tableLinks))
 	cw := newTableWriter[RecoveryRow](files[2], meta.kv(tableRecoveries))
+	var (
+		flowFile *atomicfile.File // created at the first flow row
+		fw       *tableWriter[FlowRow]
+	)
 	runs := make([]RunRow, len(order))
 	for i, id := range order {
 		t, err := ReadPart(dir, id)
@@ -196,6 +206,17 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 			return fail(err)
 		}
 		runs[i] = t.Run
+		if len(t.Flows) > 0 && fw == nil {
+			if flowFile, err = create(FlowsFile); err != nil {
+				return fail(err)
+			}
+			fw = newTableWriter[FlowRow](flowFile, meta.kv(tableFlows))
+		}
+		if fw != nil {
+			if err := fw.write(t.Flows); err != nil {
+				return fail(fmt.Errorf("results: %s: %w", FlowsFile, err))
+			}
+		}
 		if err := sw.write(t.Series); err != nil {
 			return fail(fmt.Errorf("results: %s: %w", SeriesFile, err))
 		}
@@ -211,6 +232,14 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 			return fail(fmt.Errorf("results: writing %s: %w", files[i].Path(), err))
 		}
 		if err := files[i].Close(); err != nil {
+			return fail(fmt.Errorf("results: %w", err))
+		}
+	}
+	if fw != nil {
+		if err := fw.close(); err != nil {
+			return fail(fmt.Errorf("results: writing %s: %w", flowFile.Path(), err))
+		}
+		if err := flowFile.Close(); err != nil {
 			return fail(fmt.Errorf("results: %w", err))
 		}
 	}
@@ -237,10 +266,19 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 			return fail(fmt.Errorf("results: writing %s: %w", xf.Path(), err))
 		}
 	}
-	return commitTables(dir, files, Manifest{
+	if err := commitTables(dir, files, Manifest{
 		Experiment: meta.Experiment, ExperimentHash: meta.ExperimentHash,
 		Runs: len(runs), ExpectedRuns: meta.Runs,
-	})
+	}); err != nil {
+		return err
+	}
+	if fw == nil {
+		// a flows table of an earlier set is not of this one
+		if err := os.Remove(filepath.Join(dir, FlowsFile)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("results: %w", err)
+		}
+	}
+	return nil
 }
 
 // partOrder returns the ids of every part in DIR ordered by run_index, then

@@ -204,12 +204,41 @@ type RecoveryRow struct {
 	PeakDelayS *float64 `parquet:"peak_delay_s,optional"`
 }
 
+// FlowRow is one row of flows.parquet: one sampled flow of one run (the
+// run's flows started at or after the warm-up, all of them up to the
+// sample size, beyond that a uniform sample: sim.FlowGen.Sample). Times
+// are seconds from the start of the run; a value that does not apply is
+// null.
+type FlowRow struct {
+	Dims
+	FlowID      int64   `parquet:"flow_id"` // the run's flows numbered from 1 in start order, warm-up included
+	Source      string  `parquet:"source,dict"`
+	Destination string  `parquet:"destination,dict"`
+	SizeBytes   int64   `parquet:"size_bytes"`
+	Class       string  `parquet:"class,dict"` // mice, medium or elephant
+	StartS      float64 `parquet:"start_s"`
+	// EndS is the delivery of the last packet; null unless completed.
+	EndS *float64 `parquet:"end_s,optional"`
+	// FCTS is end_s − start_s; null unless completed.
+	FCTS *float64 `parquet:"fct_s,optional"`
+	// IdealFCTS is the completion time alone on the idle network
+	// (sim.IdealFCT); null when the destination cannot be reached.
+	IdealFCTS *float64 `parquet:"ideal_fct_s,optional"`
+	// Slowdown is fct_s / ideal_fct_s; null if either is.
+	Slowdown         *float64 `parquet:"slowdown,optional"`
+	Packets          int64    `parquet:"packets"`           // packets sent
+	DeliveredPackets int64    `parquet:"delivered_packets"` // packets delivered
+	ReorderedPackets int64    `parquet:"reordered_packets"` // delivered below the next expected sequence number
+	Outcome          string   `parquet:"outcome,dict"`      // completed, failed or unfinished
+}
+
 // RunTables are one run's rows of every per-run table.
 type RunTables struct {
 	Run        RunRow
 	Series     []SeriesRow
 	Links      []LinkRow
 	Recoveries []RecoveryRow
+	Flows      []FlowRow
 	// State, for a learning run, is its final state: WritePart stores it
 	// under DIR/state before the part (it is not part of the part).
 	State *LearnedState
@@ -221,6 +250,7 @@ const (
 	SeriesFile     = "series.parquet"
 	LinksFile      = "links.parquet"
 	RecoveriesFile = "recoveries.parquet"
+	FlowsFile      = "flows.parquet"
 	SummaryFile    = "summary.parquet"
 )
 

@@ -324,6 +324,25 @@ var Recoveries = &Table{Name: "recoveries", File: RecoveriesFile, Doc: "one fail
 	{Name: "peak_delay_s", Unit: "s", Label: "peak delay", Doc: "largest bin mean delivery time in the window"},
 }}
 
+// Flows is flows.parquet: one row per run and sampled flow (FlowRow).
+// Finalize writes it only when some run sampled a flow.
+var Flows = &Table{Name: tableFlows, File: FlowsFile, Doc: "one sampled flow of one run (flows started after the warm-up: all up to traffic.flows.sample per run, beyond that a uniform sample)", Columns: []Column{
+	{Name: "flow_id", Label: "flow", Doc: "the run's flows numbered from 1 in the order they started, warm-up included"},
+	{Name: "source", Label: "source", Doc: "sending node"},
+	{Name: "destination", Label: "destination", Doc: "receiving node"},
+	{Name: "size_bytes", Unit: "B", Label: "size", Doc: "bytes of the flow"},
+	{Name: "class", Label: "class", Doc: "size class: mice (at most mice_bytes), elephant (at least elephant_bytes) or medium"},
+	{Name: "start_s", Unit: "s", Label: "start", Doc: "emission of the first packet"},
+	{Name: "end_s", Unit: "s", Label: "end", Doc: "delivery of the last packet; null unless completed"},
+	{Name: "fct_s", Unit: "s", Label: "flow completion time", Doc: "end_s − start_s; null unless completed"},
+	{Name: "ideal_fct_s", Unit: "s", Label: "idle-network completion time", Doc: "completion time alone on the idle network along the hop-count shortest path; null when the destination cannot be reached"},
+	{Name: "slowdown", Unit: "1", Label: "slowdown", Doc: "fct_s / ideal_fct_s; null if either is"},
+	{Name: "packets", Unit: "packets", Label: "packets", Doc: "packets the flow sent"},
+	{Name: "delivered_packets", Unit: "packets", Label: "delivered", Doc: "packets of the flow delivered"},
+	{Name: "reordered_packets", Unit: "packets", Label: "reordered", Doc: "delivered packets that arrived below the next expected sequence number (RFC 4737)"},
+	{Name: "outcome", Label: "outcome", Doc: `"completed" (every packet delivered), "failed" (a packet dropped or the source stopped it) or "unfinished" (the run ended first)`},
+}}
+
 // Summaries is summary.parquet: one row per cell (SummaryRow). Its columns
 // after the cell dimensions are replicates and those every Summarized
 // column of Runs makes (Summary.Suffixes).
@@ -349,10 +368,11 @@ var Optimum = &Table{Name: TableOptimum, File: OptimumFile, Doc: "the model opti
 	{Name: "opt_delay_gap", Unit: "1", Label: "optimum: delivery mean gap", Doc: "certified relative gap of opt_delay_mean_s"},
 }}
 
-// Tables lists the tables every finished result folder holds, in the order
-// a folder is described. optimum.parquet (Optimum) is there only when the
-// sweep computed the optimum.
-var Tables = []*Table{Runs, Series, Links, Recoveries, Summaries}
+// Tables lists the tables of a finished result folder, in the order a
+// folder is described; flows.parquet (Flows) is there only when some run
+// sampled a flow. optimum.parquet (Optimum) is there only when the sweep
+// computed the optimum.
+var Tables = []*Table{Runs, Series, Links, Recoveries, Flows, Summaries}
 
 func init() {
 	bindDims(DimColumns, reflect.TypeFor[Dims]())
@@ -361,6 +381,7 @@ func init() {
 	bind(Series, reflect.TypeFor[SeriesRow]())
 	bind(Links, reflect.TypeFor[LinkRow]())
 	bind(Recoveries, reflect.TypeFor[RecoveryRow]())
+	bind(Flows, reflect.TypeFor[FlowRow]())
 	bind(Optimum, reflect.TypeFor[OptimumRow]())
 	Summaries.Columns = []Column{{Name: "replicates", Label: "replicates", Doc: "runs in the cell", number: true}}
 	for _, c := range Summarized() {

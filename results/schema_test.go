@@ -31,6 +31,7 @@ func TestSchemaMatchesFiles(t *testing.T) {
 		{results.Series, parquet.SchemaOf(results.SeriesRow{}), results.DimColumns},
 		{results.Links, parquet.SchemaOf(results.LinkRow{}), results.DimColumns},
 		{results.Recoveries, parquet.SchemaOf(results.RecoveryRow{}), results.DimColumns},
+		{results.Flows, parquet.SchemaOf(results.FlowRow{}), results.DimColumns},
 		{results.Summaries, results.SummarySchema(), results.CellColumns},
 		{results.Optimum, parquet.SchemaOf(results.OptimumRow{}), nil}, // its dimensions are its columns
 	} {
@@ -142,6 +143,7 @@ func TestSchemaKinds(t *testing.T) {
 		{results.Series, reflect.TypeFor[results.SeriesRow]()},
 		{results.Links, reflect.TypeFor[results.LinkRow]()},
 		{results.Recoveries, reflect.TypeFor[results.RecoveryRow]()},
+		{results.Flows, reflect.TypeFor[results.FlowRow]()},
 		{results.Optimum, reflect.TypeFor[results.OptimumRow]()},
 	} {
 		for i := 0; i < tc.typ.NumField(); i++ {
