@@ -26,7 +26,15 @@ type FlowTraffic struct {
 	RateLimit                float64 // bit/s; 0 means the source's access rate
 	PacketBytes              int     // 0 means sim.DefaultFlowPacketBytes
 	MiceBytes, ElephantBytes float64 // 0 means the sim defaults
+	// Sample is the most flows per run that flows.parquet records
+	// (sim.FlowGen.Sample); 0 none. DefaultFlowSample when not given.
+	Sample int
 }
+
+// DefaultFlowSample is traffic.flows.sample when not given: flows.parquet
+// records every measured flow of a run up to this many, a uniform sample
+// of this many beyond.
+const DefaultFlowSample = 10_000
 
 func (c *checker) flows(e *Experiment) error {
 	g := c.raw.Traffic.Flows.Gen
@@ -81,6 +89,13 @@ func (c *checker) flows(e *Experiment) error {
 			return c.errf(g.ElephantBytes.Pos, "traffic.flows.elephant_bytes: must be at least mice_bytes (%g), got %g", mice, g.ElephantBytes.V)
 		}
 		ft.ElephantBytes = g.ElephantBytes.V
+	}
+	ft.Sample = DefaultFlowSample
+	if g.Sample.Set {
+		if g.Sample.V < 0 || g.Sample.V > 1<<24 {
+			return c.errf(g.Sample.Pos, "traffic.flows.sample: must be in 0..16777216 (flows recorded per run; 0 records none), got %d", g.Sample.V)
+		}
+		ft.Sample = g.Sample.V
 	}
 	d, err := c.flowSize(g)
 	if err != nil {

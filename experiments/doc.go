@@ -84,7 +84,8 @@
 //	               bytes}, ...], fractions adding up to 1} | cdf {file: CSV of
 //	               bytes,probability, both increasing, ending at 1}}; rate_limit
 //	               (default the source's fastest channel), packet_bytes (default 1500),
-//	               mice_bytes (default 1e5), elephant_bytes (default 1e7)
+//	               mice_bytes (default 1e5), elephant_bytes (default 1e7), sample
+//	               (flows per run in flows.parquet, default DefaultFlowSample, 0 none)
 //	  phases       optional [{at: DURATION, factor: F}], times increasing: from `at` on
 //	               every rate is multiplied by F ≥ 0 (load that rises or falls mid-run)
 //	agents       required list; each entry is KIND or {kind: KIND, label: TEXT, FIELD: value ...}

@@ -35,6 +35,7 @@ func TestBadFlowFiles(t *testing.T) {
 		{"negative-sigma", "6:61", "traffic.flows.size.sigma: must be in [0, 10], got -1"},
 		{"unknown-field", "6:65", `unknown field "rate_limt"`},
 		{"zero-size", "6:50", "traffic.flows.size.bytes: must be a whole number of bytes, at least 1, got 0"},
+		{"negative-sample", "6:34", "traffic.flows.sample: must be in 0..16777216 (flows recorded per run; 0 records none), got -1"},
 	}
 	files, err := filepath.Glob("testdata/badflows/*.yaml")
 	if err != nil {
@@ -143,6 +144,30 @@ func TestFlowArrivalsAndCDF(t *testing.T) {
 	}
 	if e.Traffic.FlowGen.RateLimit != 5e6 {
 		t.Errorf("rate limit %g, want 5e6", e.Traffic.FlowGen.RateLimit)
+	}
+	if e.Traffic.FlowGen.Sample != DefaultFlowSample {
+		t.Errorf("flow sample %d without the field, want the default %d", e.Traffic.FlowGen.Sample, DefaultFlowSample)
+	}
+}
+
+// traffic.flows.sample reaches the run's flow traffic; 0 is allowed (none).
+func TestFlowSampleField(t *testing.T) {
+	for _, n := range []int{0, 25} {
+		e := mustParse(t, fmt.Sprintf(`name: sampled
+duration: 2s
+topologies: [ring]
+traffic:
+  loads: [0.4]
+  flows: {arrivals: 5/s, sample: %d, size: {dist: fixed, bytes: 1000}}
+agents: [shortest-path]
+`, n))
+		cfg, err := e.Runs()[0].Config()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := cfg.Traffic.FlowGen.Sample; got != n {
+			t.Errorf("sample: %d gave %d", n, got)
+		}
 	}
 }
 

@@ -312,7 +312,7 @@ func (r *Run) flowGen() *sim.FlowGen {
 		return nil
 	}
 	return &sim.FlowGen{Rates: r.FlowRates(), Size: g.Size, RateLimit: g.RateLimit, PacketBytes: g.PacketBytes,
-		MiceBytes: g.MiceBytes, ElephantBytes: g.ElephantBytes}
+		MiceBytes: g.MiceBytes, ElephantBytes: g.ElephantBytes, Sample: g.Sample}
 }
 
 func scaled(m [][]float64, f float64) [][]float64 {

@@ -375,6 +375,7 @@ type flowGenYAML struct {
 	PacketBytes   yamlx.Int       `yaml:"packet_bytes"`
 	MiceBytes     yamlx.Float     `yaml:"mice_bytes"`
 	ElephantBytes yamlx.Float     `yaml:"elephant_bytes"`
+	Sample        yamlx.Int       `yaml:"sample"`
 }
 
 // flowSizeYAML is traffic.flows.size.

@@ -10,6 +10,8 @@
 //	series.parquet        one row per run and time bin     (SeriesRow)
 //	links.parquet         one row per run and channel      (LinkRow)
 //	recoveries.parquet    one row per run and failure event (RecoveryRow)
+//	flows.parquet         one row per run and sampled flow, with flow
+//	                      traffic only (FlowRow)
 //	summary.parquet       one row per cell                 (SummaryRow)
 //	state/<run_id>.json   a learning run's final state (StateInfo), with
 //	state/<run_id>.qtable.parquet  its Q table (QRow) for a tabular learner

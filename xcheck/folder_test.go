@@ -155,6 +155,7 @@ traffic:
   matrix: uniform
   loads: [0.5, 1.2]
   packet_size: {dist: fixed, bytes: 1000}
+  flows: {arrivals: 2/s, size: {dist: mix, classes: [{fraction: 0.8, bytes: 8000}, {fraction: 0.2, bytes: 200000}]}}
 agents:
   - shortest-path
   - q-routing
@@ -196,6 +197,10 @@ failures:
 			t.Errorf("%s is not in %s", filepath.Base(p), results.ManifestFile)
 		}
 	}
+	if !listed[results.FlowsFile] {
+		t.Errorf("%s does not list %s", results.ManifestFile, results.FlowsFile)
+	}
+	checkFlowCounts(t, dir)
 	for _, path := range files {
 		name := filepath.Base(path)
 		pgNames, pgCols := readParquetGo(t, path)
@@ -251,4 +256,58 @@ failures:
 		}
 		return
 	}())
+}
+
+// checkFlowCounts: with every measured flow in the sample (fewer than the
+// default sample size per run), flows.parquet's rows of each run add up to
+// its runs.parquet flow columns: started, completed and failed.
+func checkFlowCounts(t *testing.T, dir string) {
+	t.Helper()
+	runs, err := results.ReadRuns(filepath.Join(dir, results.RunsFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	flows, err := results.ReadFlows(filepath.Join(dir, results.FlowsFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	type counts struct{ started, completed, failed int64 }
+	got := map[string]*counts{}
+	for _, f := range flows {
+		c := got[f.RunID]
+		if c == nil {
+			c = &counts{}
+			got[f.RunID] = c
+		}
+		c.started++
+		switch f.Outcome {
+		case "completed":
+			c.completed++
+			// fct_s is computed from whole nanoseconds; end_s − start_s in
+			// float64 seconds of a run under 64 s carries rounding below 1e-13 s
+			if f.FCTS == nil || f.EndS == nil || math.Abs(*f.EndS-f.StartS-*f.FCTS) > 1e-12 {
+				t.Errorf("run %s flow %d: completed with end %v, fct %v", f.RunID, f.FlowID, f.EndS, f.FCTS)
+			}
+		case "failed":
+			c.failed++
+		}
+	}
+	var total int64
+	for _, r := range runs {
+		c := got[r.RunID]
+		if c == nil {
+			c = &counts{}
+		}
+		if r.FlowsStarted >= experiments.DefaultFlowSample {
+			t.Fatalf("run %s started %d flows: the sample no longer holds every flow", r.RunID, r.FlowsStarted)
+		}
+		if *c != (counts{r.FlowsStarted, r.FlowsCompleted, r.FlowsFailed}) {
+			t.Errorf("run %s: flows.parquet %+v, runs.parquet started %d, completed %d, failed %d",
+				r.RunID, *c, r.FlowsStarted, r.FlowsCompleted, r.FlowsFailed)
+		}
+		total += r.FlowsStarted
+	}
+	if total == 0 || int64(len(flows)) != total {
+		t.Errorf("flows.parquet holds %d rows, runs.parquet %d started flows", len(flows), total)
+	}
 }
