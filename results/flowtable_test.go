@@ -86,3 +86,43 @@ func TestFinalizeFlows(t *testing.T) {
 		t.Errorf("manifest %+v, %v: lists %s with no flow rows", m.Tables, err, FlowsFile)
 	}
 }
+
+// Merge takes a folder's flow rows from its parts or, a folder without
+// parts, from its flows.parquet: the merged table is the one Finalize
+// writes from all the parts.
+func TestMergeFlows(t *testing.T) {
+	meta := Meta{Version: "v", Experiment: "e", ExperimentHash: "h"}
+	var shards []string
+	var want []FlowRow
+	for s := 0; s < 2; s++ {
+		dir := t.TempDir()
+		if err := MarkDir(dir, meta); err != nil {
+			t.Fatal(err)
+		}
+		for i := 2 * s; i < 2*s+2; i++ {
+			r := withFlows(synthTables(i), i+1)
+			if err := WritePart(dir, r); err != nil {
+				t.Fatal(err)
+			}
+			want = append(want, r.Flows...)
+		}
+		if err := Finalize(dir, nil, meta); err != nil {
+			t.Fatal(err)
+		}
+		shards = append(shards, dir)
+	}
+	if err := os.RemoveAll(filepath.Join(shards[1], PartsDir)); err != nil {
+		t.Fatal(err)
+	}
+	out := t.TempDir()
+	if err := Merge(out, shards); err != nil {
+		t.Fatal(err)
+	}
+	got, err := ReadFlows(filepath.Join(out, FlowsFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("merged flows.parquet: %d rows, want %d:\n got %+v\nwant %+v", len(got), len(want), got, want)
+	}
+}

@@ -1,6 +1,7 @@
 package sim_test
 
 import (
+	"fmt"
 	"math"
 	"runtime"
 	"testing"
@@ -357,10 +358,17 @@ func BenchmarkFlowEngine(b *testing.B) {
 
 // BenchmarkFlowSteadyState measures the allocations per event of flow
 // traffic in the steady state: after 20 s of simulated time (the free
-// lists of packets and flows and the histograms have grown), each
-// iteration runs 10 ms more of grid4x4's flow workload of
-// BenchmarkFlowEngine at load 0.7.
+// lists of packets and flows and the histograms have grown, and a sample
+// of 1000 flows is full), each iteration runs 10 ms more of grid4x4's flow
+// workload of BenchmarkFlowEngine at load 0.7; without and with the
+// per-flow sample.
 func BenchmarkFlowSteadyState(b *testing.B) {
+	for _, sample := range []int{0, 1000} {
+		b.Run(fmt.Sprintf("sample=%d", sample), func(b *testing.B) { flowSteadyState(b, sample) })
+	}
+}
+
+func flowSteadyState(b *testing.B, sample int) {
 	size := sim.SizeDist{Kind: sim.Classes, Classes: []sim.SizeClass{{Fraction: 0.9, Bytes: 10_000}, {Fraction: 0.1, Bytes: 1e6}}}
 	net := sim.Compile(gridGraph(4, 4, 10e6, 64))
 	fm := sim.UniformMatrix(net)
@@ -371,7 +379,7 @@ func BenchmarkFlowSteadyState(b *testing.B) {
 		}
 	}
 	cfg := &sim.Config{Net: net, Agent: shortest(b, net), Seed: 1, Duration: 1 << 62, Warmup: 0, Bin: 1 << 60,
-		Traffic: sim.Traffic{Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1}, FlowGen: &sim.FlowGen{Rates: fm, Size: size}}}
+		Traffic: sim.Traffic{Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1}, FlowGen: &sim.FlowGen{Rates: fm, Size: size, Sample: sample}}}
 	st, err := sim.NewStepper(cfg)
 	if err != nil {
 		b.Fatal(err)
