@@ -18,9 +18,12 @@ func benchParams() []agents.Params {
 	}
 	for _, o := range []string{agents.ObjectiveLoss, agents.ObjectiveUtilisation} {
 		p := agents.Defaults(agents.QRoutingKind)
-		p.Objective = o
+		p.Objective.Name = o
 		ps = append(ps, p)
 	}
+	qm := agents.Defaults(agents.QRoutingKind)
+	qm.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+	ps = append(ps, qm)
 	ps = append(ps, agents.Defaults(agents.QNetworkKind)) // hidden [32]
 	qn := agents.Defaults(agents.QNetworkKind)
 	qn.InstallEvery = 500 * sim.Millisecond

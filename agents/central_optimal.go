@@ -31,7 +31,7 @@ func init() {
 		Fields: []Field{
 			everyField(2 * sim.Second),
 			controlDelayField(50 * sim.Millisecond),
-			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveMinMaxUtil, oneOf("objective", ObjectiveMinMaxUtil, ObjectiveMinDelay)),
+			objectiveField(ObjectiveMinMaxUtil, false, ObjectiveMinMaxUtil, ObjectiveMinDelay),
 			NewField("split", func(p *Params) *string { return &p.Split }, SplitFlow, oneOf("split", SplitFlow, SplitPacket)),
 			NewField("max_shift", func(p *Params) *float64 { return &p.MaxShift }, 0.5, inUnitOpenClosed),
 			NewField("epsilon", func(p *Params) *float64 { return &p.Epsilon }, 0.05, func(v float64) error {

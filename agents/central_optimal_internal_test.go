@@ -168,7 +168,7 @@ func TestCentralOptimalServiceModel(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			p := Defaults(CentralOptimalKind)
-			p.Objective = ObjectiveMinDelay
+			p.Objective.Name = ObjectiveMinDelay
 			p.MeanPacketBytes, p.PacketSizeSCV = tc.bytes, tc.scv
 			ag, err := New(p, net)
 			if err != nil {
@@ -234,7 +234,7 @@ func BenchmarkCentralOptimalInstall(b *testing.B) {
 	for _, obj := range []string{ObjectiveMinMaxUtil, ObjectiveMinDelay} {
 		b.Run(obj, func(b *testing.B) {
 			p := Defaults(CentralOptimalKind)
-			p.Objective = obj
+			p.Objective.Name = obj
 			ag, err := New(p, net)
 			if err != nil {
 				b.Fatal(err)
@@ -248,11 +248,11 @@ func BenchmarkCentralOptimalInstall(b *testing.B) {
 				}
 			}
 			next := make([]float64, len(a.w))
-			a.p.Objective = ObjectiveMinMaxUtil // the scale comes from the min–max optimum
+			a.p.Objective.Name = ObjectiveMinMaxUtil // the scale comes from the min–max optimum
 			if _, err := a.sol.solveInto(a, next); err != nil {
 				b.Fatal(err)
 			}
-			a.p.Objective = obj
+			a.p.Objective.Name = obj
 			for s := range a.demand { // scaled so that the optimum runs at 0.7
 				for d := range a.demand[s] {
 					a.demand[s][d] *= 0.7 / a.LastUtil

@@ -57,7 +57,7 @@ func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
 	if routable, _ := cs.s.Demand(); routable == 0 {
 		return b, errNoDemand
 	}
-	if a.p.Objective == ObjectiveMinDelay {
+	if a.p.Objective.Name == ObjectiveMinDelay {
 		r, err := cs.s.MinDelay(a.p.Epsilon)
 		if err != nil {
 			return b, err

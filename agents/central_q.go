@@ -28,7 +28,7 @@ func init() {
 			NewField("discount", func(p *Params) *float64 { return &p.Discount }, 0.5, inUnitClosedOpen),
 			exploreField(0.05),
 			NewField("drop_penalty", func(p *Params) *sim.Time { return &p.DropPenalty }, 1*sim.Second, nonNegativeTime),
-			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveDelay, oneOf("objective", ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation)),
+			objectiveField(ObjectiveDelay, true, ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation),
 		},
 		New: newCentralQ,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -271,7 +271,7 @@ func (a *CentralQ) rowOf(pr *cqPair, key uint64) int32 {
 	r := int32(len(pr.states))
 	pr.states[key] = r
 	for _, c := range pr.cands {
-		if a.p.Objective == ObjectiveLoss || a.p.Objective == ObjectiveUtilisation {
+		if a.p.Objective.Name == ObjectiveLoss || a.p.Objective.Name == ObjectiveUtilisation {
 			// no prior on loss or utilisation: ties go to the shorter candidate
 			pr.q = append(pr.q, 0)
 			continue
@@ -321,7 +321,7 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 		nc := len(pr.cands)
 		if pr.row >= 0 && dDel+dDrop > 0 {
 			r := 0.0
-			switch a.p.Objective {
+			switch a.p.Objective.Name {
 			case ObjectiveLoss:
 				r = -float64(dDrop) / float64(dDel+dDrop)
 			case ObjectiveUtilisation:

@@ -17,7 +17,7 @@ var contract = map[string][]func(p *agents.Params){
 	agents.CentralAdaptiveKind: {nil, func(p *agents.Params) { p.HoldDown = 0 }},
 	agents.CentralQKind:        {nil},
 	agents.CentralOptimalKind: {nil, func(p *agents.Params) {
-		p.Objective, p.Split, p.MaxShift = agents.ObjectiveMinDelay, agents.SplitPacket, 1
+		p.Objective.Name, p.Split, p.MaxShift = agents.ObjectiveMinDelay, agents.SplitPacket, 1
 	}},
 	agents.QRoutingKind: qRoutingCases(),
 	agents.QNetworkKind: {nil, func(p *agents.Params) {
@@ -28,7 +28,8 @@ var contract = map[string][]func(p *agents.Params){
 
 // qRoutingCases are every variant with either feedback, consensus, and the
 // loss objective with in-band feedback (the variants that take it), once
-// with install_every, and the utilisation objective.
+// with install_every, the utilisation objective and a mix of all three
+// terms.
 func qRoutingCases() []func(p *agents.Params) {
 	var cs []func(p *agents.Params)
 	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
@@ -37,10 +38,13 @@ func qRoutingCases() []func(p *agents.Params) {
 		}
 	}
 	for _, v := range []string{"plain", "predictive"} {
-		cs = append(cs, func(p *agents.Params) { p.Variant, p.Feedback, p.Objective = v, "in-band", agents.ObjectiveLoss })
+		cs = append(cs, func(p *agents.Params) { p.Variant, p.Feedback, p.Objective.Name = v, "in-band", agents.ObjectiveLoss })
 	}
-	cs = append(cs, func(p *agents.Params) { p.Objective, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond })
-	cs = append(cs, func(p *agents.Params) { p.Objective = agents.ObjectiveUtilisation })
+	cs = append(cs, func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond })
+	cs = append(cs, func(p *agents.Params) { p.Objective.Name = agents.ObjectiveUtilisation })
+	cs = append(cs, func(p *agents.Params) {
+		p.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+	})
 	return append(cs, func(p *agents.Params) {
 		p.Explore = 0.05
 		p.Consensus = &agents.Consensus{Every: sim.Second, Weight: 0.5}

@@ -77,7 +77,7 @@ type Field struct {
 // Value is a type an agent field may have: the types experiment files can
 // spell.
 type Value interface {
-	string | bool | int | float64 | sim.Time | []int | *Consensus | *Origin
+	string | bool | int | float64 | sim.Time | []int | *Consensus | *Origin | Objective
 }
 
 // NewField returns the field name of type T, stored where get points in
@@ -87,7 +87,7 @@ type Value interface {
 // "consensus.weight". In canonical labels a value is written as strconv
 // writes it (float64 in the shortest 'g' form), a sim.Time as a Go
 // duration, a []int joined by "x", a *Consensus as every/weight, with
-// "/split-horizon" when set.
+// "/split-horizon" when set, an Objective by its String method.
 func NewField[T Value](name string, get func(p *Params) *T, def T, check func(v T) error) Field {
 	f := Field{
 		Name: name,
@@ -202,6 +202,8 @@ func textValue[T Value](v T) string {
 			return "none"
 		}
 		return x.Results + ":" + x.Agent
+	case Objective:
+		return x.String()
 	}
 	panic(fmt.Sprintf("agents: no text form for %T", v))
 }

@@ -69,7 +69,9 @@ type Params struct {
 	DropPenalty  sim.Time // central-q: cost charged per dropped packet
 
 	// central-optimal (also Every, ControlDelay, Smoothing)
-	Objective string // central-optimal: min-max-util | min-delay; central-q: delay | loss | utilisation; q-routing: delay | loss
+	// central-optimal: min-max-util | min-delay; central-q, q-routing:
+	// delay | loss | utilisation | mix
+	Objective Objective
 	Split     string // flow (by flow hash) | packet
 	// every kind: PinPacket (default) or PinFlow (see PinFlow)
 	Pin string

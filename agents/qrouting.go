@@ -50,7 +50,7 @@ func init() {
 			learningField(),
 			startFromField(),
 			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
-			NewField("objective", func(p *Params) *string { return &p.Objective }, ObjectiveDelay, oneOf("objective", ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation)),
+			objectiveField(ObjectiveDelay, true, ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation),
 		},
 		Check: checkQRoutingObjective,
 		New:   newQRouting,
@@ -70,13 +70,18 @@ func init() {
 // checkQRoutingObjective rejects what a loss estimate cannot be combined
 // with: the parts of q-routing whose values are times.
 func checkQRoutingObjective(p *Params) error {
-	if p.Objective == ObjectiveDelay {
+	if p.Objective.Name == ObjectiveDelay {
 		return nil
 	}
 	switch {
 	case p.Variant == "dual" || p.Variant == "confidence":
-		return perr("variant", "%s has no %s objective (use plain or predictive)", p.Variant, p.Objective)
-	case p.Variant == "predictive" && p.Objective == ObjectiveUtilisation:
+		if p.Objective.Name == ObjectiveMix {
+			return perr("variant", "%s has no mix objective (use plain)", p.Variant)
+		}
+		return perr("variant", "%s has no %s objective (use plain or predictive)", p.Variant, p.Objective.Name)
+	case p.Variant == "predictive" && p.Objective.Name == ObjectiveMix:
+		return perr("variant", "predictive has no mix objective (use plain)")
+	case p.Variant == "predictive" && p.Objective.Name == ObjectiveUtilisation:
 		return perr("variant", "predictive has no utilisation objective (use plain): its recovery rate, learned from a noisy utilisation average, lets estimates fall to their best-ever 0")
 	case p.GiveUpAfter > 0:
 		return perr("give_up_after", "is a delivery time and applies to objective delay only")
@@ -213,8 +218,10 @@ type qrShared struct {
 	dist     [][]float64 // zero-load least cost dist[u][d]
 	qCap     float64     // ceiling on estimates (unreachable)
 	consVals bool
-	alt      bool // objective loss or utilisation: estimates in [0, 1], with a delivery-time table for ties
+	alt      bool // objective loss, utilisation or mix: loss or utilisation estimates in [0, 1], with a delivery-time table
 	util     bool // objective utilisation
+	mix      bool // objective mix: decisions on the weighted sum (see Mix)
+	w        Mix  // the mix's weights
 }
 
 var (
@@ -244,18 +251,26 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	s.zl = zeroLoadCosts(net, p.packetBytes())
 	s.dist = allPairsDist(net, s.zl)
 	s.qCap = qCeiling(s.dist)
-	switch p.Objective {
+	switch p.Objective.Name {
+	case ObjectiveMix:
+		if s.variant != variantPlain {
+			return nil, fmt.Errorf("agents: q-routing: variant %s has no objective mix", p.Variant)
+		}
+		if err := checkMix(p.Objective.Mix); err != nil {
+			return nil, fmt.Errorf("agents: q-routing: %w", err)
+		}
+		s.alt, s.mix, s.w = true, true, p.Objective.Mix
 	case ObjectiveDelay:
 	case ObjectiveLoss, ObjectiveUtilisation:
 		if s.variant == variantDual {
-			return nil, fmt.Errorf("agents: q-routing: variant dual has no objective %s", p.Objective)
+			return nil, fmt.Errorf("agents: q-routing: variant dual has no objective %s", p.Objective.Name)
 		}
-		if s.variant == variantConfidence || s.variant == variantPredictive && p.Objective == ObjectiveUtilisation {
-			return nil, fmt.Errorf("agents: q-routing: variant %s has no objective %s", p.Variant, p.Objective)
+		if s.variant == variantConfidence || s.variant == variantPredictive && p.Objective.Name == ObjectiveUtilisation {
+			return nil, fmt.Errorf("agents: q-routing: variant %s has no objective %s", p.Variant, p.Objective.Name)
 		}
-		s.alt, s.util = true, p.Objective == ObjectiveUtilisation
+		s.alt, s.util = true, p.Objective.Name == ObjectiveUtilisation
 	default:
-		return nil, fmt.Errorf("agents: q-routing: unknown objective %q", p.Objective)
+		return nil, fmt.Errorf("agents: q-routing: unknown objective %q", p.Objective.Name)
 	}
 	return &QRouting{p: p, shared: s}, nil
 }
@@ -333,6 +348,11 @@ type qrNode struct {
 	// time and busy time of its last sample
 	util         []float64
 	utilT, utilB []sim.Time
+	// objective mix: the utilisation table (nil at weight 0) and its
+	// snapshot, and per destination the delay weight over this node's
+	// zero-load time to it (1/s)
+	qu, fqu []float64
+	wz      []float64
 	// predictive
 	b, r []float64
 	u    []sim.Time
@@ -363,6 +383,7 @@ const tagQInstall = 2
 func (r *qrNode) install() {
 	copy(r.fq, r.q)
 	copy(r.fqd, r.qd)
+	copy(r.fqu, r.qu)
 	copy(r.fb, r.b)
 	copy(r.fr, r.r)
 	copy(r.fu, r.u)
@@ -393,10 +414,22 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 		r.qd = make([]float64, len(r.q))
 		r.hopLimit = v.HopLimit()
 	}
-	if s.util {
+	if s.util || s.mix && s.w.Utilisation > 0 {
 		r.util = make([]float64, r.deg)
 		r.utilT = make([]sim.Time, r.deg)
 		r.utilB = make([]sim.Time, r.deg)
+	}
+	if s.mix {
+		if s.w.Utilisation > 0 {
+			r.qu = make([]float64, len(r.q))
+		}
+		r.wz = make([]float64, s.n)
+		for d, z := range s.dist[r.id] {
+			if z == 0 || math.IsInf(z, 1) {
+				z = 1 // this node, or unreachable: every channel's delay term is the same
+			}
+			r.wz[d] = s.w.Delay / z
+		}
 	}
 	r.pref = newPrefs(s.n)
 	r.give = newGiveUp(s.p.GiveUpAfter, s.n)
@@ -419,6 +452,10 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 			r.fqd = make([]float64, len(r.qd))
 		}
 		copy(r.fqd, r.qd)
+		if r.qu != nil {
+			r.fqu = make([]float64, len(r.qu))
+		}
+		copy(r.fqu, r.qu)
 		if r.b != nil {
 			r.fb = make([]float64, len(r.b))
 			r.fr = make([]float64, len(r.r))
@@ -463,6 +500,9 @@ func (r *qrNode) resetColumn(k int) {
 			if r.qd[i] == r.s.qCap {
 				v = 1
 			}
+			if r.qu != nil {
+				r.qu[i] = v
+			}
 		}
 		r.q[i] = v
 		switch r.s.variant {
@@ -484,6 +524,12 @@ func (r *qrNode) estimate(i int, now sim.Time) float64 {
 	q, b, rr, u := r.q, r.b, r.r, r.u
 	if r.fq != nil {
 		q, b, rr, u, now = r.fq, r.fb, r.fr, r.fu, r.installed
+	}
+	if r.s.mix {
+		if r.fq != nil {
+			return r.mixCost(i, r.fq, r.fqd, r.fqu)
+		}
+		return r.mixCost(i, r.q, r.qd, r.qu)
 	}
 	if r.s.variant == variantPredictive {
 		return math.Max(q[i]+(now-u[i]).Seconds()*rr[i], b[i])
@@ -572,6 +618,46 @@ func (r *qrNode) tieDelay(d, k int) float64 {
 		return r.fqd[d*r.deg+k]
 	}
 	return r.qd[d*r.deg+k]
+}
+
+// mixCost returns the mix objective's cost of entry i from the loss,
+// delivery-time and utilisation tables q, qd, qu (qu nil at weight 0):
+// w_delay·qd/(zero-load time to the destination) + w_loss·q + w_util·qu.
+func (r *qrNode) mixCost(i int, q, qd, qu []float64) float64 {
+	c := r.wz[i/r.deg]*qd[i] + r.s.w.Loss*q[i]
+	if qu != nil {
+		c += r.s.w.Utilisation * qu[i]
+	}
+	return c
+}
+
+// mixValue returns, under objective mix, the loss, delivery-time (plus
+// processing) and utilisation values of the channel to d of least mix
+// cost among the usable ones other than out[skip] (skip -1: all): 0, 0, 0
+// for d = x; 1, the ceiling, 1 when none is usable.
+func (r *qrNode) mixValue(d, skip int) (loss, delay, util float64) {
+	if d == r.id {
+		return 0, 0, 0
+	}
+	base := d * r.deg
+	best, bestC := -1, 0.0
+	for k, c := range r.out {
+		if !r.v.Up(c) || k == skip {
+			continue
+		}
+		i := base + k
+		if cost := r.mixCost(i, r.q, r.qd, r.qu); best < 0 || cost < bestC || cost == bestC && r.qd[i] < r.qd[base+best] {
+			best, bestC = k, cost
+		}
+	}
+	if best < 0 {
+		return 1, r.s.qCap, 1
+	}
+	i := base + best
+	if r.qu != nil {
+		util = r.qu[i]
+	}
+	return r.q[i], math.Min(r.proc+r.qd[i], r.s.qCap), util
 }
 
 // randomUp returns a uniformly chosen usable column, or -1.
@@ -663,6 +749,7 @@ const (
 	msgParams                        // consensus: Vec = network parameters
 	msgNetFeedback                   // q-network: Value = q+s+t, Aux = decision's queue feature
 	msgFeedbackLoss                  // objective loss: Value = loss value of y, Aux = q+s+t
+	msgFeedbackMix                   // objective mix: Value = loss value of y, Aux = q+s+t, Aux2 = utilisation value of y
 )
 
 // Arrived runs at y when a data packet comes in from x: it returns the
@@ -674,6 +761,24 @@ func (r *qrNode) Arrived(p *sim.Packet, in int) {
 	back := in ^ 1 // this node → previous node
 	d := p.Dst
 	qs := (p.LastWait + p.LastTx).Seconds()
+	if r.s.mix {
+		skip := -1
+		if r.qu != nil {
+			skip = r.localIndex(back) // split horizon, as objective utilisation
+		}
+		l, t, u := r.mixValue(d, skip)
+		if d != r.id && p.Hops >= r.hopLimit {
+			l, u = 1, 1 // the packet expires here: lost
+		}
+		m := sim.Message{Type: msgFeedbackMix, Dst: d, Value: l, Aux: qs + t, Aux2: u}
+		if r.s.inBand {
+			m.Bytes = FeedbackBytes
+			r.v.Send(back, m)
+		} else {
+			r.v.Tell(back, m)
+		}
+		return
+	}
 	if r.s.alt {
 		skip := -1
 		if r.s.util {
@@ -731,6 +836,20 @@ func (r *qrNode) Receive(m *sim.Message, in int) {
 	}
 	delay := r.net.Channels[r.out[k]].Delay.Seconds()
 	switch m.Type {
+	case msgFeedbackMix:
+		d := m.Dst
+		if d == r.id || d < 0 || d >= r.s.n {
+			return
+		}
+		i := d*r.deg + k
+		a := r.s.p.LearningRate
+		if r.s.w.Loss > 0 {
+			r.q[i] += a * (m.Value - r.q[i])
+		}
+		r.qd[i] += a * (math.Min(m.Aux+delay, r.s.qCap) - r.qd[i])
+		if r.qu != nil {
+			r.qu[i] += a * (math.Max(r.channelUtil(k), m.Aux2) - r.qu[i])
+		}
 	case msgFeedbackLoss:
 		target := m.Value
 		if r.s.util {
@@ -810,7 +929,7 @@ func (r *qrNode) channelUtil(k int) float64 {
 // into this node's channel out was lost there (full queue or link loss), so
 // Q_x(d, out) moves towards 1. Under delay a drop teaches nothing.
 func (r *qrNode) Dropped(p *sim.Packet, out int, _ sim.DropReason) {
-	if !r.s.alt || r.s.util || r.s.p.frozen() {
+	if !r.s.alt || r.s.util || r.s.mix && r.s.w.Loss == 0 || r.s.p.frozen() {
 		return
 	}
 	if k := r.localIndex(out); k >= 0 {

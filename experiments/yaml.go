@@ -641,6 +641,8 @@ func newAgentValue(f *agents.Field) interface {
 		return new(consensusYAML)
 	case **agents.Origin:
 		return new(startFromYAML)
+	case *agents.Objective:
+		return new(objectiveYAML)
 	}
 	panic(fmt.Sprintf("experiments: agent field %s has type %T, which experiment files cannot spell", f.Name, f.Ptr(&scratch)))
 }
@@ -672,6 +674,76 @@ func (v *intsValue) store(ptr any) {
 	}
 	*ptr.(*[]int) = hs
 }
+
+// objectiveYAML is the objective field of the learning kinds: a name, or
+// {mix: {delay: W, loss: W, utilisation: W}} with weights ≥ 0, not all 0
+// (see agents.Mix).
+type objectiveYAML struct {
+	Pos yamlx.Pos
+	V   agents.Objective
+}
+
+// UnmarshalYAML implements the YAML library's node unmarshaler.
+func (o *objectiveYAML) UnmarshalYAML(n ast.Node) error {
+	o.Pos = nodePos(n)
+	if isScalar(n) {
+		var s yamlx.String
+		if err := s.UnmarshalYAML(n); err != nil {
+			return err
+		}
+		if s.S == agents.ObjectiveMix {
+			return yamlx.At(o.Pos, "a mix objective is written {mix: {delay: W, loss: W, utilisation: W}}")
+		}
+		o.V = agents.Objective{Name: s.S}
+		return nil
+	}
+	kv, ok := mappingPairs(n)
+	if !ok {
+		return yamlx.At(o.Pos, "an objective is a name or {mix: {delay: W, loss: W, utilisation: W}}")
+	}
+	var terms ast.Node
+	for _, p := range kv {
+		if name := keyName(p.Key); name != agents.ObjectiveMix {
+			return yamlx.UnknownField(yamlx.PosOf(p.Key), name)
+		}
+		terms = p.Value
+	}
+	mixAt := nodePos(terms)
+	tkv, ok := mappingPairs(terms)
+	if !ok {
+		return yamlx.At(mixAt, "mix is a mapping {delay: W, loss: W, utilisation: W}")
+	}
+	m := agents.Mix{}
+	for _, p := range tkv {
+		var w *float64
+		switch name := keyName(p.Key); name {
+		case "delay":
+			w = &m.Delay
+		case "loss":
+			w = &m.Loss
+		case "utilisation":
+			w = &m.Utilisation
+		default:
+			return yamlx.At(yamlx.PosOf(p.Key), "unknown mix term %q (known: delay, loss, utilisation)", name)
+		}
+		var f yamlx.Float
+		if err := f.UnmarshalYAML(p.Value); err != nil {
+			return err
+		}
+		if f.V < 0 {
+			return yamlx.At(f.Pos, "mix weight %s is negative, want ≥ 0", strconv.FormatFloat(f.V, 'g', -1, 64))
+		}
+		*w = f.V
+	}
+	if m == (agents.Mix{}) {
+		return yamlx.At(mixAt, "mix needs a weight > 0 on at least one of delay, loss, utilisation")
+	}
+	o.V = agents.Objective{Name: agents.ObjectiveMix, Mix: m}
+	return nil
+}
+
+func (o *objectiveYAML) at() yamlx.Pos { return o.Pos }
+func (o *objectiveYAML) store(ptr any) { *ptr.(*agents.Objective) = o.V }
 
 // consensusYAML is the consensus field of the per-node learners.
 type consensusYAML struct {

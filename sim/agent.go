@@ -104,6 +104,7 @@ type Message struct {
 	Dst   int   // destination the values refer to, if any
 	Value float64
 	Aux   float64
+	Aux2  float64   // a third value, where an agent needs one
 	Vec   []float64 // optional bulk payload (tables, parameters); owned by the receiver
 	Bytes int       // size on the wire, in bytes; > 0 for in-band messages
 }
