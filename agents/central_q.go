@@ -73,7 +73,10 @@ const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, an
 //   - reward of the last interval, by Objective: delay (default) r =
 //     −(mean delivery time in seconds + DropPenalty × drop fraction); loss
 //     r = −drop fraction; utilisation r = −(bottleneck utilisation of the
-//     path chosen for the interval); from the pair's delivered, delay-sum
+//     path chosen for the interval); mix r = −(w_delay·mean delivery time
+//     ÷ the pair's zero-load path time + w_loss·drop fraction +
+//     w_util·bottleneck utilisation), see Mix (drop_penalty does not
+//     enter it); from the pair's delivered, delay-sum
 //     and dropped counters and the channels' busy time (differences
 //     between snapshots); pairs with no packets in the interval are not
 //     updated;
@@ -84,7 +87,8 @@ const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, an
 //     shorter candidate.
 //
 // Q rows are created when a state is first seen, at −(zero-load path
-// time)/(1 − discount), so the shortest candidate is preferred until
+// time)/(1 − discount) (mix: −w_delay·(zero-load path time ÷ the
+// shortest candidate's)/(1 − discount); loss, utilisation: 0), so the shortest candidate is preferred until
 // measurements say otherwise. Choices take effect ControlDelay (its
 // parameter) later: a packet is given its pair's path at its source
 // (p.Route, shared and never modified) and follows it; where the path's next
@@ -229,6 +233,27 @@ func (a *CentralQ) Timer(tag int) {
 	}
 }
 
+// mixReward returns the mix objective's reward of a pair's last interval:
+// −(w_delay·mean delivery time ÷ the pair's zero-load path time (its
+// shortest candidate's) + w_loss·drop fraction + w_util·bottleneck
+// utilisation of the chosen path); the delay term is left out when nothing
+// was delivered (the loss term then carries the interval).
+func (a *CentralQ) mixReward(pr *cqPair, del, drop int64, delay float64) float64 {
+	w := a.p.Objective.Mix
+	r := -w.Loss * float64(drop) / float64(del+drop)
+	if del > 0 && w.Delay > 0 {
+		r -= w.Delay * delay / float64(del) / pr.cands[0].cost
+	}
+	if w.Utilisation > 0 {
+		u := 0.0
+		for _, c := range pr.cands[pr.action].chans {
+			u = math.Max(u, a.util[c])
+		}
+		r -= w.Utilisation * u
+	}
+	return r
+}
+
 // bucket returns the utilisation level of u.
 func bucket(u float64) int {
 	for i, e := range cqEdges {
@@ -271,6 +296,11 @@ func (a *CentralQ) rowOf(pr *cqPair, key uint64) int32 {
 	r := int32(len(pr.states))
 	pr.states[key] = r
 	for _, c := range pr.cands {
+		if a.p.Objective.Name == ObjectiveMix {
+			// the delay term's zero-load prior; none on loss or utilisation
+			pr.q = append(pr.q, -a.p.Objective.Mix.Delay*c.cost/pr.cands[0].cost/(1-a.p.Discount))
+			continue
+		}
 		if a.p.Objective.Name == ObjectiveLoss || a.p.Objective.Name == ObjectiveUtilisation {
 			// no prior on loss or utilisation: ties go to the shorter candidate
 			pr.q = append(pr.q, 0)
@@ -322,6 +352,8 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 		if pr.row >= 0 && dDel+dDrop > 0 {
 			r := 0.0
 			switch a.p.Objective.Name {
+			case ObjectiveMix:
+				r = a.mixReward(pr, dDel, dDrop, dDelay)
 			case ObjectiveLoss:
 				r = -float64(dDrop) / float64(dDel+dDrop)
 			case ObjectiveUtilisation:

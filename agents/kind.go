@@ -115,7 +115,7 @@ func NewField[T Value](name string, get func(p *Params) *T, def T, check func(v 
 }
 
 // Ptr returns a pointer to the field's value in p: a *string, *bool, *int,
-// *float64, *sim.Time, *[]int or **Consensus.
+// *float64, *sim.Time, *[]int, **Consensus, **Origin or *Objective.
 func (f *Field) Ptr(p *Params) any { return f.ptr(p) }
 
 // Check returns a *ParamError when the field's value in p is wrong.

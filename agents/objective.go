@@ -78,7 +78,10 @@ func objectiveField(def string, mix bool, names ...string) Field {
 		known = append(known, "{mix: {...}}")
 	}
 	return NewField("objective", func(p *Params) *Objective { return &p.Objective }, Objective{Name: def}, func(o Objective) error {
-		if o.Name == ObjectiveMix && mix {
+		if o.Name == ObjectiveMix {
+			if !mix {
+				return fmt.Errorf("takes no mix (known: %s)", strings.Join(known, ", "))
+			}
 			return checkMix(o.Mix)
 		}
 		if !slices.Contains(names, o.Name) {

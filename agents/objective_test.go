@@ -22,7 +22,8 @@ import (
 // exploration (5%) may keep a little on the other path. Measured split,
 // long path's share: loss 0.975, delay (drop_penalty 0) 0.000, delay with
 // the default 1 s penalty 0.975 (a drop then costs a second of delivery
-// time), utilisation 0.998.
+// time), utilisation 0.998, mix {delay: 1, loss: 20} 0.975, mix {delay: 1}
+// 0.000.
 func TestCentralQObjective(t *testing.T) {
 	g := &sim.Graph{Name: "lossy-short"}
 	for _, n := range []string{"s", "a", "b", "c", "d"} {
@@ -36,17 +37,24 @@ func TestCentralQObjective(t *testing.T) {
 		rates[i] = make([]float64, 5)
 	}
 	rates[0][4] = 200
+	named := func(n string) agents.Objective { return agents.Objective{Name: n} }
+	mix := func(m agents.Mix) agents.Objective { return agents.Objective{Name: agents.ObjectiveMix, Mix: m} }
 	for _, c := range []struct {
-		objective string
+		objective agents.Objective
 		penalty   sim.Time
 		loss      float64
 		slowAD    bool // link a–d at 2.5 Mbit/s
 		long      bool // the stream should end on the long path
 	}{
-		{agents.ObjectiveLoss, sim.Second, 0.2, false, true},
-		{agents.ObjectiveDelay, 0, 0.2, false, false},
-		{agents.ObjectiveDelay, sim.Second, 0.2, false, true},
-		{agents.ObjectiveUtilisation, sim.Second, 0, true, true},
+		{named(agents.ObjectiveLoss), sim.Second, 0.2, false, true},
+		{named(agents.ObjectiveDelay), 0, 0.2, false, false},
+		{named(agents.ObjectiveDelay), sim.Second, 0.2, false, true},
+		{named(agents.ObjectiveUtilisation), sim.Second, 0, true, true},
+		// mix rewards near −(1 + w_loss·0.2) on the short path and −1.5 on
+		// the long one (delay in units of the short path's zero-load time;
+		// drop_penalty does not enter a mix)
+		{mix(agents.Mix{Delay: 1, Loss: 20}), sim.Second, 0.2, false, true},
+		{mix(agents.Mix{Delay: 1}), sim.Second, 0.2, false, false},
 	} {
 		g.Links[1].Bandwidth = 10e6
 		if c.slowAD {
@@ -54,7 +62,7 @@ func TestCentralQObjective(t *testing.T) {
 		}
 		net := sim.Compile(g)
 		p := agents.Defaults(agents.CentralQKind)
-		p.Objective.Name, p.DropPenalty, p.K, p.Every = c.objective, c.penalty, 2, sim.Second
+		p.Objective, p.DropPenalty, p.K, p.Every = c.objective, c.penalty, 2, sim.Second
 		a, err := agents.New(p, net)
 		if err != nil {
 			t.Fatal(err)
@@ -98,7 +106,8 @@ func TestCentralQObjective(t *testing.T) {
 // it is never tried again; so no contrast with delay is claimed there.)
 // Measured long path's share: plain loss 1.000, plain delay 0.000,
 // predictive loss 1.000, predictive delay 0.000; on the slow link plain
-// utilisation 0.995.
+// utilisation 0.995; plain mix {delay: 1, loss: 20} 1.000, plain mix
+// {delay: 2} 0.000.
 func TestQRoutingObjective(t *testing.T) {
 	g := &sim.Graph{Name: "lossy-short"}
 	for _, n := range []string{"s", "a", "b", "c", "d"} {

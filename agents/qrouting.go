@@ -185,6 +185,16 @@ func checkQRoutingObjective(p *Params) error {
 //     to their best-ever value 0 and reopens loops. Decisions compare
 //     utilisation in classes of utilBand and take the lower delivery-time
 //     estimate within a class.
+//   - mix {delay: w_d, loss: w_l, utilisation: w_u} (variant plain only,
+//     refusals as loss): the node learns the delivery-time table always,
+//     the loss table (as objective loss) when w_l > 0 and the utilisation
+//     table (as objective utilisation, with its split horizon) when
+//     w_u > 0, and decides on the cost w_d·Qdelay/z_xd + w_l·Qloss +
+//     w_u·Qutil, z_xd being its zero-load time to d (see Mix), exact ties
+//     to the lower delivery time. Feedback from y carries the three values
+//     of y's channel of least cost (a hop-limit expiry: loss and
+//     utilisation 1), so each table estimates its term along the path the
+//     mix takes; a drop on x's own channel is a loss sample of 1.
 //
 // With give_up_after B > 0 a node drops (no_route) the packets for a
 // destination whose every estimate exceeds B, forwarding one every B as a

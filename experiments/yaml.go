@@ -711,7 +711,7 @@ func (o *objectiveYAML) UnmarshalYAML(n ast.Node) error {
 	mixAt := nodePos(terms)
 	tkv, ok := mappingPairs(terms)
 	if !ok {
-		return yamlx.At(mixAt, "mix is a mapping {delay: W, loss: W, utilisation: W}")
+		return yamlx.At(mixAt, "is a mapping {delay: W, loss: W, utilisation: W}")
 	}
 	m := agents.Mix{}
 	for _, p := range tkv {
@@ -731,12 +731,12 @@ func (o *objectiveYAML) UnmarshalYAML(n ast.Node) error {
 			return err
 		}
 		if f.V < 0 {
-			return yamlx.At(f.Pos, "mix weight %s is negative, want ≥ 0", strconv.FormatFloat(f.V, 'g', -1, 64))
+			return yamlx.At(f.Pos, "weight %s is negative, want ≥ 0", strconv.FormatFloat(f.V, 'g', -1, 64))
 		}
 		*w = f.V
 	}
 	if m == (agents.Mix{}) {
-		return yamlx.At(mixAt, "mix needs a weight > 0 on at least one of delay, loss, utilisation")
+		return yamlx.At(mixAt, "needs a weight > 0 on at least one of delay, loss, utilisation")
 	}
 	o.V = agents.Objective{Name: agents.ObjectiveMix, Mix: m}
 	return nil
