@@ -3,7 +3,6 @@ package experiments
 import (
 	"bytes"
 	"math"
-	"slices"
 	"strconv"
 	"strings"
 
@@ -112,12 +111,7 @@ func (c *checker) flowSize(g *flowGenYAML) (sim.SizeDist, error) {
 	if !s.Set {
 		return sim.SizeDist{}, c.errf(g.Pos, "traffic.flows.size: required: {dist: pareto, shape, mean_bytes}, {dist: lognormal, mu, sigma}, {dist: mix, classes: [{fraction, bytes}, ...]}, {dist: cdf, file} or {dist: fixed, bytes}")
 	}
-	type field struct {
-		name string
-		set  bool
-		pos  yamlx.Pos
-	}
-	all := []field{
+	all := []distField{
 		{"bytes", s.Bytes.Set, s.Bytes.Pos},
 		{"mean_bytes", s.MeanBytes.Set, s.MeanBytes.Pos},
 		{"shape", s.Shape.Set, s.Shape.Pos},
@@ -143,14 +137,8 @@ func (c *checker) flowSize(g *flowGenYAML) (sim.SizeDist, error) {
 	default:
 		return sim.SizeDist{}, c.errf(s.Dist.Pos, "traffic.flows.size.dist: unknown distribution %q (known: fixed, pareto, lognormal, mix, cdf)", s.Dist.S)
 	}
-	for _, f := range all {
-		ok := slices.Contains(want, f.name)
-		if f.set && !ok {
-			return sim.SizeDist{}, c.errf(f.pos, "traffic.flows.size.%s: not a field of dist %s (fields: %s)", f.name, s.Dist.S, strings.Join(want, ", "))
-		}
-		if !f.set && ok {
-			return sim.SizeDist{}, c.errf(s.Pos, "traffic.flows.size.%s: required for dist %s", f.name, s.Dist.S)
-		}
+	if err := c.distFields("traffic.flows.size", s.Dist.S, s.Pos, all, want); err != nil {
+		return sim.SizeDist{}, err
 	}
 	finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 	switch s.Dist.S {

@@ -154,12 +154,7 @@ func (c *checker) size(e *Experiment) error {
 		*d = sim.SizeDist{Kind: sim.Fixed, Bytes: DefaultPacketBytes}
 		return nil
 	}
-	type field struct {
-		name string
-		set  bool
-		pos  yamlx.Pos
-	}
-	all := []field{
+	all := []distField{
 		{"bytes", s.Bytes.Set, s.Bytes.Pos},
 		{"mean_bytes", s.MeanBytes.Set, s.MeanBytes.Pos},
 		{"small_bytes", s.SmallBytes.Set, s.SmallBytes.Pos},
@@ -179,14 +174,8 @@ func (c *checker) size(e *Experiment) error {
 	default:
 		return c.errf(s.Dist.Pos, "traffic.packet_size.dist: unknown distribution %q (known: fixed, exponential, bimodal)", s.Dist.S)
 	}
-	for _, f := range all {
-		ok := slices.Contains(want, f.name)
-		if f.set && !ok {
-			return c.errf(f.pos, "traffic.packet_size.%s: not a field of dist %s (fields: %s)", f.name, s.Dist.S, strings.Join(want, ", "))
-		}
-		if !f.set && ok {
-			return c.errf(s.Pos, "traffic.packet_size.%s: required for dist %s", f.name, s.Dist.S)
-		}
+	if err := c.distFields("traffic.packet_size", s.Dist.S, s.Pos, all, want); err != nil {
+		return err
 	}
 	posInt := func(name string, v yamlx.Int) error {
 		if v.V < 1 {
@@ -224,6 +213,30 @@ func (c *checker) size(e *Experiment) error {
 		case "none":
 		default:
 			return c.errf(s.Redraw.Pos, "traffic.packet_size.redraw: %q is not per-hop or none", s.Redraw.S)
+		}
+	}
+	return nil
+}
+
+// distField is one field of a size-distribution mapping: whether it was
+// given, and where.
+type distField struct {
+	name string
+	set  bool
+	pos  yamlx.Pos
+}
+
+// distFields checks that of the fields all, exactly those in want (the
+// fields of distribution dist) are given; prefix names the mapping in
+// messages and at is where it starts.
+func (c *checker) distFields(prefix, dist string, at yamlx.Pos, all []distField, want []string) error {
+	for _, f := range all {
+		ok := slices.Contains(want, f.name)
+		if f.set && !ok {
+			return c.errf(f.pos, "%s.%s: not a field of dist %s (fields: %s)", prefix, f.name, dist, strings.Join(want, ", "))
+		}
+		if !f.set && ok {
+			return c.errf(at, "%s.%s: required for dist %s", prefix, f.name, dist)
 		}
 	}
 	return nil
