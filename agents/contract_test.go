@@ -20,7 +20,7 @@ var contract = map[string][]func(p *agents.Params){
 		p.Objective.Name, p.Split, p.MaxShift = agents.ObjectiveMinDelay, agents.SplitPacket, 1
 	}},
 	agents.QRoutingKind: qRoutingCases(),
-	agents.QNetworkKind: {nil, func(p *agents.Params) {
+	agents.QNetworkKind: {nil, func(p *agents.Params) { p.InstallEvery = 500 * sim.Millisecond }, func(p *agents.Params) {
 		p.Explore = 0.02
 		p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
 	}},
