@@ -303,6 +303,19 @@ func splitTables(dir string) (map[string]*RunTables, error) {
 		}
 		t.Recoveries = append(t.Recoveries, r)
 	}
+	if _, err := os.Stat(filepath.Join(dir, OptimumFile)); err == nil {
+		rows, err := ReadOptimum(filepath.Join(dir, OptimumFile))
+		if err != nil {
+			return nil, err
+		}
+		byCell := map[optimumCell][]OptimumRow{}
+		for _, r := range rows {
+			byCell[r.cell()] = append(byCell[r.cell()], r)
+		}
+		for _, t := range out {
+			t.Optimum = byCell[optimumCellOf(t.Run.Dims)]
+		}
+	}
 	if _, err := os.Stat(filepath.Join(dir, FlowsFile)); err == nil {
 		flows, err := ReadFlows(filepath.Join(dir, FlowsFile))
 		if err != nil {
@@ -321,13 +334,15 @@ func splitTables(dir string) (map[string]*RunTables, error) {
 
 // SameRun reports whether a and b hold the same rows, wall_s aside (the
 // one column that differs between two executions of the same run). Empty and
-// nil row lists are the same.
+// nil row lists are the same. The cell's optimum rows are compared when both
+// carry them (a run from a folder without optimum.parquet carries none).
 func SameRun(a, b *RunTables) bool {
 	ra, rb := a.Run, b.Run
 	ra.WallS, rb.WallS = 0, 0
 	return reflect.DeepEqual(ra, rb) &&
 		sameRows(a.Series, b.Series) && sameRows(a.Links, b.Links) && sameRows(a.Recoveries, b.Recoveries) &&
-		sameRows(a.Flows, b.Flows)
+		sameRows(a.Flows, b.Flows) &&
+		(len(a.Optimum) == 0 || len(b.Optimum) == 0 || sameRows(a.Optimum, b.Optimum))
 }
 
 func sameRows[T any](a, b []T) bool {

@@ -1,8 +1,9 @@
 package results
 
 // OptimumFile is the table of the model optimum per cell and topology
-// state, written beside the five tables of a result folder by a sweep that
-// computes the optimum (package sweep).
+// state, written beside the five tables of a result folder when the runs
+// carry the optimum (RunTables.Optimum, filled by a sweep that computes it:
+// package sweep); a merge writes it from the runs it merges.
 const OptimumFile = "optimum.parquet"
 
 // TableOptimum is optimum.parquet's KeyTable value.
@@ -40,4 +41,19 @@ type OptimumRow struct {
 // ReadOptimum reads optimum.parquet.
 func ReadOptimum(path string) ([]OptimumRow, error) {
 	return readTable[OptimumRow](path, TableOptimum)
+}
+
+// optimumCell identifies the cell of an optimum.parquet row: a run's cell
+// without its agent.
+type optimumCell struct {
+	experiment, topology, failure string
+	load                          float64
+}
+
+func optimumCellOf(d Dims) optimumCell {
+	return optimumCell{d.Experiment, d.Topology, d.Failure, d.Load}
+}
+
+func (r *OptimumRow) cell() optimumCell {
+	return optimumCell{r.Experiment, r.Topology, r.Failure, r.Load}
 }

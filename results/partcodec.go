@@ -14,7 +14,8 @@ import (
 //
 //	magic "hoplore-part\n", format version (1 byte)
 //	five sections: dims (1 row), runs (1 row), series, links, recoveries
-//	a sixth, flows, only when the run has flow rows
+//	a sixth, flows, when the run has flow rows or optimum rows (then
+//	possibly empty), and a seventh, the cell's optimum rows, when it has some
 //	CRC-32C of everything before it (4 bytes, little endian)
 //
 // A section is self-describing: uvarint field count, then per field its
@@ -90,11 +91,12 @@ var (
 	planLinks    = planOf(reflect.TypeFor[LinkRow]())
 	planRecovery = planOf(reflect.TypeFor[RecoveryRow]())
 	planFlows    = planOf(reflect.TypeFor[FlowRow]())
+	planOptimum  = planOf(reflect.TypeFor[OptimumRow]())
 )
 
 // encodePart encodes t; every row must carry t.Run.Dims.
 func encodePart(t *RunTables) []byte {
-	b := make([]byte, 0, 256+64*(len(t.Series)+len(t.Links)+len(t.Recoveries)+len(t.Flows)))
+	b := make([]byte, 0, 256+64*(len(t.Series)+len(t.Links)+len(t.Recoveries)+len(t.Flows)+2*len(t.Optimum)))
 	b = append(b, partMagic...)
 	b = append(b, partVersion)
 	d := t.Run.Dims
@@ -104,8 +106,11 @@ func encodePart(t *RunTables) []byte {
 	b = planSeries.encode(b, reflect.ValueOf(t.Series), len(t.Series), true)
 	b = planLinks.encode(b, reflect.ValueOf(t.Links), len(t.Links), true)
 	b = planRecovery.encode(b, reflect.ValueOf(t.Recoveries), len(t.Recoveries), true)
-	if len(t.Flows) > 0 {
+	if len(t.Flows) > 0 || len(t.Optimum) > 0 {
 		b = planFlows.encode(b, reflect.ValueOf(t.Flows), len(t.Flows), true)
+	}
+	if len(t.Optimum) > 0 {
+		b = planOptimum.encode(b, reflect.ValueOf(t.Optimum), len(t.Optimum), true)
 	}
 	return binary.LittleEndian.AppendUint32(b, crc32.Checksum(b, crcTable))
 }
@@ -341,6 +346,15 @@ func decodePart(b []byte) (*RunTables, error) {
 		}, func(i int) reflect.Value {
 			t.Flows[i].Dims = d
 			return reflect.ValueOf(&t.Flows[i]).Elem()
+		})
+	}
+	if r.err == nil && len(r.b) != 0 {
+		r.section(planOptimum, func(n int) {
+			if n > 0 {
+				t.Optimum = make([]OptimumRow, n)
+			}
+		}, func(i int) reflect.Value {
+			return reflect.ValueOf(&t.Optimum[i]).Elem()
 		})
 	}
 	if r.err == nil && len(r.b) != 0 {

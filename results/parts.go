@@ -143,9 +143,11 @@ func ReadPart(dir, id string) (*RunTables, error) {
 }
 
 // Finalize assembles the parts in DIR into runs.parquet, series.parquet,
-// links.parquet, recoveries.parquet, summary.parquet and, when some run has
-// flow rows, flows.parquet, each carrying meta
-// as key-value metadata. Rows follow order (run ids); every listed run must
+// links.parquet, recoveries.parquet, summary.parquet, when some run has
+// flow rows flows.parquet, and when some run carries its cell's optimum
+// rows (and extras hold no optimum table) optimum.parquet, each cell's rows
+// once from its first run in order; each carries meta as key-value
+// metadata, and extras are written in the same set. Rows follow order (run ids); every listed run must
 // have a part and other parts are left out. With a nil order, every part is
 // taken, ordered by run_index then run_id. The output depends only on the
 // parts' content and the order, never on the order in which parts were
@@ -200,12 +202,20 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 		fw       *tableWriter[FlowRow]
 	)
 	runs := make([]RunRow, len(order))
+	var opt []OptimumRow // each cell's optimum rows, from its first run
+	optCells := map[optimumCell]bool{}
 	for i, id := range order {
 		t, err := ReadPart(dir, id)
 		if err != nil {
 			return fail(err)
 		}
 		runs[i] = t.Run
+		if len(t.Optimum) > 0 {
+			if c := optimumCellOf(t.Run.Dims); !optCells[c] {
+				optCells[c] = true
+				opt = append(opt, t.Optimum...)
+			}
+		}
 		if len(t.Flows) > 0 && fw == nil {
 			if flowFile, err = create(FlowsFile); err != nil {
 				return fail(err)
@@ -257,6 +267,11 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 	if err := writeSummary(sf, Summarize(runs), meta.kv(tableSummary)); err != nil {
 		return fail(fmt.Errorf("results: writing %s: %w", sf.Path(), err))
 	}
+	hasOpt := slices.ContainsFunc(extras, func(x Extra) bool { return x.File == OptimumFile })
+	if len(opt) > 0 && !hasOpt {
+		extras = append(slices.Clone(extras), ExtraTable(OptimumFile, TableOptimum, opt))
+		hasOpt = true
+	}
 	for _, x := range extras {
 		xf, err := create(x.File)
 		if err != nil {
@@ -272,9 +287,15 @@ func Finalize(dir string, order []string, meta Meta, extras ...Extra) error {
 	}); err != nil {
 		return err
 	}
-	if fw == nil {
-		// a flows table of an earlier set is not of this one
-		if err := os.Remove(filepath.Join(dir, FlowsFile)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+	// a flows or optimum table of an earlier set is not of this one
+	for _, stale := range []struct {
+		file    string
+		written bool
+	}{{FlowsFile, fw != nil}, {OptimumFile, hasOpt}} {
+		if stale.written {
+			continue
+		}
+		if err := os.Remove(filepath.Join(dir, stale.file)); err != nil && !errors.Is(err, fs.ErrNotExist) {
 			return fmt.Errorf("results: %w", err)
 		}
 	}

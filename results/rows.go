@@ -239,6 +239,11 @@ type RunTables struct {
 	Links      []LinkRow
 	Recoveries []RecoveryRow
 	Flows      []FlowRow
+	// Optimum holds the rows of optimum.parquet for the run's cell (the
+	// same in every run of the cell; empty when the optimum is not
+	// computed): parts carry them so that Finalize, and so a merge of
+	// shards, writes optimum.parquet without the experiment.
+	Optimum []OptimumRow
 	// State, for a learning run, is its final state: WritePart stores it
 	// under DIR/state before the part (it is not part of the part).
 	State *LearnedState

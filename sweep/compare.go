@@ -15,7 +15,7 @@ import (
 )
 
 // Tables are the files of a finished results folder that CompareDirs checks:
-// every table of the results schema (results.Tables).
+// every table of the results schema (results.Tables) and optimum.parquet.
 var Tables = tableFiles()
 
 func tableFiles() []string {
@@ -23,7 +23,7 @@ func tableFiles() []string {
 	for _, t := range results.Tables {
 		out = append(out, t.File)
 	}
-	return out
+	return append(out, results.OptimumFile)
 }
 
 // Masked are the columns that legitimately differ between two executions of

@@ -32,8 +32,23 @@ func (c cellOptimum) fill(row *results.RunRow) {
 // replicate or the failure schedule. Runs of a cell that start while it is
 // being computed wait for it. Safe for concurrent use.
 type optima struct {
-	mu sync.Mutex
-	m  map[optKey]*optEntry
+	mu    sync.Mutex
+	m     map[optKey]*optEntry
+	cells map[cellKey]*rowsEntry
+}
+
+// cellKey identifies a cell of optimum.parquet: a topology, a load and a
+// failure schedule.
+type cellKey struct {
+	topo    *experiments.Topology
+	load    float64
+	failure string
+}
+
+type rowsEntry struct {
+	once sync.Once
+	rows []results.OptimumRow
+	err  error
 }
 
 type optKey struct {
@@ -65,6 +80,27 @@ func (o *optima) of(r *experiments.Run) (cellOptimum, error) {
 	o.mu.Unlock()
 	e.once.Do(func() { e.v, e.err = computeOptimum(r) })
 	return e.v, e.err
+}
+
+// rows returns the rows of optimum.parquet for run r's cell (cellRows),
+// computed once per cell; o may be nil (computed afresh).
+func (o *optima) rows(r *experiments.Run) ([]results.OptimumRow, error) {
+	if o == nil {
+		return cellRows(r, o)
+	}
+	k := cellKey{r.Topology, r.Dims.Load, r.Dims.Failure}
+	o.mu.Lock()
+	if o.cells == nil {
+		o.cells = make(map[cellKey]*rowsEntry)
+	}
+	e, ok := o.cells[k]
+	if !ok {
+		e = &rowsEntry{}
+		o.cells[k] = e
+	}
+	o.mu.Unlock()
+	e.once.Do(func() { e.rows, e.err = cellRows(r, o) })
+	return e.rows, e.err
 }
 
 // computeOptimum solves the least maximum utilisation and the least mean
@@ -127,20 +163,12 @@ func solveState(r *experiments.Run, demand [][]float64, down func(c int) bool) (
 	return c, unroutable, nil
 }
 
-// optimumRows returns the rows of optimum.parquet for experiment e: for
-// every topology, load and failure schedule, the intact topology from time
-// 0 (the opt_* values of runs.parquet, from o's cache) and then one row per
-// change of what is down under the schedule's scheduled events, solved once
-// per distinct state. A schedule with random failures differs from one
-// replicate to the next and gets the intact row only.
+// optimumRows returns the rows of optimum.parquet for experiment e, cell
+// by cell in run order (cellRows), from o's cache. Empty when e turns the
+// optimum off.
 func optimumRows(e *experiments.Experiment, o *optima) ([]results.OptimumRow, error) {
 	if !e.Optimum.Compute {
 		return nil, nil
-	}
-	type cellKey struct {
-		topo    *experiments.Topology
-		load    float64
-		failure string
 	}
 	seen := map[cellKey]bool{}
 	var rows []results.OptimumRow
@@ -150,33 +178,47 @@ func optimumRows(e *experiments.Experiment, o *optima) ([]results.OptimumRow, er
 			continue
 		}
 		seen[k] = true
-		if !wantOptimum(r) {
-			continue
-		}
-		intact, err := o.of(r)
+		cr, err := o.rows(r)
 		if err != nil {
 			return nil, err
 		}
-		base := results.OptimumRow{Experiment: r.Dims.Experiment, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure}
-		end := e.Duration.Seconds()
-		var evs []sim.FailureEvent
-		if r.Failure.Random == nil {
-			evs = r.Failures().Events
-		}
-		row := base
-		row.TEndS = end
-		intact.fillState(&row)
-		rows = append(rows, row)
-		states, err := stateRows(r, base, evs, end)
-		if err != nil {
-			return nil, err
-		}
-		if len(states) > 0 {
-			rows[len(rows)-1].TEndS = states[0].TStartS
-		}
-		rows = append(rows, states...)
+		rows = append(rows, cr...)
 	}
 	return rows, nil
+}
+
+// cellRows returns the rows of optimum.parquet for run r's cell (topology,
+// load, failure schedule): the intact topology from time 0 (the opt_*
+// values of runs.parquet, from o's cache) and then one row per change of
+// what is down under the schedule's scheduled events, solved once per
+// distinct state. A schedule with random failures differs from one
+// replicate to the next and gets the intact row only. None when the
+// optimum is not computed for r (wantOptimum).
+func cellRows(r *experiments.Run, o *optima) ([]results.OptimumRow, error) {
+	if !wantOptimum(r) {
+		return nil, nil
+	}
+	intact, err := o.of(r)
+	if err != nil {
+		return nil, err
+	}
+	base := results.OptimumRow{Experiment: r.Dims.Experiment, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure}
+	end := r.Exp.Duration.Seconds()
+	var evs []sim.FailureEvent
+	if r.Failure.Random == nil {
+		evs = r.Failures().Events
+	}
+	row := base
+	row.TEndS = end
+	intact.fillState(&row)
+	states, err := stateRows(r, base, evs, end)
+	if err != nil {
+		return nil, err
+	}
+	if len(states) > 0 {
+		row.TEndS = states[0].TStartS
+	}
+	return append([]results.OptimumRow{row}, states...), nil
 }
 
 // fillState copies the values into an optimum.parquet row.

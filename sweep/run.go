@@ -13,8 +13,9 @@ import (
 // ExecuteRun builds run r's configuration, runs it and returns its result
 // tables, with the wall-clock time it took and version in them. It stops
 // soon after ctx is done, returning ctx's error (wrapped). The model
-// optimum of the run's cell (the opt_* columns) is computed for this run
-// alone; a sweep computes it once per cell.
+// optimum of the run's cell (the opt_* columns, and the cell's rows of
+// optimum.parquet in RunTables.Optimum) is computed for this run alone; a
+// sweep computes it once per cell.
 func ExecuteRun(ctx context.Context, r *experiments.Run, version string) (*results.RunTables, error) {
 	return executeRun(ctx, r, version, nil)
 }
@@ -41,6 +42,9 @@ func executeRun(ctx context.Context, r *experiments.Run, version string, opt *op
 		return nil, err
 	}
 	o.fill(&t.Run)
+	if t.Optimum, err = opt.rows(r); err != nil {
+		return nil, err
+	}
 	t.State = learnedState(r, cfg.Net, cfg.Agent)
 	return t, nil
 }

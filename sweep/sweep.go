@@ -65,8 +65,11 @@ type Outcome struct {
 // tables are finalized in e's run order and their summary is returned, and
 // (unless e turns the optimum off) optimum.parquet is written: the model
 // optimum per cell and topology state (optimumRows). A sweep computes each
-// cell's optimum once for its runs; the parts keep the runs' opt_* values,
-// and finishing a resumed sweep solves the cells' states again.
+// cell's optimum once for its runs; the parts keep the runs' opt_* values
+// and their cell's rows of optimum.parquet, so that a merge of shards
+// writes it too (results.Finalize), while finishing a sweep here takes the
+// rows from the experiment (solving again only cells whose runs ran in an
+// earlier process).
 //
 // Errors: an Out holding another experiment is reported as results.CheckDir
 // reports it (wrapping results.ErrOtherExperiment); a cancelled ctx returns

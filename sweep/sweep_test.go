@@ -122,6 +122,13 @@ func TestShardsMergeToLocalSweep(t *testing.T) {
 	if err := CompareDirs(ref, out); err != nil {
 		t.Errorf("merged shards against a local sweep: %v", err)
 	}
+	// the optimum per cell and topology state comes with the merge, from
+	// the shards' parts (CompareDirs compares it when both folders have it)
+	for _, d := range []string{ref, out} {
+		if rows, err := results.ReadOptimum(filepath.Join(d, results.OptimumFile)); err != nil || len(rows) != 8 {
+			t.Errorf("%s: %d optimum rows, %v; want 8 (one per cell without the agent)", d, len(rows), err)
+		}
+	}
 }
 
 func TestResumeAfterPartialSweep(t *testing.T) {

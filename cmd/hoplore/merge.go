@@ -21,7 +21,8 @@ func newMergeCmd(d *deps) *cobra.Command {
 		Long: `Merge the runs of result folders of one experiment (the shards of a sharded
 sweep, or pieces of a sweep resumed elsewhere) into OUT, which may already
 hold runs of the same experiment, and write OUT's tables in the grid's run
-order, then print the per-cell summary. Folders of different experiments
+order (optimum.parquet included, from the rows each run carries), then
+print the per-cell summary. Folders of different experiments
 are refused (exit status 2) and nothing is written.`,
 		Example: `  hoplore merge results/sweep results/sweep/shards/0 results/sweep/shards/1`,
 		Args:    cobra.MinimumNArgs(2),
