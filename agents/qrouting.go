@@ -577,6 +577,9 @@ func (r *qrNode) Route(p *sim.Packet) int {
 			}
 		}
 		r.pref.saw(r.v, d, best)
+		if r.fq != nil && best >= 0 && r.net.Channels[r.out[best]].To == p.Prev {
+			best = r.detour(d, best, p.Prev)
+		}
 	}
 	if best < 0 {
 		return sim.NoRoute
@@ -590,6 +593,29 @@ func (r *qrNode) Route(p *sim.Packet) int {
 		}
 	}
 	return r.out[best]
+}
+
+// detour returns, with install_every, the channel for a packet whose
+// snapshot choice best leads straight back to node prev, where it came
+// from: the best of the other usable channels on the snapshot, best itself
+// if there is none. A detour is per packet, not a route change. Without it
+// a failure makes packets bounce: the node next to the failed link decides
+// around it and sends them back to a neighbour whose snapshot still points
+// at it, until that neighbour's next install (as QNetwork).
+func (r *qrNode) detour(d, best, prev int) int {
+	alt, altV, now := -1, 0.0, r.v.Now()
+	for k, c := range r.out {
+		if !r.v.Up(c) || r.net.Channels[c].To == prev {
+			continue
+		}
+		if val := r.estimate(d*r.deg+k, now); alt < 0 || r.less(val, altV, r.tieDelay(d, k), r.tieDelay(d, alt)) {
+			alt, altV = k, val
+		}
+	}
+	if alt < 0 {
+		return best
+	}
+	return alt
 }
 
 // utilBand is the width of the utilisation classes that objective
