@@ -99,6 +99,12 @@ func (w *benchRouter) Receive(m *sim.Message, in int) {
 	}
 }
 
+func (w *benchRouter) Dropped(p *sim.Packet, out int, reason sim.DropReason) {
+	if a, ok := w.r.(sim.Dropper); ok {
+		a.Dropped(p, out, reason)
+	}
+}
+
 func (w *benchRouter) Detected(out int, up bool) {
 	if a, ok := w.r.(sim.Detector); ok {
 		a.Detected(out, up)

@@ -276,6 +276,12 @@ func (w *routerWrap) Receive(m *sim.Message, in int) {
 	}
 }
 
+func (w *routerWrap) Dropped(p *sim.Packet, out int, reason sim.DropReason) {
+	if a, ok := w.r.(sim.Dropper); ok {
+		a.Dropped(p, out, reason)
+	}
+}
+
 func (w *routerWrap) Detected(out int, up bool) {
 	if a, ok := w.r.(sim.Detector); ok {
 		a.Detected(out, up)
