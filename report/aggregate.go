@@ -468,31 +468,32 @@ type GlanceRow struct {
 	// Diff is Best − Second on delivery_mean_s, its p-values adjusted
 	// (Holm) across the rows of the table.
 	Diff Comparison
-	// Optimum is the model optimum of the panel's topology and load
-	// (NaN fields when the runs carry none).
+	// Optimum is the model optimum of the panel's topology and load on the
+	// intact topology (NaN fields when the runs carry none).
 	Optimum Optimum
+	// Ref is what the agents are measured against: the optimum of each
+	// topology state of the panel's failure schedule over the measured
+	// window (Reference); without failures, the intact optimum.
+	Ref Reference
 }
 
-// DelayRatio returns an agent's mean delivery time over the optimum's:
-// how many times slower than the best splittable routing in the model;
-// NaN when either is unknown.
+// DelayRatio returns an agent's mean delivery time over the reference's:
+// how many times slower than the best splittable routing of each topology
+// state in the model; NaN when either is unknown.
 func (g *GlanceRow) DelayRatio(mean float64) float64 {
-	if !(g.Optimum.DelayMean > 0) {
+	if !(g.Ref.DelayMean > 0) {
 		return math.NaN()
 	}
-	return mean / g.Optimum.DelayMean
+	return mean / g.Ref.DelayMean
 }
 
-// ExtraLoss returns an agent's loss rate above the optimum's: without
-// failures and below the load limit the model optimum loses nothing, so the
-// whole loss rate is routing's doing. At or above the limit the optimum's
-// own loss is not computed, and under a failure schedule a cut can force
-// loss below it: the result is then NaN.
+// ExtraLoss returns an agent's loss rate above the reference's: the loss
+// no routing could avoid is the demand a failure leaves with no path (none
+// without failures); below the load limit of every state the optimum loses
+// nothing else, so the rest is routing's doing. Beyond the limit of a
+// state the optimum's own loss is not computed: the result is then NaN.
 func (g *GlanceRow) ExtraLoss(loss float64) float64 {
-	if g.Failure != "none" || !(g.Load < g.Optimum.LoadLimit) {
-		return math.NaN()
-	}
-	return loss
+	return loss - g.Ref.Loss
 }
 
 // Glance returns a GlanceRow for every panel in which at least two agents
@@ -507,6 +508,7 @@ func Glance(d *Data) []GlanceRow {
 		p := Panel{r.Topology, r.Load, r.Failure}
 		byPanel[p] = append(byPanel[p], r)
 	}
+	states := optimumStates(d)
 	opt := map[Panel]Optimum{}
 	for _, o := range Optima(d) {
 		for _, f := range d.Failures() {
@@ -532,6 +534,7 @@ func Glance(d *Data) []GlanceRow {
 		if o, ok := opt[row.Panel]; ok {
 			g.Optimum = o
 		}
+		g.Ref = reference(row.Panel, byPanel[row.Panel], states[row.Panel], g.Optimum)
 		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
 		cs, err := Compare(sub, g.Best, g.Second, "delivery_mean_s")
 		if err != nil {

@@ -153,6 +153,8 @@ type Data struct {
 	Series     []Bin
 	Channels   []Channel
 	Recoveries []Recovery
+	// OptimumStates holds optimum.parquet (empty when absent).
+	OptimumStates []OptimumState
 }
 
 var dimCols = []string{"topology", "agent", "load", "failure", "replicate"}
@@ -261,6 +263,22 @@ func Load(dir string) (*Data, error) {
 				Lost: vt.i("lost_packets", i), Recovery: vt.f("recovery_s", i),
 				LostReachable: vt.f("lost_reachable", i), Reconnect: vt.f("reconnect_s", i),
 				Settle: vt.f("settle_s", i), DelayRatio: vt.f("delay_ratio", i),
+			})
+		}
+	}
+	ot, err := readResult(dir, results.Optimum,
+		[]string{"topology", "load", "failure", "state", "t_start_s", "t_end_s"},
+		[]string{"down", "unroutable_share", "unsent_share", "states", "opt_delay_mean_s", "opt_load_limit"})
+	if err != nil && !errors.Is(err, errNoFile) {
+		return nil, err
+	}
+	if err == nil {
+		for i := range ot.rows {
+			d.OptimumStates = append(d.OptimumStates, OptimumState{
+				Topology: ot.s("topology", i), Load: ot.f("load", i), Failure: ot.s("failure", i),
+				State: int(ot.i("state", i)), Start: ot.f("t_start_s", i), End: ot.f("t_end_s", i),
+				Down: ot.s("down", i), Unroutable: nanZero(ot.f("unroutable_share", i)), Unsent: nanZero(ot.f("unsent_share", i)),
+				States: ot.s("states", i), DelayMean: ot.f("opt_delay_mean_s", i), LoadLimit: ot.f("opt_load_limit", i),
 			})
 		}
 	}

@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"math"
 	"slices"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -201,4 +202,214 @@ func addNote(p *plot.Plot, th theme, x, y float64, s string, align draw.XAlignme
 	lb.TextStyle = []text.Style{ts}
 	lb.Offset = vg.Point{X: dx, Y: vg.Points(2)}
 	p.Add(lb)
+}
+
+// OptimumState is one row of optimum.parquet: the model optimum of one
+// panel's offered matrix in one topology state of its failure schedule,
+// over [Start, End). Null values are NaN.
+type OptimumState struct {
+	Topology string
+	Load     float64
+	Failure  string
+	State    int
+	Start    float64 // s
+	End      float64 // s
+	Down     string  // elements down, comma separated; "" intact
+	// Unroutable is the share of the offered demand no routing could
+	// deliver in the state; Unsent the part of it whose source is down (a
+	// down node sends nothing: neither carried nor lost).
+	Unroutable, Unsent float64
+	DelayMean          float64 // s
+	LoadLimit          float64
+	// States is "all" when the panel's rows cover every state of its
+	// schedule, "intact" when random failures left only the intact state
+	// solved; "" in tables that predate the column (read as "all").
+	States string
+}
+
+// Reference is the model optimum an agent of one panel is measured against
+// in the at-a-glance table: the routing that is optimal in each topology
+// state of the panel's failure schedule, re-solved the instant the state
+// changes, over the runs' measured window [warm-up, duration).
+//
+// An agent's mean delivery time averages over its delivered measured
+// packets, and sources emit at constant rates, so the packets the optimum
+// delivers in state s are proportional to τ_s·(1 − u_s), τ_s being the
+// state's time in the window and u_s its unroutable share. The reference
+// delivery time is that packet-weighted mean of the states' optima,
+//
+//	D = Σ τ_s (1 − u_s) D_s / Σ τ_s (1 − u_s),
+//
+// and the optimum's loss is the demand no routing can deliver over the
+// demand sent (a down node sends nothing: its share z_s counts in neither),
+//
+//	L = Σ τ_s (u_s − z_s) / Σ τ_s (1 − z_s).
+//
+// A time-weighted mean of D_s would count a state in which a down node's
+// demand is neither sent nor delivered as if all of it were. Neither is
+// known when some state in the window carrying traffic has no finite
+// optimum (beyond its load limit: no routing keeps the channels stable, and
+// the optimum's own loss is not computed), or when the states were not
+// solved (random failures, which differ from one replicate to the next).
+// Packets in flight across a change, and the agents' reaction time, are
+// charged to the agent: the reference reacts at once.
+type Reference struct {
+	DelayMean float64 // s; NaN when unknown
+	Loss      float64 // NaN when unknown
+	// Window lists the distinct topology states in the measured window
+	// with their share of it, in order of first appearance.
+	Window []WindowShare
+	// Why says, when DelayMean is NaN, why ("" when known).
+	Why string
+}
+
+// WindowShare is a topology state's share of the measured window.
+type WindowShare struct {
+	Down  string // "" intact
+	Share float64
+}
+
+// String describes the states of the window: "intact", or e.g.
+// "intact 75%, c–d down 25%".
+func (r Reference) String() string {
+	if len(r.Window) == 1 && r.Window[0].Down == "" {
+		return "intact"
+	}
+	var parts []string
+	for _, w := range r.Window {
+		name := "intact"
+		if w.Down != "" {
+			name = w.Down + " down"
+		}
+		if len(r.Window) == 1 {
+			parts = append(parts, name)
+			continue
+		}
+		parts = append(parts, name+" "+stats.Sig(100*w.Share, 3)+"%")
+	}
+	return strings.Join(parts, ", ")
+}
+
+// optimumStates returns d's optimum.parquet rows by panel, each panel's in
+// state order.
+func optimumStates(d *Data) map[Panel][]OptimumState {
+	out := map[Panel][]OptimumState{}
+	for _, s := range d.OptimumStates {
+		p := Panel{s.Topology, s.Load, s.Failure}
+		out[p] = append(out[p], s)
+	}
+	for _, ss := range out {
+		slices.SortStableFunc(ss, func(a, b OptimumState) int { return cmp.Compare(a.State, b.State) })
+	}
+	return out
+}
+
+// measuredWindow returns the measured window [warm-up, duration) of runs
+// (the same in every run of a panel); a bound the runs lack is 0 for the
+// warm-up and +Inf for the duration.
+func measuredWindow(runs []Run) (lo, hi float64) {
+	lo, hi = math.NaN(), math.NaN()
+	kw, kd := results.Runs.Index("warmup_s"), results.Runs.Index("duration_s")
+	for i := range runs {
+		if v := runs[i].at(kw); math.IsNaN(lo) && !math.IsNaN(v) {
+			lo = v
+		}
+		if v := runs[i].at(kd); math.IsNaN(hi) && !math.IsNaN(v) {
+			hi = v
+		}
+	}
+	if math.IsNaN(lo) {
+		lo = 0
+	}
+	if math.IsNaN(hi) {
+		hi = math.Inf(1)
+	}
+	return lo, hi
+}
+
+// reference computes the Reference of panel p whose runs are runs, from
+// its optimum.parquet rows states (state order) or, without them, from the
+// intact optimum of its runs' opt_* columns when p has no failures.
+func reference(p Panel, runs []Run, states []OptimumState, intact Optimum) Reference {
+	ref := Reference{DelayMean: math.NaN(), Loss: math.NaN()}
+	if len(states) == 0 {
+		if p.Failure != "none" {
+			ref.Why = "no per-state optimum (optimum.parquet)"
+			return ref
+		}
+		if math.IsNaN(intact.DelayMean) && math.IsNaN(intact.LoadLimit) {
+			ref.Why = "not computed"
+			return ref
+		}
+	}
+	if len(states) > 0 && p.Failure != "none" && states[0].States == results.StatesIntact {
+		ref.Why = "random failures: states not solved"
+		return ref
+	}
+	lo, hi := measuredWindow(runs)
+	if len(states) == 0 {
+		// without failures the intact state is the only one
+		states = []OptimumState{{Start: lo, End: hi, DelayMean: intact.DelayMean, LoadLimit: intact.LoadLimit}}
+	}
+	if math.IsInf(hi, 1) { // runs without duration_s: to the last state's end
+		hi = states[len(states)-1].End
+	}
+	if math.IsInf(hi, 1) {
+		hi = lo + 1
+		states[0].End = hi
+	}
+	var tau, wDelay, sDelay, wLost, wSent float64
+	known := true
+	for _, s := range states {
+		t := math.Min(s.End, hi) - math.Max(s.Start, lo)
+		if !(t > 0) {
+			continue
+		}
+		tau += t
+		if i := slices.IndexFunc(ref.Window, func(w WindowShare) bool { return w.Down == s.Down }); i >= 0 {
+			ref.Window[i].Share += t
+		} else {
+			ref.Window = append(ref.Window, WindowShare{Down: s.Down, Share: t})
+		}
+		routable := 1 - s.Unroutable
+		wLost += t * (s.Unroutable - s.Unsent)
+		wSent += t * (1 - s.Unsent)
+		if routable <= 0 {
+			continue // nothing to carry in this state
+		}
+		if math.IsNaN(s.DelayMean) {
+			if known {
+				ref.Why = "not computed"
+				if !math.IsNaN(s.LoadLimit) && p.Load >= s.LoadLimit {
+					ref.Why = "over the load limit (" + stats.Sig(s.LoadLimit, 3) + ")"
+					if s.Down != "" {
+						ref.Why = "over the load limit with " + s.Down + " down (" + stats.Sig(s.LoadLimit, 3) + ")"
+					}
+				}
+			}
+			known = false
+			continue
+		}
+		wDelay += t * routable
+		sDelay += t * routable * s.DelayMean
+	}
+	for i := range ref.Window {
+		ref.Window[i].Share /= tau
+	}
+	if !known {
+		return ref
+	}
+	if tau == 0 {
+		ref.Why = "no state in the measured window"
+		return ref
+	}
+	if wDelay > 0 {
+		ref.DelayMean = sDelay / wDelay
+	} else {
+		ref.Why = "nothing routable"
+	}
+	if wSent > 0 {
+		ref.Loss = wLost / wSent
+	}
+	return ref
 }

@@ -400,7 +400,8 @@ func (r *Report) HTML(w io.Writer) error {
 		Diff, CI, PT, PTHolm, PW       string
 		Rel, Verdict                   string
 		Clear                          bool
-		Opt, BestRatio, SecondRatio    string
+		Opt, OptOver, OptLoss          string
+		BestRatio, SecondRatio         string
 		BestExtra, SecondExtra         string
 	}
 	d := r.Data
@@ -417,8 +418,12 @@ func (r *Report) HTML(w io.Writer) error {
 			Second: g.Second, SecondMean: g.SecondMean.Format(scale), SecondLoss: g.SecondLoss.Format(100),
 			Diff: stats.PlusMinus(c.MeanDiff*scale, c.CI95*scale), PT: fmtP(c.PT), PTHolm: fmtP(c.PTHolm), PW: fmtP(c.PW),
 			Rel: fmtPercent(c.RelDiff),
-			Opt: optText(g.Optimum.DelayMean * scale), BestRatio: ratioText(g.DelayRatio(g.BestMean.Mean)), SecondRatio: ratioText(g.DelayRatio(g.SecondMean.Mean)),
+			Opt: optText(g.Ref.DelayMean * scale), OptOver: g.Ref.String(), OptLoss: optText(g.Ref.Loss * 100),
+			BestRatio: ratioText(g.DelayRatio(g.BestMean.Mean)), SecondRatio: ratioText(g.DelayRatio(g.SecondMean.Mean)),
 			BestExtra: optText(g.ExtraLoss(g.BestLoss.Mean) * 100), SecondExtra: optText(g.ExtraLoss(g.SecondLoss.Mean) * 100)}
+		if g.Ref.Why != "" {
+			v.Opt = "– (" + g.Ref.Why + ")"
+		}
 		switch {
 		case c.Note != "":
 			v.Verdict = "untested: " + c.Note

@@ -92,6 +92,42 @@ type synRecovery struct {
 	Recovery   *float64 `parquet:"recovery_s,optional"`
 }
 
+type synOptimum struct {
+	Experiment string   `parquet:"experiment"`
+	Topology   string   `parquet:"topology"`
+	Load       float64  `parquet:"load"`
+	Failure    string   `parquet:"failure"`
+	State      int64    `parquet:"state"`
+	TStart     float64  `parquet:"t_start_s"`
+	TEnd       float64  `parquet:"t_end_s"`
+	Down       string   `parquet:"down"`
+	Unroutable float64  `parquet:"unroutable_share"`
+	Unsent     float64  `parquet:"unsent_share"`
+	States     string   `parquet:"states"`
+	OptUtil    *float64 `parquet:"opt_util_max,optional"`
+	OptLimit   *float64 `parquet:"opt_load_limit,optional"`
+	OptDelay   *float64 `parquet:"opt_delay_mean_s,optional"`
+}
+
+// Synthetic model optimum: intact, the busiest channel at synOptUtil; with
+// c–d cut (300 s to 450 s) it carries synCutFactor times more, and
+// synCutUnroutable of the demand has no path.
+const (
+	synCutFactor     = 1.25
+	synCutUnroutable = 0.04
+)
+
+func synOptUtil(load float64, ti int) float64 { return 0.8 * load * (1 + 0.1*float64(ti)) }
+
+// synOptDelay is the optimum's mean delivery time at busiest utilisation u
+// (nil when u ≥ 1: no stable routing).
+func synOptDelay(u float64) *float64 {
+	if u >= 1 {
+		return nil
+	}
+	return ptr(0.9 * 0.012 / (1 - u))
+}
+
 // synSpec sizes a synthetic experiment.
 type synSpec struct {
 	topologies []string
@@ -123,7 +159,7 @@ var smallSpec = synSpec{
 
 func ptr(x float64) *float64 { return &x }
 
-// writeSynthetic writes runs, series, links and recoveries tables into dir.
+// writeSynthetic writes runs, series, links, recoveries and optimum tables into dir.
 func writeSynthetic(t testing.TB, dir string, s synSpec) {
 	t.Helper()
 	rng := rand.New(rand.NewPCG(s.seed, 1))
@@ -131,7 +167,27 @@ func writeSynthetic(t testing.TB, dir string, s synSpec) {
 	var bins []synBin
 	var links []synLink
 	var recs []synRecovery
+	var opt []synOptimum
 	const base = 0.012 // s, zero-load delivery time
+	for ti, topo := range s.topologies {
+		for _, load := range s.loads {
+			for _, fail := range s.failures {
+				u := synOptUtil(load, ti)
+				row := synOptimum{Experiment: "synthetic", Topology: topo, Load: load, Failure: fail, TEnd: s.duration,
+					States: "all", OptUtil: ptr(u), OptLimit: ptr(load / u), OptDelay: synOptDelay(u)}
+				if fail != "cut" {
+					opt = append(opt, row)
+					continue
+				}
+				cut, after := row, row
+				row.TEnd = 300
+				cut.State, cut.TStart, cut.TEnd, cut.Down, cut.Unroutable = 1, 300, 450, "c–d", synCutUnroutable
+				cut.OptUtil, cut.OptLimit, cut.OptDelay = ptr(synCutFactor*u), ptr(load/(synCutFactor*u)), synOptDelay(synCutFactor*u)
+				after.State, after.TStart = 2, 450
+				opt = append(opt, row, cut, after)
+			}
+		}
+	}
 	for ti, topo := range s.topologies {
 		for ai, ag := range s.agents {
 			gain := []float64{1.0, 0.72, 0.86, 0.8}[ai%4] // effective utilisation factor
@@ -159,11 +215,9 @@ func writeSynthetic(t testing.TB, dir string, s synSpec) {
 						}
 						// The model optimum: the same in every run of a topology and
 						// load, null where no routing keeps the channels stable.
-						optUtil := 0.8 * load * (1 + 0.1*float64(ti))
+						optUtil := synOptUtil(load, ti)
 						r.OptLimit = ptr(load / optUtil)
-						if optUtil < 1 {
-							r.OptDelay = ptr(0.9 * base / (1 - optUtil))
-						}
+						r.OptDelay = synOptDelay(optUtil)
 						runs = append(runs, r)
 						recovery := map[float64]float64{300: 15 + 10*float64(ai) + 3*rng.Float64(), 450: 8 + 4*float64(ai) + 2*rng.Float64()}
 						for t0 := 0.0; t0 < s.duration-1e-9; t0 += s.bin {
@@ -223,6 +277,7 @@ func writeSynthetic(t testing.TB, dir string, s synSpec) {
 	writeTable(t, filepath.Join(dir, "series.parquet"), bins)
 	writeTable(t, filepath.Join(dir, "links.parquet"), links)
 	writeTable(t, filepath.Join(dir, "recoveries.parquet"), recs)
+	writeTable(t, filepath.Join(dir, "optimum.parquet"), opt)
 }
 
 func writeTable[T any](t testing.TB, path string, rows []T) {

@@ -9,6 +9,12 @@ const OptimumFile = "optimum.parquet"
 // TableOptimum is optimum.parquet's KeyTable value.
 const TableOptimum = "optimum"
 
+// Values of OptimumRow.States.
+const (
+	StatesAll    = "all"
+	StatesIntact = "intact"
+)
+
 // OptimumRow is one row of optimum.parquet: the model optimum (package
 // optimum) of one cell's offered matrix in one topology state of its
 // failure schedule, over [TStartS, TEndS). State 0 is the intact topology
@@ -30,12 +36,20 @@ type OptimumRow struct {
 	// UnroutableShare is the share of the offered demand that no routing
 	// could deliver in the state (to or from a down node, or between parts
 	// the failure disconnected); the optimum routes the rest.
-	UnroutableShare float64  `parquet:"unroutable_share"`
-	OptUtilMax      *float64 `parquet:"opt_util_max,optional"`
-	OptLoadLimit    *float64 `parquet:"opt_load_limit,optional"`
-	OptDelayMeanS   *float64 `parquet:"opt_delay_mean_s,optional"`
-	OptUtilGap      *float64 `parquet:"opt_util_gap,optional"`
-	OptDelayGap     *float64 `parquet:"opt_delay_gap,optional"`
+	UnroutableShare float64 `parquet:"unroutable_share"`
+	// UnsentShare is the part of UnroutableShare whose source is down: a
+	// down node sends nothing, so that demand is neither carried nor lost
+	// (the simulator generates no packet at a down node).
+	UnsentShare float64 `parquet:"unsent_share"`
+	// States says which states the cell's rows cover: StatesAll (every
+	// state of the schedule) or StatesIntact (random failures differ from
+	// one replicate to the next: the intact state only).
+	States        string   `parquet:"states,dict"`
+	OptUtilMax    *float64 `parquet:"opt_util_max,optional"`
+	OptLoadLimit  *float64 `parquet:"opt_load_limit,optional"`
+	OptDelayMeanS *float64 `parquet:"opt_delay_mean_s,optional"`
+	OptUtilGap    *float64 `parquet:"opt_util_gap,optional"`
+	OptDelayGap   *float64 `parquet:"opt_delay_gap,optional"`
 }
 
 // ReadOptimum reads optimum.parquet.

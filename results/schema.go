@@ -361,6 +361,8 @@ var Optimum = &Table{Name: TableOptimum, File: OptimumFile, Doc: "the model opti
 	{Name: "t_end_s", Unit: "s", Label: "end", Doc: "end of the state"},
 	{Name: "down", Label: "down", Doc: "elements down in the state, comma separated; empty when intact"},
 	{Name: "unroutable_share", Unit: "1", Label: "unroutable share", Doc: "share of the offered demand no routing could deliver in the state"},
+	{Name: "unsent_share", Unit: "1", Label: "unsent share", Doc: "part of unroutable_share whose source is down: a down node sends nothing, so it is neither carried nor lost"},
+	{Name: "states", Label: "states", Doc: "states the cell's rows cover: all, or intact (random failures differ from one replicate to the next: the intact state only)"},
 	{Name: "opt_util_max", Unit: "1", Label: "optimum: max utilisation", Doc: "least maximum channel utilisation of any splittable routing in the state; null when not computed"},
 	{Name: "opt_load_limit", Unit: "1", Label: "optimum: load limit", Doc: "load / opt_util_max; null when not computed or nothing is offered"},
 	{Name: "opt_delay_mean_s", Unit: "s", Label: "optimum: delivery mean", Doc: "least mean delivery time of any splittable routing (independent M/G/1 channels of the run's packet-size variability, with propagation); null when none stays below saturation, or not computed"},

@@ -202,10 +202,13 @@ func cellRows(r *experiments.Run, o *optima) ([]results.OptimumRow, error) {
 	if err != nil {
 		return nil, err
 	}
-	base := results.OptimumRow{Experiment: r.Dims.Experiment, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure}
+	base := results.OptimumRow{Experiment: r.Dims.Experiment, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure,
+		States: results.StatesAll}
 	end := r.Exp.Duration.Seconds()
 	var evs []sim.FailureEvent
-	if r.Failure.Random == nil {
+	if r.Failure != nil && r.Failure.Random != nil {
+		base.States = results.StatesIntact
+	} else {
 		evs = r.Failures().Events
 	}
 	row := base
@@ -250,8 +253,8 @@ func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEve
 		}
 	}
 	type solved struct {
-		c          cellOptimum
-		unroutable float64
+		c                  cellOptimum
+		unroutable, unsent float64
 	}
 	cache := map[string]solved{}
 	var rows []results.OptimumRow
@@ -286,13 +289,16 @@ func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEve
 		st, ok := cache[key]
 		if !ok {
 			demand := make([][]float64, len(offered))
-			var lost float64
+			var lost, unsent float64
 			for s, row := range offered {
 				demand[s] = slices.Clone(row)
 				for d, v := range row {
 					if s != d && (nodeDown[s] || nodeDown[d]) {
 						lost += v
 						demand[s][d] = 0
+						if nodeDown[s] {
+							unsent += v
+						}
 					}
 				}
 			}
@@ -304,7 +310,7 @@ func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEve
 			if err != nil {
 				return nil, err
 			}
-			st = solved{c, lost + unroutable}
+			st = solved{c, lost + unroutable, unsent}
 			cache[key] = st
 		}
 		row := base
@@ -314,6 +320,7 @@ func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEve
 		row.Down = key
 		if total > 0 {
 			row.UnroutableShare = st.unroutable / total
+			row.UnsentShare = st.unsent / total
 		}
 		st.c.fillState(&row)
 		if n := len(rows); n > 0 {

@@ -3,6 +3,7 @@ package sweep
 import (
 	"context"
 	"errors"
+	"math"
 	"testing"
 
 	"hoplore/experiments"
@@ -123,6 +124,55 @@ failures:
 		if r.OptDelayMeanS == nil || r.OptLoadLimit == nil {
 			t.Errorf("row %d: null delay or load limit", i)
 		}
+	}
+}
+
+// TestOptimumStatesNode: a node down on a ring of 5 under uniform demand
+// (20 pairs of equal rate) leaves the 8 pairs to or from it with no path,
+// unroutable share 0.4, of which the 4 it would send are unsent, 0.2; the
+// rest of the ring, a path, stays connected. A schedule with random
+// failures gets the intact row only, marked so.
+func TestOptimumStatesNode(t *testing.T) {
+	e, err := experiments.Parse("node.yaml", []byte(`
+name: node
+duration: 6s
+topologies: [{name: ring, nodes: 5}]
+traffic: {matrix: uniform, loads: [0.4]}
+agents: [shortest-path]
+failures:
+  - name: site
+    events:
+      - {at: 2s, node: n2, action: down}
+      - {at: 4s, node: n2, action: up}
+  - {name: flaky, random: {scope: links, mtbf: 4s, mttr: 1s}}
+`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows, err := optimumRows(e, &optima{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var site, flaky []results.OptimumRow
+	for _, r := range rows {
+		switch r.Failure {
+		case "site":
+			site = append(site, r)
+		case "flaky":
+			flaky = append(flaky, r)
+		}
+	}
+	if len(site) != 3 || site[1].Down != "node n2" || math.Abs(site[1].UnroutableShare-0.4) > 1e-12 || math.Abs(site[1].UnsentShare-0.2) > 1e-12 ||
+		site[0].UnsentShare != 0 || site[2].UnroutableShare != 0 {
+		t.Errorf("node down: %+v; want 3 states, the middle one unroutable 0.4, unsent 0.2", site)
+	}
+	for _, r := range site {
+		if r.States != results.StatesAll {
+			t.Errorf("scheduled state %d: states %q, want %q", r.State, r.States, results.StatesAll)
+		}
+	}
+	if len(flaky) != 1 || flaky[0].States != results.StatesIntact || flaky[0].TEndS != 6 {
+		t.Errorf("random failures: %+v; want the intact row only, states %q", flaky, results.StatesIntact)
 	}
 }
 
