@@ -26,10 +26,11 @@ var contract = map[string][]func(p *agents.Params){
 	}},
 }
 
-// qRoutingCases are every variant with either feedback, consensus, and the
-// loss objective with in-band feedback (the variants that take it), once
-// with install_every, the utilisation objective and a mix of all three
-// terms.
+// qRoutingCases are every variant with either feedback, consensus, and
+// every variant under the loss objective with in-band feedback, the
+// utilisation objective and a mix of all three terms; the loss objective
+// once with install_every, once with give_up_after; the mix with
+// consensus.
 func qRoutingCases() []func(p *agents.Params) {
 	var cs []func(p *agents.Params)
 	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
@@ -37,13 +38,17 @@ func qRoutingCases() []func(p *agents.Params) {
 			cs = append(cs, func(p *agents.Params) { p.Variant, p.Feedback = v, f })
 		}
 	}
-	for _, v := range []string{"plain", "predictive"} {
-		cs = append(cs, func(p *agents.Params) { p.Variant, p.Feedback, p.Objective.Name = v, "in-band", agents.ObjectiveLoss })
+	mix := agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
+		cs = append(cs,
+			func(p *agents.Params) { p.Variant, p.Feedback, p.Objective.Name = v, "in-band", agents.ObjectiveLoss },
+			func(p *agents.Params) { p.Variant, p.Objective.Name = v, agents.ObjectiveUtilisation },
+			func(p *agents.Params) { p.Variant, p.Objective = v, mix })
 	}
 	cs = append(cs, func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond })
-	cs = append(cs, func(p *agents.Params) { p.Objective.Name = agents.ObjectiveUtilisation })
+	cs = append(cs, func(p *agents.Params) { p.Objective.Name, p.GiveUpAfter = agents.ObjectiveLoss, sim.Second })
 	cs = append(cs, func(p *agents.Params) {
-		p.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+		p.Variant, p.Objective, p.Consensus = "dual", mix, &agents.Consensus{Every: sim.Second, Weight: 0.5}
 	})
 	return append(cs, func(p *agents.Params) {
 		p.Explore = 0.05

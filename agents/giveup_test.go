@@ -14,22 +14,37 @@ import (
 // in time), which fills queues on the way and costs the reachable traffic
 // delay and loss; with it, they drop those packets where the estimates pass
 // the bound. When the destination returns, the probes bring its estimates
-// back down and its traffic is delivered again.
+// back down and its traffic is delivered again. q-routing under objectives
+// loss and mix bounds its delivery-time table, which it keeps under every
+// objective, and behaves alike.
 func TestGiveUpAfterSiteLoss(t *testing.T) {
 	type outcome struct {
 		hopLimit, reachableLost int64
 		mean                    float64
 	}
-	kinds := []string{agents.QRoutingKind, agents.QNetworkKind}
-	if testing.Short() {
-		kinds = kinds[:1] // q-network takes seconds
+	type config struct {
+		kind      string
+		objective agents.Objective
 	}
-	for _, kind := range kinds {
+	configs := []config{
+		{agents.QRoutingKind, agents.Objective{Name: agents.ObjectiveDelay}},
+		{agents.QRoutingKind, agents.Objective{Name: agents.ObjectiveLoss}},
+		{agents.QRoutingKind, agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5}}},
+		{agents.QNetworkKind, agents.Objective{}},
+	}
+	if testing.Short() {
+		configs = configs[:1] // q-network takes seconds
+	}
+	for _, cf := range configs {
+		kind := cf.kind
 		var got [2]outcome
 		for i, bound := range []sim.Time{0, 500 * sim.Millisecond} {
-			t.Run(fmt.Sprintf("%s/give_up_after=%v", kind, bound), func(t *testing.T) {
+			t.Run(fmt.Sprintf("%s/%s/give_up_after=%v", kind, cf.objective, bound), func(t *testing.T) {
 				p := agents.Defaults(kind)
 				p.GiveUpAfter = bound
+				if cf.objective.Name != "" {
+					p.Objective = cf.objective
+				}
 				sc := agenttest.Scenario{Graph: agenttest.Grid(3, 3), Load: 0.5, Duration: 60 * sim.Second, Warmup: 5 * sim.Second, Seed: 3,
 					Failures: sim.Failures{Detection: 50 * sim.Millisecond, Events: []sim.FailureEvent{
 						{At: 10 * sim.Second, Node: 8, Element: "n8"},
@@ -62,7 +77,7 @@ func TestGiveUpAfterSiteLoss(t *testing.T) {
 		// probes have brought the estimates down (q-network generalises
 		// more slowly than a table).
 		if !(got[1].hopLimit < got[0].hopLimit && got[1].mean < got[0].mean) {
-			t.Errorf("%s: give_up_after did not help: without %+v, with %+v", kind, got[0], got[1])
+			t.Errorf("%s %s: give_up_after did not help: without %+v, with %+v", kind, cf.objective, got[0], got[1])
 		}
 	}
 }

@@ -52,8 +52,7 @@ func init() {
 			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
 			objectiveField(ObjectiveDelay, true, ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation),
 		},
-		Check: checkQRoutingObjective,
-		New:   newQRouting,
+		New: newQRouting,
 		Cost: func(p *Params, r RunSize) Cost {
 			c := Cost{Events: consensusEvents(p, r)}
 			if p.Feedback == "in-band" {
@@ -65,32 +64,6 @@ func init() {
 			return c
 		},
 	})
-}
-
-// checkQRoutingObjective rejects what a loss estimate cannot be combined
-// with: the parts of q-routing whose values are times.
-func checkQRoutingObjective(p *Params) error {
-	if p.Objective.Name == ObjectiveDelay {
-		return nil
-	}
-	switch {
-	case p.Variant == "dual" || p.Variant == "confidence":
-		if p.Objective.Name == ObjectiveMix {
-			return perr("variant", "%s has no mix objective (use plain)", p.Variant)
-		}
-		return perr("variant", "%s has no %s objective (use plain or predictive)", p.Variant, p.Objective.Name)
-	case p.Variant == "predictive" && p.Objective.Name == ObjectiveMix:
-		return perr("variant", "predictive has no mix objective (use plain)")
-	case p.Variant == "predictive" && p.Objective.Name == ObjectiveUtilisation:
-		return perr("variant", "predictive has no utilisation objective (use plain): its recovery rate, learned from a noisy utilisation average, lets estimates fall to their best-ever 0")
-	case p.GiveUpAfter > 0:
-		return perr("give_up_after", "is a delivery time and applies to objective delay only")
-	case p.Consensus != nil:
-		return perr("consensus", "blends delivery times and applies to objective delay only")
-	case p.StartFrom != nil:
-		return perr("start_from", "loads delivery-time tables and applies to objective delay only")
-	}
-	return nil
 }
 
 // QRouting is per-node tabular Q-routing (Boyan & Littman, "Packet routing in
@@ -159,15 +132,11 @@ func checkQRoutingObjective(p *Params) error {
 //     hop limit at y (it will be dropped there) is a loss too: y then
 //     returns 1, so a forwarding loop shows as loss. Tables start at 0 (1
 //     for an unreachable destination). Beside them each node keeps the
-//     delivery-time table of objective delay (same start, same update at
-//     rate learning_rate, the feedback carrying both values) and breaks
-//     exact ties of loss estimates, such as between loss-free paths, by it:
-//     packets take the fastest of the least lossy routes, and around a
-//     failed link the rising delivery time breaks the loops that equal loss
-//     values cannot. The variants plain and predictive (whose recovery
-//     machinery acts on the loss table) take this objective; dual and
-//     confidence, and give_up_after, consensus and start_from, are
-//     delivery-time notions and are refused with it.
+//     delivery-time table of objective delay (same start, same update,
+//     the feedback carrying both values) and breaks exact ties of loss
+//     estimates, such as between loss-free paths, by it: packets take the
+//     fastest of the least lossy routes, and around a failed link the
+//     rising delivery time breaks the loops that equal loss values cannot.
 //   - utilisation: Q_x(d,y) is the largest utilisation, in [0, 1], of the
 //     channels a packet for d sent towards y will cross (minimax, the
 //     widest-path value): on each feedback from y x moves it towards
@@ -179,22 +148,64 @@ func checkQRoutingObjective(p *Params) error {
 //     grow around a loop as a time does, so without it two neighbours
 //     left with only each other after a failure would keep their old,
 //     low values and bounce packets until their hop limit. Drops
-//     do not enter it (use loss for that). Start, delivery-time table and
-//     refusals as loss, and predictive is refused too: its recovery rate,
-//     learned from the decreases of a noisy average, lets estimates fall
-//     to their best-ever value 0 and reopens loops. Decisions compare
-//     utilisation in classes of utilBand and take the lower delivery-time
-//     estimate within a class.
-//   - mix {delay: w_d, loss: w_l, utilisation: w_u} (variant plain only,
-//     refusals as loss): the node learns the delivery-time table always,
-//     the loss table (as objective loss) when w_l > 0 and the utilisation
-//     table (as objective utilisation, with its split horizon) when
-//     w_u > 0, and decides on the cost w_d·Qdelay/z_xd + w_l·Qloss +
-//     w_u·Qutil, z_xd being its zero-load time to d (see Mix), exact ties
-//     to the lower delivery time. Feedback from y carries the three values
-//     of y's channel of least cost (a hop-limit expiry: loss and
-//     utilisation 1), so each table estimates its term along the path the
-//     mix takes; a drop on x's own channel is a loss sample of 1.
+//     do not enter it (use loss for that). Start and delivery-time table
+//     as loss. Decisions compare utilisation in classes of utilBand and
+//     take the lower delivery-time estimate within a class.
+//   - mix {delay: w_d, loss: w_l, utilisation: w_u}: the node learns the
+//     delivery-time table always, the loss table (as objective loss) when
+//     w_l > 0 and the utilisation table (as objective utilisation, with
+//     its split horizon) when w_u > 0, and decides on the cost
+//     w_d·Qdelay/z_xd + w_l·Qloss + w_u·Qutil, z_xd being its zero-load
+//     time to d (see Mix), exact ties to the lower delivery time. Feedback
+//     from y carries the three values of y's channel of least cost (a
+//     hop-limit expiry: loss and utilisation 1), so each table estimates
+//     its term along the path the mix takes; a drop on x's own channel is
+//     a loss sample of 1.
+//
+// Every variant takes every objective; under loss, utilisation and mix:
+//   - plain: every table at learning_rate, as above.
+//   - predictive: the recovery machinery (B, R, U) acts on the
+//     delivery-time table, whose best value B is a true floor (the
+//     zero-load time); decisions read its recovered value where they read
+//     a delivery time (the tie-break; the mix's delay term). The loss and
+//     utilisation tables learn plain: their start value 0 would be B, and
+//     a recovery rate learned from the decreases of noisy samples lets an
+//     unrefreshed estimate fall to 0 and reopens loops (measured: on a
+//     lossy chain, recovery on the loss table held an estimate at 0.13
+//     against the closed form 0.28).
+//   - dual: Route writes V_x(src) of every table into p.Aux (loss,
+//     delivery time, utilisation: the values of x's best channel for src,
+//     with a utilisation table the best other than the one to the next
+//     node, split horizon); y moves its backward estimates Q_y(src,x) towards
+//     1 − (1 − p̂_yx)(1 − V_x(src)) (loss), V_x(src) + w + s' + δ (delivery
+//     time, as under delay) and max(u_yx, V_x(src)) (utilisation). p̂_yx is
+//     the drop frequency y observes on its channel to x: an EWMA (rate
+//     dropRate) of samples 1 for each drop sim.Dropper reports there and 0
+//     for each feedback that confirms an arrival.
+//   - confidence: one confidence C per entry, as under delay: y reports
+//     the confidence of its best entry by the objective (1 at y = d, and
+//     when y has no usable channel ahead or the packet expires at y: those
+//     samples are facts, not estimates; without that a confident entry
+//     pointing into a dead end after a failure hardly moves, and packets
+//     loop), x
+//     computes η = max(C_est, 1 − C_old), moves the delivery-time table at
+//     rate η and the loss and utilisation tables at learning_rate·η (a
+//     single loss sample is a Bernoulli draw whatever its confidence: at
+//     rate 1 an estimate would jump between 0 and 1), and sets
+//     C += η(C_est − C). A drop sample moves the loss table at
+//     learning_rate and leaves C alone.
+//
+// give_up_after bounds the delivery-time table under every objective (a
+// destination is given up while every usable channel's delivery-time
+// estimate, recovered for predictive, exceeds B). Consensus under loss,
+// utilisation and mix blends every table the objective learns: each round
+// a node sends each neighbour, per destination, the delivery time, loss and
+// utilisation values (as its feedback would carry them; with a utilisation
+// table or split_horizon leaving out the channel to that neighbour), and
+// the neighbour moves its entries towards hop + V (delivery time),
+// 1 − (1 − p̂_xy)(1 − V) (loss) and max(u_xy, V) (utilisation) with
+// weight w. start_from loads every table a state stores (see State); a
+// state learned under another objective is refused.
 //
 // With give_up_after B > 0 a node drops (no_route) the packets for a
 // destination whose every estimate exceeds B, forwarding one every B as a
@@ -232,6 +243,11 @@ type qrShared struct {
 	util     bool // objective utilisation
 	mix      bool // objective mix: decisions on the weighted sum (see Mix)
 	w        Mix  // the mix's weights
+	lossOn   bool // a loss table is learned (objective loss, or a mix weighing loss)
+	utilOn   bool // a utilisation table is learned (objective utilisation, or a mix weighing it)
+	predQ    bool // predictive under objective delay: the recovery machinery acts on q
+	predD    bool // predictive under objective ≠ delay: recovery on the delivery-time table qd
+	needDrop bool // each channel's drop frequency is estimated (loss term with dual or consensus)
 }
 
 var (
@@ -263,25 +279,21 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	s.qCap = qCeiling(s.dist)
 	switch p.Objective.Name {
 	case ObjectiveMix:
-		if s.variant != variantPlain {
-			return nil, fmt.Errorf("agents: q-routing: variant %s has no objective mix", p.Variant)
-		}
 		if err := checkMix(p.Objective.Mix); err != nil {
 			return nil, fmt.Errorf("agents: q-routing: %w", err)
 		}
 		s.alt, s.mix, s.w = true, true, p.Objective.Mix
+		s.lossOn, s.utilOn = s.w.Loss > 0, s.w.Utilisation > 0
 	case ObjectiveDelay:
 	case ObjectiveLoss, ObjectiveUtilisation:
-		if s.variant == variantDual {
-			return nil, fmt.Errorf("agents: q-routing: variant dual has no objective %s", p.Objective.Name)
-		}
-		if s.variant == variantConfidence || s.variant == variantPredictive && p.Objective.Name == ObjectiveUtilisation {
-			return nil, fmt.Errorf("agents: q-routing: variant %s has no objective %s", p.Variant, p.Objective.Name)
-		}
 		s.alt, s.util = true, p.Objective.Name == ObjectiveUtilisation
+		s.lossOn, s.utilOn = !s.util, s.util
 	default:
 		return nil, fmt.Errorf("agents: q-routing: unknown objective %q", p.Objective.Name)
 	}
+	s.predQ = s.variant == variantPredictive && !s.alt
+	s.predD = s.variant == variantPredictive && s.alt
+	s.needDrop = s.lossOn && (s.variant == variantDual || p.Consensus != nil)
 	return &QRouting{p: p, shared: s}, nil
 }
 
@@ -318,9 +330,11 @@ func (a *QRouting) Node(v *sim.NodeView) sim.Router {
 		// the first snapshot holds the tables the run starts from
 		copy(r.fq, r.q)
 		copy(r.fqd, r.qd)
+		copy(r.fqu, r.qu)
 		copy(r.fb, r.b)
 		copy(r.fr, r.r)
 		copy(r.fu, r.u)
+		r.snapDelay()
 	}
 	a.nodes = append(a.nodes, r)
 	return r
@@ -335,9 +349,16 @@ func (r *qrNode) continueFrom(o *qrNode, shift sim.Time) {
 	for i := range r.u {
 		r.u[i] = o.u[i] - shift
 	}
+	copy(r.qu, o.qu)
+	copy(r.bd, o.bd)
+	copy(r.rd, o.rd)
+	for i := range r.ud {
+		r.ud[i] = o.ud[i] - shift
+	}
 	copy(r.c, o.c)
 	copy(r.stamp, o.stamp)
 	copy(r.rowN, o.rowN)
+	copy(r.pdrop, o.pdrop)
 }
 
 // qrNode is one node's Q-routing state. It sees the network only through v.
@@ -363,9 +384,15 @@ type qrNode struct {
 	// zero-load time to it (1/s)
 	qu, fqu []float64
 	wz      []float64
-	// predictive
-	b, r []float64
-	u    []sim.Time
+	// predictive: best, recovery rate and last update of q (objective
+	// delay) or of qd (objective ≠ delay)
+	b, r   []float64
+	u      []sim.Time
+	bd, rd []float64
+	ud     []sim.Time
+	// loss term with dual or consensus: per channel, the frequency of
+	// drops among the packets sent on it (EWMA, rate dropRate)
+	pdrop []float64
 	// confidence
 	c     []float64
 	stamp []uint32 // row counter value at the entry's last update
@@ -381,7 +408,17 @@ type qrNode struct {
 	// estimate is frozen there)
 	fq, fb, fr []float64
 	fu         []sim.Time
+	fbd, frd   []float64
+	fud        []sim.Time
 	installed  sim.Time
+}
+
+// snapDelay copies the delivery-time table's recovery state into the
+// forwarding snapshot (predictive under objective ≠ delay).
+func (r *qrNode) snapDelay() {
+	copy(r.fbd, r.bd)
+	copy(r.frd, r.rd)
+	copy(r.fud, r.ud)
 }
 
 // tagQInstall is q-routing's install timer.
@@ -397,18 +434,19 @@ func (r *qrNode) install() {
 	copy(r.fb, r.b)
 	copy(r.fr, r.r)
 	copy(r.fu, r.u)
+	r.snapDelay()
 	r.installed = r.v.Now()
 	for d := 0; d < r.s.n; d++ {
 		if d == r.id {
 			continue
 		}
-		best, bestV := -1, 0.0
+		best, bestV, bestT := -1, 0.0, 0.0
 		for k, c := range r.out {
 			if !r.v.Up(c) {
 				continue
 			}
-			if val := r.estimate(d*r.deg+k, 0); best < 0 || r.less(val, bestV, r.tieDelay(d, k), r.tieDelay(d, best)) {
-				best, bestV = k, val
+			if val, t := r.view(d*r.deg+k, 0); best < 0 || r.less(val, bestV, t, bestT) {
+				best, bestV, bestT = k, val, t
 			}
 		}
 		r.pref.saw(r.v, d, best)
@@ -424,7 +462,7 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 		r.qd = make([]float64, len(r.q))
 		r.hopLimit = v.HopLimit()
 	}
-	if s.util || s.mix && s.w.Utilisation > 0 {
+	if s.utilOn {
 		r.util = make([]float64, r.deg)
 		r.utilT = make([]sim.Time, r.deg)
 		r.utilB = make([]sim.Time, r.deg)
@@ -443,11 +481,21 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	}
 	r.pref = newPrefs(s.n)
 	r.give = newGiveUp(s.p.GiveUpAfter, s.n)
+	if s.needDrop {
+		r.pdrop = make([]float64, r.deg)
+	}
 	switch s.variant {
 	case variantPredictive:
-		r.b = make([]float64, len(r.q))
-		r.r = make([]float64, len(r.q))
-		r.u = make([]sim.Time, len(r.q))
+		if s.predQ {
+			r.b = make([]float64, len(r.q))
+			r.r = make([]float64, len(r.q))
+			r.u = make([]sim.Time, len(r.q))
+		}
+		if s.predD {
+			r.bd = make([]float64, len(r.q))
+			r.rd = make([]float64, len(r.q))
+			r.ud = make([]sim.Time, len(r.q))
+		}
 	case variantConfidence:
 		r.c = make([]float64, len(r.q))
 		r.stamp = make([]uint32, len(r.q))
@@ -471,6 +519,12 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 			r.fr = make([]float64, len(r.r))
 			r.fu = make([]sim.Time, len(r.u))
 		}
+		if r.bd != nil {
+			r.fbd = make([]float64, len(r.bd))
+			r.frd = make([]float64, len(r.rd))
+			r.fud = make([]sim.Time, len(r.ud))
+		}
+		r.snapDelay()
 		copy(r.fq, r.q)
 		copy(r.fb, r.b)
 		copy(r.fr, r.r)
@@ -517,7 +571,12 @@ func (r *qrNode) resetColumn(k int) {
 		r.q[i] = v
 		switch r.s.variant {
 		case variantPredictive:
-			r.b[i], r.r[i], r.u[i] = v, 0, r.v.Now()
+			if r.b != nil {
+				r.b[i], r.r[i], r.u[i] = v, 0, r.v.Now()
+			}
+			if r.bd != nil {
+				r.bd[i], r.rd[i], r.ud[i] = r.qd[i], 0, r.v.Now()
+			}
 		case variantConfidence:
 			r.c[i] = 0
 			if y == d {
@@ -528,36 +587,81 @@ func (r *qrNode) resetColumn(k int) {
 	}
 }
 
-// estimate returns the value the decision compares for entry i.
-// With install_every it reads the forwarding snapshot, as of the install.
-func (r *qrNode) estimate(i int, now sim.Time) float64 {
-	q, b, rr, u := r.q, r.b, r.r, r.u
+// view returns the values the decision compares for entry i: the
+// objective's value (delay: the delivery-time estimate; loss, utilisation:
+// that table; mix: the weighted cost) and, under objective ≠ delay, the
+// delivery-time estimate that breaks its ties (0 under delay). Predictive
+// tables give their recovered values. With install_every it reads the
+// forwarding snapshot, as of the install. Cost O(1), no allocation.
+func (r *qrNode) view(i int, now sim.Time) (val, t float64) {
+	q, qd, qu, b, rr, u, bd, rd, ud := r.q, r.qd, r.qu, r.b, r.r, r.u, r.bd, r.rd, r.ud
 	if r.fq != nil {
-		q, b, rr, u, now = r.fq, r.fb, r.fr, r.fu, r.installed
+		q, qd, qu, b, rr, u, bd, rd, ud, now = r.fq, r.fqd, r.fqu, r.fb, r.fr, r.fu, r.fbd, r.frd, r.fud, r.installed
+	}
+	val = q[i]
+	if r.s.predQ {
+		val = predEst(q, b, rr, u, i, now)
+	}
+	if !r.s.alt {
+		return val, 0
+	}
+	t = qd[i]
+	if r.s.predD {
+		t = predEst(qd, bd, rd, ud, i, now)
 	}
 	if r.s.mix {
-		if r.fq != nil {
-			return r.mixCost(i, r.fq, r.fqd, r.fqu)
+		c := r.wz[i/r.deg]*t + r.s.w.Loss*val
+		if qu != nil {
+			c += r.s.w.Utilisation * qu[i]
 		}
-		return r.mixCost(i, r.q, r.qd, r.qu)
+		return c, t
 	}
-	if r.s.variant == variantPredictive {
-		return math.Max(q[i]+(now-u[i]).Seconds()*rr[i], b[i])
+	return val, t
+}
+
+// predEst returns the predictive estimate of entry i of table q with
+// best, recovery-rate and update-time tables b, rr, u:
+// max(Q + (now − U)·R, B) (Choi & Yeung 1996).
+func predEst(q, b, rr []float64, u []sim.Time, i int, now sim.Time) float64 {
+	return math.Max(q[i]+(now-u[i]).Seconds()*rr[i], b[i])
+}
+
+// predLearn moves entry i of table q towards target at rate alpha and
+// updates its best value, recovery rate and update time as Choi & Yeung
+// 1996 (see QRouting, predictive).
+func predLearn(q, b, rr []float64, u []sim.Time, i int, target, alpha float64, now sim.Time) {
+	old := q[i]
+	dq := target - old
+	q[i] = old + alpha*dq
+	b[i] = math.Min(b[i], q[i])
+	if dq < 0 {
+		if dt := (now - u[i]).Seconds(); dt > 0 {
+			rr[i] += predictiveBeta * dq / dt
+		}
+	} else if dq > 0 {
+		rr[i] *= predictiveGamma
 	}
-	return q[i]
+	rr[i] = math.Min(rr[i], 0)
+	u[i] = now
 }
 
 // Route picks the outgoing channel for p. Cost: O(degree), no allocation.
 func (r *qrNode) Route(p *sim.Packet) int {
 	d := p.Dst
 	base := d * r.deg
-	best, bestV := -1, 0.0
+	best, bestV, bestT := -1, 0.0, 0.0
 	now := r.v.Now()
 	if r.give != nil {
+		// under objective ≠ delay the bound applies to the delivery-time
+		// table, which every objective keeps
 		least := math.Inf(1)
 		for k, c := range r.out {
 			if r.v.Up(c) {
-				least = math.Min(least, r.estimate(base+k, now))
+				val, t := r.view(base+k, now)
+				if r.s.alt {
+					val = t
+				}
+				least = math.Min(least, val)
 			}
 		}
 		if r.give.drop(d, least, now) {
@@ -571,9 +675,9 @@ func (r *qrNode) Route(p *sim.Packet) int {
 			if !r.v.Up(c) {
 				continue
 			}
-			val := r.estimate(base+k, now)
-			if best < 0 || r.less(val, bestV, r.tieDelay(d, k), r.tieDelay(d, best)) {
-				best, bestV = k, val
+			val, t := r.view(base+k, now)
+			if best < 0 || r.less(val, bestV, t, bestT) {
+				best, bestV, bestT = k, val, t
 			}
 		}
 		r.pref.saw(r.v, d, best)
@@ -585,9 +689,21 @@ func (r *qrNode) Route(p *sim.Packet) int {
 		return sim.NoRoute
 	}
 	if r.s.variant == variantDual {
-		if p.Src == r.id {
+		switch {
+		case r.s.alt && p.Src == r.id:
+			p.Aux = [3]float64{}
+		case r.s.alt:
+			// V_x(src) of every table, split horizon (not through the
+			// next node) when a utilisation table is learned
+			skip := -1
+			if r.s.utilOn {
+				skip = best
+			}
+			l, t, u, _ := r.altVals(p.Src, skip)
+			p.Aux = [3]float64{l, t, u}
+		case p.Src == r.id:
 			p.Aux[0] = 0
-		} else {
+		default:
 			v, _ := r.value(p.Src)
 			p.Aux[0] = v
 		}
@@ -643,19 +759,6 @@ func (r *qrNode) less(a, b, ta, tb float64) bool {
 	return a < b || a == b && ta < tb
 }
 
-// tieDelay returns the delivery-time estimate to d via out[k] that breaks
-// ties of the loss objective (from the forwarding snapshot with
-// install_every).
-func (r *qrNode) tieDelay(d, k int) float64 {
-	if !r.s.alt {
-		return 0
-	}
-	if r.fqd != nil {
-		return r.fqd[d*r.deg+k]
-	}
-	return r.qd[d*r.deg+k]
-}
-
 // mixCost returns the mix objective's cost of entry i from the loss,
 // delivery-time and utilisation tables q, qd, qu (qu nil at weight 0):
 // w_delay·qd/(zero-load time to the destination) + w_loss·q + w_util·qu.
@@ -665,35 +768,6 @@ func (r *qrNode) mixCost(i int, q, qd, qu []float64) float64 {
 		c += r.s.w.Utilisation * qu[i]
 	}
 	return c
-}
-
-// mixValue returns, under objective mix, the loss, delivery-time (plus
-// processing) and utilisation values of the channel to d of least mix
-// cost among the usable ones other than out[skip] (skip -1: all): 0, 0, 0
-// for d = x; 1, the ceiling, 1 when none is usable.
-func (r *qrNode) mixValue(d, skip int) (loss, delay, util float64) {
-	if d == r.id {
-		return 0, 0, 0
-	}
-	base := d * r.deg
-	best, bestC := -1, 0.0
-	for k, c := range r.out {
-		if !r.v.Up(c) || k == skip {
-			continue
-		}
-		i := base + k
-		if cost := r.mixCost(i, r.q, r.qd, r.qu); best < 0 || cost < bestC || cost == bestC && r.qd[i] < r.qd[base+best] {
-			best, bestC = k, cost
-		}
-	}
-	if best < 0 {
-		return 1, r.s.qCap, 1
-	}
-	i := base + best
-	if r.qu != nil {
-		util = r.qu[i]
-	}
-	return r.q[i], math.Min(r.proc+r.qd[i], r.s.qCap), util
 }
 
 // randomUp returns a uniformly chosen usable column, or -1.
@@ -742,30 +816,69 @@ func (r *qrNode) value(d int) (float64, int) {
 	return math.Min(r.proc+bestV, r.s.qCap), best
 }
 
-// altValue returns, under objective loss or utilisation, V_x(d) = the best
-// over usable channels other than out[skip] (skip -1: all) of Q_x(d,·) as
-// decisions compare them (0 for d = x; 1 when no channel is usable), and
-// the delivery-time value of that channel plus processing (0 for d = x;
-// the ceiling when none is usable).
-func (r *qrNode) altValue(d, skip int) (value, delay float64) {
-	if d == r.id {
-		return 0, 0
-	}
+// altBest returns, under objective ≠ delay, the usable channel other than
+// out[skip] (skip -1: all) whose raw estimates for d decide best (loss,
+// utilisation: as less; mix: the least cost, exact ties to the lower
+// delivery time), -1 when there is none.
+func (r *qrNode) altBest(d, skip int) int {
 	base := d * r.deg
-	best := -1
+	best, bestC := -1, 0.0
 	for k, c := range r.out {
 		if !r.v.Up(c) || k == skip {
 			continue
 		}
 		i := base + k
+		if r.s.mix {
+			if cost := r.mixCost(i, r.q, r.qd, r.qu); best < 0 || cost < bestC || cost == bestC && r.qd[i] < r.qd[base+best] {
+				best, bestC = k, cost
+			}
+			continue
+		}
 		if best < 0 || r.less(r.q[i], r.q[base+best], r.qd[i], r.qd[base+best]) {
 			best = k
 		}
 	}
-	if best < 0 {
-		return 1, r.s.qCap
+	return best
+}
+
+// altVals returns, under objective ≠ delay, V_x(d) of every table: the
+// loss, delivery-time (plus processing) and utilisation estimates of the
+// channel altBest(d, skip) picks, and that channel (0, 0, 0, -1 for d = x;
+// 1, the ceiling, 1, -1 when no channel is usable). A table the objective
+// does not learn gives 0.
+func (r *qrNode) altVals(d, skip int) (loss, delay, util float64, k int) {
+	if d == r.id {
+		return 0, 0, 0, -1
 	}
-	return r.q[base+best], math.Min(r.proc+r.qd[base+best], r.s.qCap)
+	k = r.altBest(d, skip)
+	if k < 0 {
+		return 1, r.s.qCap, 1, -1
+	}
+	i := d*r.deg + k
+	delay = math.Min(r.proc+r.qd[i], r.s.qCap)
+	switch {
+	case r.s.mix:
+		loss = r.q[i]
+		if r.qu != nil {
+			util = r.qu[i]
+		}
+	case r.s.util:
+		util = r.q[i]
+	default:
+		loss = r.q[i]
+	}
+	return loss, delay, util, k
+}
+
+// utilTable returns the utilisation table (nil when none is learned).
+func (r *qrNode) utilTable() []float64 {
+	if r.s.mix {
+		return r.qu
+	}
+	if r.s.util {
+		return r.q
+	}
+	return nil
 }
 
 // confidenceOf returns entry i's confidence after lazy decay.
@@ -784,8 +897,7 @@ const (
 	msgValues                        // consensus: Vec = V_y(d) for all d
 	msgParams                        // consensus: Vec = network parameters
 	msgNetFeedback                   // q-network: Value = q+s+t, Aux = decision's queue feature
-	msgFeedbackLoss                  // objective loss: Value = loss value of y, Aux = q+s+t
-	msgFeedbackMix                   // objective mix: Value = loss value of y, Aux = q+s+t, Aux2 = utilisation value of y
+	msgFeedbackAlt                   // objective ≠ delay: Value = loss value of y, Aux = q+s+t, Aux2 = utilisation value of y, Aux3 = confidence
 )
 
 // Arrived runs at y when a data packet comes in from x: it returns the
@@ -797,39 +909,32 @@ func (r *qrNode) Arrived(p *sim.Packet, in int) {
 	back := in ^ 1 // this node → previous node
 	d := p.Dst
 	qs := (p.LastWait + p.LastTx).Seconds()
-	if r.s.mix {
+	if r.s.alt {
 		skip := -1
-		if r.qu != nil {
-			skip = r.localIndex(back) // split horizon, as objective utilisation
+		if r.s.utilOn {
+			skip = r.localIndex(back) // split horizon: not back through x
 		}
-		l, t, u := r.mixValue(d, skip)
+		l, t, u, bk := r.altVals(d, skip)
 		if d != r.id && p.Hops >= r.hopLimit {
 			l, u = 1, 1 // the packet expires here: lost
 		}
-		m := sim.Message{Type: msgFeedbackMix, Dst: d, Value: l, Aux: qs + t, Aux2: u}
+		m := sim.Message{Type: msgFeedbackAlt, Dst: d, Value: l, Aux: qs + t, Aux2: u}
+		if r.s.variant == variantConfidence {
+			// certain: at the destination, with no usable channel ahead
+			// (values 1, the ceiling, 1), or at the hop limit
+			m.Aux3 = 1
+			if d != r.id && bk >= 0 && p.Hops < r.hopLimit {
+				m.Aux3 = r.confidenceOf(d, d*r.deg+bk)
+			}
+		}
 		if r.s.inBand {
 			m.Bytes = FeedbackBytes
 			r.v.Send(back, m)
 		} else {
 			r.v.Tell(back, m)
 		}
-		return
-	}
-	if r.s.alt {
-		skip := -1
-		if r.s.util {
-			skip = r.localIndex(back) // split horizon: not back through x
-		}
-		l, t := r.altValue(d, skip)
-		if d != r.id && p.Hops >= r.hopLimit {
-			l = 1 // the packet expires here: lost
-		}
-		m := sim.Message{Type: msgFeedbackLoss, Dst: d, Value: l, Aux: qs + t}
-		if r.s.inBand {
-			m.Bytes = FeedbackBytes
-			r.v.Send(back, m)
-		} else {
-			r.v.Tell(back, m)
+		if r.s.variant == variantDual && p.Src != r.id {
+			r.dualAlt(p, back)
 		}
 		return
 	}
@@ -872,37 +977,96 @@ func (r *qrNode) Receive(m *sim.Message, in int) {
 	}
 	delay := r.net.Channels[r.out[k]].Delay.Seconds()
 	switch m.Type {
-	case msgFeedbackMix:
+	case msgFeedbackAlt:
 		d := m.Dst
 		if d == r.id || d < 0 || d >= r.s.n {
 			return
 		}
-		i := d*r.deg + k
-		a := r.s.p.LearningRate
-		if r.s.w.Loss > 0 {
-			r.q[i] += a * (m.Value - r.q[i])
+		if r.pdrop != nil {
+			r.pdrop[k] -= dropRate * r.pdrop[k] // the packet arrived: a sample 0
 		}
-		r.qd[i] += a * (math.Min(m.Aux+delay, r.s.qCap) - r.qd[i])
-		if r.qu != nil {
-			r.qu[i] += a * (math.Max(r.channelUtil(k), m.Aux2) - r.qu[i])
+		util := 0.0
+		if r.s.utilOn {
+			util = math.Max(r.channelUtil(k), m.Aux2)
 		}
-	case msgFeedbackLoss:
-		target := m.Value
-		if r.s.util {
-			target = math.Max(r.channelUtil(k), target)
-		}
-		r.update(m.Dst, k, target, 1)
-		if d := m.Dst; d != r.id && d >= 0 && d < r.s.n {
-			i := d*r.deg + k
-			r.qd[i] += r.s.p.LearningRate * (math.Min(m.Aux+delay, r.s.qCap) - r.qd[i])
-		}
+		r.learnAlt(d, k, m.Value, math.Min(m.Aux+delay, r.s.qCap), util, m.Aux3)
 	case msgFeedback:
 		r.update(m.Dst, k, m.Value+m.Aux+delay, 1)
 	case msgFeedbackConf:
 		r.update(m.Dst, k, m.Value+delay, m.Aux)
 	case msgValues:
-		r.blend(k, m.Vec)
+		if r.s.alt {
+			r.blendAlt(k, m.Vec)
+		} else {
+			r.blend(k, m.Vec)
+		}
 	}
+}
+
+// dropRate is the rate of the EWMA of drop samples (1 for a packet lost on
+// the channel, 0 for one that arrived) by which a node estimates each of its
+// channels' drop frequency p_xy for dual's backward loss estimate and for
+// consensus: it averages over about the last 1/dropRate packets sent. A
+// choice: an estimate of p = 0.2 then has standard deviation
+// √(dropRate/(2 − dropRate)·p(1 − p)) ≈ 0.009 (Roberts 1959).
+const dropRate = 0.001
+
+// learnAlt applies one sample to entry (d, out[k]) under objective ≠ delay:
+// targets loss (loss table), delay (delivery-time table, seconds) and util
+// (utilisation table), each used only where the objective learns that
+// table; conf is the target's confidence (variant confidence). Rates:
+// learning_rate (predictive: with recovery on the delivery-time table);
+// confidence: η = max(conf, 1 − C) on the delivery-time table as
+// Kumar & Miikkulainen 1998, and learning_rate·η on the loss and
+// utilisation tables, whose single samples carry Bernoulli or busy-time
+// noise that no confidence removes. Cost O(1), no allocation.
+func (r *qrNode) learnAlt(d, k int, loss, delay, util, conf float64) {
+	i := d*r.deg + k
+	a := r.s.p.LearningRate
+	aAlt, aDelay := a, a
+	if r.s.variant == variantConfidence {
+		cOld := r.confidenceOf(d, i)
+		eta := math.Max(conf, 1-cOld)
+		aAlt, aDelay = a*eta, eta
+		r.rowN[d]++
+		r.c[i] = cOld + eta*(conf-cOld)
+		r.stamp[i] = r.rowN[d]
+	}
+	if r.s.lossOn {
+		r.q[i] += aAlt * (loss - r.q[i])
+	}
+	if r.s.predD {
+		predLearn(r.qd, r.bd, r.rd, r.ud, i, delay, a, r.v.Now())
+	} else {
+		r.qd[i] += aDelay * (delay - r.qd[i])
+	}
+	if ut := r.utilTable(); ut != nil {
+		ut[i] += aAlt * (util - ut[i])
+	}
+}
+
+// dualAlt is dual's backward update at y under objective ≠ delay, for data
+// packet p that came from x over back's reverse (back: y → x): Q_y(src, x)
+// moves towards x's values for src carried in p.Aux (loss, delivery time,
+// utilisation) composed with y's own channel to x: loss
+// 1 − (1 − p_yx)(1 − V_x(src)), p_yx the drop frequency y observes on that
+// channel; delivery time V_x(src) + w + s' + δ as under delay; utilisation
+// max(u_yx, V_x(src)).
+func (r *qrNode) dualAlt(p *sim.Packet, back int) {
+	k := r.localIndex(back)
+	if k < 0 {
+		return
+	}
+	ch := &r.net.Channels[back]
+	delay := p.Aux[1] + r.v.Backlog(back)/ch.Bandwidth + float64(p.Size)*8/ch.Bandwidth + ch.Delay.Seconds()
+	loss, util := 0.0, 0.0
+	if r.s.lossOn {
+		loss = 1 - (1-r.pdrop[k])*(1-p.Aux[0])
+	}
+	if r.s.utilOn {
+		util = math.Max(r.channelUtil(k), p.Aux[2])
+	}
+	r.learnAlt(p.Src, k, loss, math.Min(delay, r.s.qCap), util, 1)
 }
 
 // update moves Q_x(d, out[k]) towards target (seconds); conf is the
@@ -916,19 +1080,7 @@ func (r *qrNode) update(d, k int, target, conf float64) {
 	old := r.q[i]
 	switch r.s.variant {
 	case variantPredictive:
-		now := r.v.Now()
-		dq := target - old
-		r.q[i] = old + r.s.p.LearningRate*dq
-		r.b[i] = math.Min(r.b[i], r.q[i])
-		if dq < 0 {
-			if dt := (now - r.u[i]).Seconds(); dt > 0 {
-				r.r[i] += predictiveBeta * dq / dt
-			}
-		} else if dq > 0 {
-			r.r[i] *= predictiveGamma
-		}
-		r.r[i] = math.Min(r.r[i], 0)
-		r.u[i] = now
+		predLearn(r.q, r.b, r.r, r.u, i, target, r.s.p.LearningRate, r.v.Now())
 	case variantConfidence:
 		cOld := r.confidenceOf(d, i)
 		eta := math.Max(conf, 1-cOld)
@@ -961,16 +1113,25 @@ func (r *qrNode) channelUtil(k int) float64 {
 	return r.util[k]
 }
 
-// Dropped samples a loss under objective loss: the packet for p.Dst sent
-// into this node's channel out was lost there (full queue or link loss), so
-// Q_x(d, out) moves towards 1. Under delay a drop teaches nothing.
+// Dropped samples a loss when a loss table is learned: the packet for
+// p.Dst sent into this node's channel out was lost there (full queue or
+// link loss), so Q_x(d, out) moves towards 1 (at learning_rate in every
+// variant; the confidence variant leaves C as it is). Under delay a drop
+// teaches nothing.
 func (r *qrNode) Dropped(p *sim.Packet, out int, _ sim.DropReason) {
-	if !r.s.alt || r.s.util || r.s.mix && r.s.w.Loss == 0 || r.s.p.frozen() {
+	if !r.s.lossOn || r.s.p.frozen() {
 		return
 	}
-	if k := r.localIndex(out); k >= 0 {
-		r.update(p.Dst, k, 1, 1)
+	k := r.localIndex(out)
+	d := p.Dst
+	if k < 0 || d == r.id || d < 0 || d >= r.s.n {
+		return
 	}
+	if r.pdrop != nil {
+		r.pdrop[k] += dropRate * (1 - r.pdrop[k])
+	}
+	i := d*r.deg + k
+	r.q[i] += r.s.p.LearningRate * (1 - r.q[i])
 }
 
 // Detected resets a channel's column when its link comes back; a channel
@@ -994,7 +1155,9 @@ func (r *qrNode) Timer(tag int) {
 	if tag != tagConsensus || r.cons == nil {
 		return
 	}
-	if r.s.p.Consensus.SplitHorizon {
+	if r.s.alt {
+		r.sendAltValues()
+	} else if r.s.p.Consensus.SplitHorizon {
 		r.sendSplitHorizon()
 	} else {
 		vec := make([]float64, r.s.n) // shared by this round's messages; receivers only read it
@@ -1078,5 +1241,104 @@ func (r *qrNode) sendSplitHorizon() {
 			vec[d] = v
 		}
 		r.v.Send(c, sim.Message{Type: msgValues, Vec: vec, Bytes: ValuesMessageBytes(n)})
+	}
+}
+
+// sendAltValues is a consensus round under objective ≠ delay: each usable
+// neighbour gets V_x(d) of every table the objective learns (as altVals),
+// laid out as the delivery times of every destination, then the loss
+// values when a loss table is learned, then the utilisation values when a
+// utilisation table is. With a utilisation table or split_horizon each
+// neighbour y gets the values of the best channel other than the one to y
+// (one vector per neighbour); otherwise one vector is shared.
+func (r *qrNode) sendAltValues() {
+	n := r.s.n
+	blocks := 1
+	if r.s.lossOn {
+		blocks++
+	}
+	if r.s.utilOn {
+		blocks++
+	}
+	split := r.s.utilOn || r.s.p.Consensus.SplitHorizon
+	var shared []float64
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		vec := shared
+		if vec == nil || split {
+			skip := -1
+			if split {
+				skip = k
+			}
+			vec = make([]float64, blocks*n) // owned by the receiver, or shared by this round's receivers, who only read it
+			for d := 0; d < n; d++ {
+				l, t, u, _ := r.altVals(d, skip)
+				vec[d] = t
+				j := n
+				if r.s.lossOn {
+					vec[j+d] = l
+					j += n
+				}
+				if r.s.utilOn {
+					vec[j+d] = u
+				}
+			}
+			if !split {
+				shared = vec
+			}
+		}
+		r.v.Send(c, sim.Message{Type: msgValues, Vec: vec, Bytes: ValuesMessageBytes(blocks * n)})
+	}
+}
+
+// blendAlt moves every table entry via out[k] towards the neighbour's
+// advertised values composed with this node's channel to it, under
+// objective ≠ delay: Q ← (1−w)Q + w·target with targets, per destination,
+// hop + V_y(d) for the delivery time (hop as blend), 1 − (1 − p_xy)(1 −
+// V_y(d)) for the loss, p_xy this node's observed drop frequency on the
+// channel, and max(u_xy, V_y(d)) for the utilisation.
+func (r *qrNode) blendAlt(k int, vals []float64) {
+	n := r.s.n
+	blocks := 1
+	if r.s.lossOn {
+		blocks++
+	}
+	ut := r.utilTable()
+	if ut != nil {
+		blocks++
+	}
+	if len(vals) != blocks*n {
+		return
+	}
+	c := r.out[k]
+	ch := &r.net.Channels[c]
+	hop := (r.v.Backlog(c)+AssumedPacketBytes*8)/ch.Bandwidth + ch.Delay.Seconds()
+	pxy, uxy := 0.0, 0.0
+	if r.pdrop != nil {
+		pxy = r.pdrop[k]
+	}
+	if ut != nil {
+		uxy = r.channelUtil(k)
+	}
+	w := r.cons.weight
+	for d := 0; d < n; d++ {
+		if d == r.id {
+			continue
+		}
+		i := d*r.deg + k
+		r.qd[i] = math.Min((1-w)*r.qd[i]+w*(hop+vals[d]), r.s.qCap)
+		if r.bd != nil {
+			r.bd[i] = math.Min(r.bd[i], r.qd[i])
+		}
+		j := n
+		if r.s.lossOn {
+			r.q[i] = (1-w)*r.q[i] + w*(1-(1-pxy)*(1-vals[j+d]))
+			j += n
+		}
+		if ut != nil {
+			ut[i] = (1-w)*ut[i] + w*math.Max(uxy, vals[j+d])
+		}
 	}
 }

@@ -115,6 +115,9 @@ func StartFrom(a sim.Agent, st *State) error {
 		if st.Kind != QRoutingKind || st.Variant != x.p.Variant {
 			return fmt.Errorf("agents: start state of %s %s, not q-routing %s", st.Kind, st.Variant, x.p.Variant)
 		}
+		if x.shared.alt {
+			return fmt.Errorf("agents: start state of q-routing with objective delay, not %s", x.p.Objective)
+		}
 		for _, e := range st.Q {
 			if e.Node < 0 || e.Node >= x.shared.n || e.Destination < 0 || e.Destination >= x.shared.n || e.Channel < 0 ||
 				e.Channel >= len(x.shared.zl) {

@@ -50,7 +50,6 @@ func TestBadFiles(t *testing.T) {
 		{"mix-all-zero", "6:40", "mix: needs a weight > 0 on at least one of delay, loss, utilisation"},
 		{"mix-not-mapping", "6:40", "mix: is a mapping {delay: W, loss: W, utilisation: W}"},
 		{"mix-for-central-optimal", "6:40", "agents[0].objective: takes no mix (known: min-max-util, min-delay)"},
-		{"mix-predictive", "6:32", "agents[0].variant: predictive has no mix objective (use plain)"},
 		{"bad-split", "6:36", `agents[0].split: unknown split "random" (known: flow, packet)`},
 		{"bad-epsilon", "6:38", "agents[0].epsilon: must be in (0, 0.5], got 0.7"},
 		{"bad-max-shift", "6:40", "agents[0].max_shift: must be in (0, 1], got 0"},

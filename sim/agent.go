@@ -105,6 +105,7 @@ type Message struct {
 	Value float64
 	Aux   float64
 	Aux2  float64   // a third value, where an agent needs one
+	Aux3  float64   // a fourth value, where an agent needs one
 	Vec   []float64 // optional bulk payload (tables, parameters); owned by the receiver
 	Bytes int       // size on the wire, in bytes; > 0 for in-band messages
 }
@@ -138,7 +139,7 @@ type Packet struct {
 	Prev     int  // previous node, -1 at the source
 
 	// Agent-carried fields, cleared at generation.
-	Aux       [2]float64
+	Aux       [3]float64
 	Route     []int // a source route of channel IDs, if a central agent set one
 	RouteStep int
 
