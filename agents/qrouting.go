@@ -719,13 +719,13 @@ func (r *qrNode) Route(p *sim.Packet) int {
 // around it and sends them back to a neighbour whose snapshot still points
 // at it, until that neighbour's next install (as QNetwork).
 func (r *qrNode) detour(d, best, prev int) int {
-	alt, altV, now := -1, 0.0, r.v.Now()
+	alt, altV, altT, now := -1, 0.0, 0.0, r.v.Now()
 	for k, c := range r.out {
 		if !r.v.Up(c) || r.net.Channels[c].To == prev {
 			continue
 		}
-		if val := r.estimate(d*r.deg+k, now); alt < 0 || r.less(val, altV, r.tieDelay(d, k), r.tieDelay(d, alt)) {
-			alt, altV = k, val
+		if val, t := r.view(d*r.deg+k, now); alt < 0 || r.less(val, altV, t, altT) {
+			alt, altV, altT = k, val, t
 		}
 	}
 	if alt < 0 {
