@@ -1,5 +1,7 @@
 package sim
 
+import "math"
+
 // This file declares what the engine asks of routing agents. Agents live in
 // package agents; the engine calls them, they never own the loop.
 //
@@ -53,6 +55,66 @@ type Arrivals interface {
 // reported. p is valid only during the call.
 type Dropper interface {
 	Dropped(p *Packet, out int, reason DropReason)
+}
+
+// FlowWatcher is told when a flow of flow traffic (FlowGen) ends: all its
+// packets delivered (FlowCompleted) or one of them lost or its source
+// stopped (FlowFailed), at the instant the last packet was delivered or
+// dropped (no acknowledgement delay is modelled). A per-node Router
+// implementing it hears of the flows its node sent, while the node is up; a
+// Central agent implementing it hears of every flow. Flows still going when
+// the run ends are not reported. Warm-up flows are reported too
+// (FlowEnd.Measured tells them apart). f is valid only during the call; the
+// engine allocates nothing to make it.
+type FlowWatcher interface {
+	FlowEnded(f *FlowEnd)
+}
+
+// FlowEnd is what the engine knows of a flow when it ends (FlowWatcher).
+type FlowEnd struct {
+	// Slot is the flow's slot, the Packet.FlowSlot of its packets: unique
+	// among the flows in progress, reused after the flow ends; an agent can
+	// index a dense table with it (slots stay below the most flows ever in
+	// progress at once).
+	Slot     int
+	ID       int64 // FlowRecord.ID
+	Src, Dst int
+	Size     int64 // bytes
+	Class    FlowClass
+	Label    uint32 // the Packet.Flow of its packets
+	Start    Time   // emission of the first packet
+	// End is the delivery of the last packet of a completed flow, the
+	// instant of the ending (last delivery or drop) of a failed one.
+	End Time
+	// Ideal is the completion time alone on the idle network (IdealFCT), −1
+	// when the destination cannot be reached on the intact network.
+	Ideal     Time
+	Packets   int32 // packets sent
+	Delivered int32 // packets delivered
+	Reordered int32 // packets delivered below the next expected sequence number
+	Outcome   FlowOutcome
+	// First is the channel the flow's first packet was sent on at the
+	// source (NoRoute when it was dropped there without one).
+	First    int
+	Measured bool // started at or after the warm-up
+}
+
+// FCT returns the flow's completion time (End − Start) in seconds, NaN
+// unless it completed.
+func (f *FlowEnd) FCT() float64 {
+	if f.Outcome != FlowCompleted {
+		return math.NaN()
+	}
+	return (f.End - f.Start).Seconds()
+}
+
+// Slowdown returns the flow's completion time over its idle-network time
+// (Ideal), NaN unless it completed with Ideal > 0.
+func (f *FlowEnd) Slowdown() float64 {
+	if f.Outcome != FlowCompleted || f.Ideal <= 0 {
+		return math.NaN()
+	}
+	return float64(f.End-f.Start) / float64(f.Ideal)
 }
 
 // Receiver gets control messages sent by neighbours (in-band, over channel
@@ -158,3 +220,7 @@ type Packet struct {
 	cause       int32 // when unreachable: the failure event that made it so (index), −1 before any
 	fl          int32 // flow traffic: index of the flow + 1; 0 for packet traffic
 }
+
+// FlowSlot returns the slot of the packet's flow of flow traffic
+// (FlowEnd.Slot), −1 for packet traffic.
+func (p *Packet) FlowSlot() int { return int(p.fl) - 1 }

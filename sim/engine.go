@@ -105,6 +105,8 @@ type engine struct {
 	routers []Router
 	arr     []Arrivals
 	drp     []Dropper
+	fw      []FlowWatcher // per node; nil without flow traffic or watchers
+	cfw     FlowWatcher   // the central agent's, if it watches flows
 	rcv     []Receiver
 	det     []Detector
 	ls      []LinkStater
@@ -136,6 +138,12 @@ type engine struct {
 	fpkt    int        // packet size of flows
 	fseen   int64      // measured flows offered to the sample
 	fsample *rand.Rand // the sample's reservoir draws
+	fend    FlowEnd    // what FlowWatcher.FlowEnded is handed
+	// per pair, cumulative over packets of flow traffic (central agents,
+	// with flow traffic): Snapshot.PairFlow*
+	pairFDel   []int64
+	pairFDelay []float64
+	pairFDrop  []int64
 
 	// physical partitions, for classifying unreachable packets
 	comp       []int32       // component label of each node over what is up; −1 when down
@@ -329,6 +337,12 @@ func newEngine(cfg *Config) (*engine, error) {
 			e.det[v], _ = r.(Detector)
 			e.ls[v], _ = r.(LinkStater)
 			e.timed[v], _ = r.(Timed)
+			if w, ok := r.(FlowWatcher); ok && cfg.Traffic.FlowGen != nil {
+				if e.fw == nil {
+					e.fw = make([]FlowWatcher, N)
+				}
+				e.fw[v] = w
+			}
 			if e.ls[v] != nil {
 				e.anyLS = true
 			}
@@ -340,6 +354,12 @@ func newEngine(cfg *Config) (*engine, error) {
 		e.pairDelay = make([]float64, N*N)
 		e.pairDrop = make([]int64, N*N)
 		e.pairGen = make([]int64, N*N)
+		if cfg.Traffic.FlowGen != nil {
+			e.cfw, _ = a.(FlowWatcher)
+			e.pairFDel = make([]int64, N*N)
+			e.pairFDelay = make([]float64, N*N)
+			e.pairFDrop = make([]int64, N*N)
+		}
 		e.cview = &ControlView{e: e, rng: Stream(cfg.AgentSeed, StreamAgent, math.MaxUint32)}
 		a.Start(e.cview)
 	default:
@@ -641,8 +661,8 @@ func (e *engine) forward(node int, id int32) {
 		return
 	}
 	c := e.route(node, p)
-	if e.cfg.PinFlows && p.fl != 0 {
-		c = e.pinned(node, p, c)
+	if p.fl != 0 {
+		c = e.flowHop(node, p, c)
 	}
 	if c == NoRoute {
 		e.drop(id, NoRouteDrop, -1)
@@ -793,6 +813,10 @@ func (e *engine) deliver(id int32) {
 		k := p.Src*len(e.nodes) + p.Dst
 		e.pairDel[k]++
 		e.pairDelay[k] += delay
+		if p.fl != 0 {
+			e.pairFDel[k]++
+			e.pairFDelay[k] += delay
+		}
 	}
 	if p.Measured {
 		r := e.res
@@ -836,6 +860,9 @@ func (e *engine) drop(id int32, reason DropReason, c int) {
 	}
 	if e.pairDrop != nil {
 		e.pairDrop[p.Src*len(e.nodes)+p.Dst]++
+		if p.fl != 0 {
+			e.pairFDrop[p.Src*len(e.nodes)+p.Dst]++
+		}
 	}
 	if p.unreachable {
 		if p.cause >= 0 {
@@ -984,6 +1011,11 @@ func (e *engine) requestSnapshot() {
 	s.PairDelay = append([]float64(nil), e.pairDelay...)
 	s.PairDropped = append([]int64(nil), e.pairDrop...)
 	s.PairGenerated = append([]int64(nil), e.pairGen...)
+	if e.pairFDel != nil {
+		s.PairFlowDelivered = append([]int64(nil), e.pairFDel...)
+		s.PairFlowDelay = append([]float64(nil), e.pairFDelay...)
+		s.PairFlowDropped = append([]int64(nil), e.pairFDrop...)
+	}
 	idx := -1
 	for i, x := range e.snaps {
 		if x == nil {

@@ -447,6 +447,7 @@ type flowState struct {
 	measured  bool
 	stopped   bool
 	live      bool
+	first     int32    // channel of the first packet at the source (FlowEnd.First)
 	path      []pinHop // with Config.PinFlows: the flow's channel at each node it reached
 }
 
@@ -525,7 +526,7 @@ func (e *engine) startFlow(s int) {
 	*f = flowState{path: path, id: int64(e.fserial), src: int32(s), dst: int32(d), size: size,
 		npkts: int32((size + int64(e.fpkt) - 1) / int64(e.fpkt)), start: e.now, rate: fs.send,
 		label: uint32(Mix(uint64(s)<<32|uint64(d), e.fserial)), class: g.Class(float64(size)),
-		measured: e.now >= e.cfg.Warmup, live: true}
+		measured: e.now >= e.cfg.Warmup, live: true, first: NoRoute}
 	f.ideal = idealFCT(e.net, s, d, size, e.fpkt, fs.send, e)
 	if f.measured {
 		e.res.Flows.Started++
@@ -598,10 +599,26 @@ func (e *engine) flowPacketDone(p *Packet, delivered bool) {
 	}
 }
 
+// flowHop returns the channel a packet of a flow takes at node, the
+// agent's choice being c: pinned under Config.PinFlows; the first packet's
+// at the source is kept for FlowEnd.First.
+func (e *engine) flowHop(node int, p *Packet, c int) int {
+	if e.cfg.PinFlows {
+		c = e.pinned(node, p, c)
+	}
+	if p.Seq == 0 && p.Hops == 0 {
+		e.fl[p.fl-1].first = int32(c)
+	}
+	return c
+}
+
 // endFlow records flow fi, all of whose packets are delivered or dropped,
-// and frees it.
+// tells the watchers, and frees it.
 func (e *engine) endFlow(fi int32) {
 	f := &e.fl[fi]
+	if e.cfw != nil || (e.fw != nil && e.fw[f.src] != nil && e.nodes[f.src].up) {
+		e.tellFlowEnd(fi)
+	}
 	if f.measured {
 		r := e.res.Flows
 		c := &r.Classes[f.class]
@@ -632,6 +649,25 @@ func (e *engine) endFlow(fi int32) {
 	}
 	f.live = false
 	e.ffree = append(e.ffree, fi)
+}
+
+// tellFlowEnd hands the end of flow fi to its watcher: the central agent,
+// or the router at the flow's source.
+func (e *engine) tellFlowEnd(fi int32) {
+	f := &e.fl[fi]
+	fe := &e.fend
+	*fe = FlowEnd{Slot: int(fi), ID: f.id, Src: int(f.src), Dst: int(f.dst), Size: f.size, Class: f.class,
+		Label: f.label, Start: f.start, End: e.now, Ideal: f.ideal, Packets: f.sent, Delivered: f.delivered,
+		Reordered: f.reordered, Outcome: FlowFailed, First: int(f.first), Measured: f.measured}
+	if !f.stopped && f.delivered == f.npkts {
+		fe.Outcome = FlowCompleted
+		fe.End = f.lastDel
+	}
+	if e.cfw != nil {
+		e.cfw.FlowEnded(fe)
+		return
+	}
+	e.fw[f.src].FlowEnded(fe)
 }
 
 // pinHop is one node's channel of a pinned flow.

@@ -150,6 +150,12 @@ type Snapshot struct {
 	// PairGenerated counts, per pair, the data packets generated (what the
 	// sources offered: ingress counters), cumulative from the start.
 	PairGenerated []int64
+	// PairFlowDelivered, PairFlowDelay and PairFlowDropped are the part of
+	// PairDelivered, PairDelay and PairDropped from packets of flow traffic
+	// (FlowGen); nil without flow traffic.
+	PairFlowDelivered []int64
+	PairFlowDelay     []float64
+	PairFlowDropped   []int64
 }
 
 // Stream returns the random stream for one purpose of one run: a PCG seeded
