@@ -24,6 +24,17 @@
 //     from the min–max routing; its Frank–Wolfe gap certifies a lower
 //     bound. When λ* ≥ 1 no routing keeps every queue stable and no finite
 //     mean delay exists: the result says so.
+//   - MinLoss: the least expected share of packets lost, with finite
+//     buffers (each channel an M/M/1/K queue holding Channel.Room packets:
+//     its blocking probability, Kleinrock, Queueing Systems Vol. 1, 1975,
+//     §3.6) and a per-channel link loss probability (Channel.Loss); convex
+//     in the flows, solved by flow deviation with its Frank–Wolfe bound.
+//     Every routing is feasible: what does not fit is lost.
+//   - MinMix: the least w_d·(mean delay ÷ mean zero-load path time) +
+//     w_l·(loss share) + w_u·(maximum utilisation), the maximum made smooth
+//     for the iterations by an ℓp norm whose excess over it is at most a
+//     factor 1 + ε/2; the bound and gap reported are those of the
+//     unsmoothed objective.
 //   - Splits: the last solution as per-destination next-hop weights over a
 //     loop-free graph (cycles cancelled), what a controller installs.
 //

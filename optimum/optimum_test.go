@@ -20,6 +20,20 @@ import (
 // under hop-count shortest path, lowest index first).
 func uniformAt(t testing.TB, name string, params map[string]float64, load float64) *optimum.Solver {
 	t.Helper()
+	net, m := uniformNet(t, name, params, load)
+	s, err := optimum.NewSolver(net)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := s.SetDemand(m); err != nil {
+		t.Fatal(err)
+	}
+	return s
+}
+
+// uniformNet returns the model and demand of uniformAt.
+func uniformNet(t testing.TB, name string, params map[string]float64, load float64) (optimum.Network, [][]float64) {
+	t.Helper()
 	g, err := topologies.Generate(name, params)
 	if err != nil {
 		t.Fatal(err)
@@ -32,14 +46,7 @@ func uniformAt(t testing.TB, name string, params map[string]float64, load float6
 			m[i][j] *= sc
 		}
 	}
-	s, err := optimum.NewSolver(optimum.FromNet(n, 1000, nil))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := s.SetDemand(m); err != nil {
-		t.Fatal(err)
-	}
-	return s
+	return optimum.FromNet(n, 1000, nil), m
 }
 
 // TestRingSymmetry: on a ring of n nodes with uniform demand, shortest paths
@@ -770,18 +777,27 @@ func TestDelayAgainstSimplex(t *testing.T) {
 	}
 }
 
-// TestNoAllocations: once a solver exists, solving again allocates nothing.
+// TestNoAllocations: once a solver exists, solving again allocates nothing,
+// for every objective.
 func TestNoAllocations(t *testing.T) {
 	s := uniformAt(t, "ring", map[string]float64{"nodes": 6}, 0.9)
 	var sp optimum.Splits
-	solve := func() {
-		if _, err := s.MinDelay(0.01); err != nil {
-			t.Fatal(err)
+	for _, w := range []optimum.Weights{{}, {Loss: 1}, {Delay: 1, Loss: 2, Utilisation: 0.5}} {
+		solve := func() {
+			var err error
+			if w == (optimum.Weights{}) {
+				_, err = s.MinDelay(0.01)
+			} else {
+				_, err = s.MinMix(w, 0.01)
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			s.Splits(&sp)
 		}
-		s.Splits(&sp)
-	}
-	solve()
-	if a := testing.AllocsPerRun(3, solve); a != 0 {
-		t.Errorf("%v allocations per solve, want 0", a)
+		solve()
+		if a := testing.AllocsPerRun(3, solve); a != 0 {
+			t.Errorf("weights %+v: %v allocations per solve, want 0", w, a)
+		}
 	}
 }

@@ -20,7 +20,7 @@ type Solver struct {
 	dem        []float64
 	total      float64 // Σ dem
 	unroutable float64 // demand between nodes with no path, packets/s
-	solved     int     // 0 none, 1 min-max flow held in flow, 2 min-delay flow held in flow
+	solved     int     // 0 none, 1 min-max flow held in flow, 2 min-delay, 3 min-mix flow held in flow
 	mm         MinMax  // the last MinMaxUtil result (solved == 1)
 	mmEps      float64 // and its eps
 
@@ -28,6 +28,12 @@ type Solver struct {
 	// squared coefficient of variation cs², and short = (1 − cs²)/2, the
 	// share of the M/M/1 queueing term the Pollaczek–Khinchine mean lacks.
 	scv, short float64
+
+	// MinMix's weights: as given (objW), the delay weight over γT₀ and the
+	// loss weight over γ, the norm's exponent (0 without a utilisation
+	// weight), and T₀.
+	objW                      Weights
+	objWD, objWL, objP, objD0 float64
 
 	// Shortest-path workspace; dist and next alias the search's results.
 	search paths.Search

@@ -35,7 +35,7 @@ func (p *Splits) Nodes() int { return p.nodes }
 // a node's traffic for a destination are numerical residue of the solvers.
 const minShare = 1e-6
 
-// Splits writes the routing of the last MinMaxUtil or MinDelay into dst as
+// Splits writes the routing of the last MinMaxUtil, MinDelay or MinMix into dst as
 // per-destination next-hop weights w_vu = f^d_vu / Σ_u f^d_vu (Bertsekas &
 // Gallager, Data Networks, 1992, §5.5: destination-based optimal routing),
 // after cancelling every directed cycle of each destination's flow (removing
@@ -54,10 +54,10 @@ func (s *Solver) Splits(dst *Splits) {
 	dst.list = dst.list[:0]
 	copy(s.yk, s.flow)
 	for c, ch := range s.net.Channels {
-		if s.solved != 2 || ch.Capacity == 0 {
+		if s.solved < 2 || ch.Capacity == 0 {
 			s.lengths[c] = usable(ch, 1/math.Max(ch.Capacity, math.SmallestNonzeroFloat64))
 		}
-		// After MinDelay the lengths are the marginal delays already.
+		// After MinDelay and MinMix the lengths are the marginal costs already.
 	}
 	for d := 0; d < N; d++ {
 		f := s.yk[d*E : (d+1)*E]
