@@ -41,21 +41,29 @@ func startFromField() Field {
 func (p *Params) frozen() bool { return p.Learning == "frozen" }
 
 // QEntry is one learned estimate of a tabular learner: at Node, for
-// Destination, via the channel Channel (towards Neighbour), Q = Value
-// seconds. Confidence is the confidence variant's, Best and Rate the
-// predictive variant's best value and recovery rate (0 otherwise).
+// Destination, via the channel Channel (towards Neighbour), the
+// delivery-time estimate Value seconds (kept under every objective).
+// Confidence is the confidence variant's, Best and Rate the predictive
+// variant's best value and recovery rate of the delivery-time estimate (0
+// otherwise). Loss and Utilisation are the loss and utilisation estimates
+// of objectives that learn them (0 otherwise).
 type QEntry struct {
 	Node, Destination, Neighbour, Channel int
 	Value, Confidence, Best, Rate         float64
+	Loss, Utilisation                     float64
 }
 
 // State is a per-node learner's learned state at the end of a run: what
 // `hoplore run` stores and start_from loads (see the README, "Train on
 // failures, test on others").
 type State struct {
-	Kind    string   // QRoutingKind or QNetworkKind
-	Variant string   // q-routing's variant
-	Q       []QEntry // q-routing: every (node, destination ≠ node, channel) in that order
+	Kind    string // QRoutingKind or QNetworkKind
+	Variant string // q-routing's variant
+	// Objective is q-routing's objective as labels write it (see
+	// Objective.String), "" for delay: a state loads only into an agent of
+	// the same objective.
+	Objective string
+	Q         []QEntry // q-routing: every (node, destination ≠ node, channel) in that order
 	// q-network: Sizes are the layer widths (input, hidden..., 1); Params[v]
 	// and Target[v] node v's online and target parameters, laid out layer
 	// by layer, each layer's weights (row-major, output by input) then its
@@ -65,15 +73,11 @@ type State struct {
 }
 
 // ExportState returns the learned state of a per-node learner after its
-// run, and false for any other agent and for q-routing with objective loss
-// or utilisation (whose tables no start_from could use).
+// run, and false for any other agent.
 func ExportState(a sim.Agent) (*State, bool) {
 	switch x := a.(type) {
 	case *QRouting:
-		if x.shared.alt {
-			return nil, false // loss or utilisation tables; start_from loads delivery times
-		}
-		st := &State{Kind: QRoutingKind, Variant: x.p.Variant}
+		st := &State{Kind: QRoutingKind, Variant: x.p.Variant, Objective: stateObjective(x.p.Objective)}
 		for _, r := range x.nodes {
 			for d := 0; d < r.s.n; d++ {
 				if d == r.id {
@@ -82,11 +86,24 @@ func ExportState(a sim.Agent) (*State, bool) {
 				for k, c := range r.out {
 					i := d*r.deg + k
 					e := QEntry{Node: r.id, Destination: d, Neighbour: r.net.Channels[c].To, Channel: c, Value: r.q[i]}
+					if r.s.alt {
+						e.Value = r.qd[i]
+						if r.s.lossOn {
+							e.Loss = r.q[i]
+						}
+						if ut := r.utilTable(); ut != nil {
+							e.Utilisation = ut[i]
+						}
+					}
 					switch r.s.variant {
 					case variantConfidence:
 						e.Confidence = r.confidenceOf(d, i)
 					case variantPredictive:
-						e.Best, e.Rate = r.b[i], r.r[i]
+						if r.s.alt {
+							e.Best, e.Rate = r.bd[i], r.rd[i]
+						} else {
+							e.Best, e.Rate = r.b[i], r.r[i]
+						}
 					}
 					st.Q = append(st.Q, e)
 				}
@@ -115,8 +132,8 @@ func StartFrom(a sim.Agent, st *State) error {
 		if st.Kind != QRoutingKind || st.Variant != x.p.Variant {
 			return fmt.Errorf("agents: start state of %s %s, not q-routing %s", st.Kind, st.Variant, x.p.Variant)
 		}
-		if x.shared.alt {
-			return fmt.Errorf("agents: start state of q-routing with objective delay, not %s", x.p.Objective)
+		if want := stateObjective(x.p.Objective); st.Objective != want {
+			return fmt.Errorf("agents: start state learned under objective %s, not %s", ObjectiveLabel(st.Objective), ObjectiveLabel(want))
 		}
 		for _, e := range st.Q {
 			if e.Node < 0 || e.Node >= x.shared.n || e.Destination < 0 || e.Destination >= x.shared.n || e.Channel < 0 ||
@@ -155,12 +172,41 @@ func (r *qrNode) load(st *State) error {
 		}
 		i := e.Destination*r.deg + k
 		r.q[i] = e.Value
+		if r.s.alt {
+			r.qd[i], r.q[i] = e.Value, e.Loss
+			if ut := r.utilTable(); ut != nil {
+				ut[i] = e.Utilisation
+			}
+		}
 		switch r.s.variant {
 		case variantConfidence:
 			r.c[i], r.stamp[i] = e.Confidence, r.rowN[e.Destination]
 		case variantPredictive:
-			r.b[i], r.r[i], r.u[i] = e.Best, e.Rate, 0
+			if r.s.alt {
+				r.bd[i], r.rd[i], r.ud[i] = e.Best, e.Rate, 0
+			} else {
+				r.b[i], r.r[i], r.u[i] = e.Best, e.Rate, 0
+			}
 		}
 	}
 	return nil
+}
+
+// stateObjective returns how a state records objective o: "" for delay
+// (the states of earlier versions, which carry no objective, are delay
+// states), else its label.
+func stateObjective(o Objective) string {
+	if o.Name == ObjectiveDelay || o.Name == "" {
+		return ""
+	}
+	return o.String()
+}
+
+// ObjectiveLabel returns the objective a state's Objective field names:
+// "delay" for "".
+func ObjectiveLabel(stateObjective string) string {
+	if stateObjective == "" {
+		return ObjectiveDelay
+	}
+	return stateObjective
 }

@@ -41,10 +41,17 @@ var trainScenario = agenttest.Scenario{Graph: agenttest.Grid(3, 3), Load: 0.6, D
 // exactly that state, and a learning one does not.
 func TestFrozenNeverChanges(t *testing.T) {
 	cons := &agents.Consensus{Every: sim.Second, Weight: 0.5}
+	loss := agents.Objective{Name: agents.ObjectiveLoss}
+	util := agents.Objective{Name: agents.ObjectiveUtilisation}
+	mix := agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
 	for _, tc := range []struct {
 		kind, variant string
-	}{{agents.QRoutingKind, "plain"}, {agents.QRoutingKind, "confidence"}, {agents.QRoutingKind, "dual"}, {agents.QNetworkKind, ""}} {
-		t.Run(tc.kind+"/"+tc.variant, func(t *testing.T) {
+		objective     agents.Objective
+	}{{agents.QRoutingKind, "plain", agents.Objective{}}, {agents.QRoutingKind, "confidence", agents.Objective{}},
+		{agents.QRoutingKind, "dual", agents.Objective{}}, {agents.QNetworkKind, "", agents.Objective{}},
+		{agents.QRoutingKind, "plain", loss}, {agents.QRoutingKind, "predictive", util}, {agents.QRoutingKind, "confidence", mix},
+		{agents.QRoutingKind, "dual", mix}} {
+		t.Run(tc.kind+"/"+tc.variant+"/"+tc.objective.String(), func(t *testing.T) {
 			if testing.Short() && tc.kind == agents.QNetworkKind {
 				t.Skip("q-network takes seconds")
 			}
@@ -52,6 +59,9 @@ func TestFrozenNeverChanges(t *testing.T) {
 			p := agents.Defaults(tc.kind)
 			if tc.variant != "" {
 				p.Variant = tc.variant
+			}
+			if tc.objective.Name != "" {
+				p.Objective = tc.objective
 			}
 			p.Consensus = cons
 			trained := train(t, trainScenario, net, p, nil)
@@ -167,6 +177,9 @@ func TestStartFromRefuses(t *testing.T) {
 	a, _ := agents.New(p, net)
 	st, _ := agents.ExportState(a) // no nodes built: an empty table
 	b, _ := agents.New(p, small)
+	lp := agents.Defaults(agents.QRoutingKind)
+	lp.Objective.Name = agents.ObjectiveLoss
+	l, _ := agents.New(lp, net)
 	tests := []struct {
 		name  string
 		agent sim.Agent
@@ -174,6 +187,9 @@ func TestStartFromRefuses(t *testing.T) {
 	}{
 		{"other variant", a, &agents.State{Kind: agents.QRoutingKind, Variant: "dual"}},
 		{"other kind", a, &agents.State{Kind: agents.QNetworkKind}},
+		{"delay state, loss agent", l, &agents.State{Kind: agents.QRoutingKind, Variant: "plain"}},
+		{"loss state, delay agent", a, &agents.State{Kind: agents.QRoutingKind, Variant: "plain", Objective: "loss"}},
+		{"other mix", l, &agents.State{Kind: agents.QRoutingKind, Variant: "plain", Objective: "mix/delay=1/loss=2"}},
 		{"bigger topology", b, &agents.State{Kind: agents.QRoutingKind, Variant: "plain", Q: []agents.QEntry{{Node: 8, Destination: 0, Channel: 20}}}},
 	}
 	for _, tc := range tests {

@@ -35,7 +35,7 @@ func (c *checker) agents(e *Experiment) error {
 					at = v.Value.at()
 				}
 			}
-			if refs, err = c.startStates(i, p.StartFrom, at); err != nil {
+			if refs, err = c.startStates(i, &p, at); err != nil {
 				return err
 			}
 		}

@@ -30,6 +30,7 @@ type LearnedState struct {
 	Replicate int    `json:"replicate"`
 	RunIndex  int    `json:"run_index"`
 	Table     string `json:"table"`
+	Objective string `json:"objective"` // a tabular learner's, "" for delay
 }
 
 // stateFormat is results.StateFormat.
@@ -60,10 +61,12 @@ func (s *startFromYAML) store(ptr any) {
 	*ptr.(**agents.Origin) = &agents.Origin{Results: s.Results.S, Agent: s.Agent.S}
 }
 
-// startStates reads the state files agent i's start_from names and keeps
-// those of its label, by run index; an error at the field when the folder
-// is missing or holds no state of that label.
-func (c *checker) startStates(i int, o *agents.Origin, at yamlx.Pos) ([]LearnedState, error) {
+// startStates reads the state files agent i (parameters ap) start_from
+// names and keeps those of its label, by run index; an error at the field
+// when the folder is missing, holds no state of that label, or (q-routing)
+// holds one learned under another objective.
+func (c *checker) startStates(i int, ap *agents.Params, at yamlx.Pos) ([]LearnedState, error) {
+	o := ap.StartFrom
 	dir := c.files.resolve(c.file, o.Results)
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return nil, c.errf(at, "agents[%d].start_from.results: %q is not a result folder", i, o.Results)
@@ -90,6 +93,11 @@ func (c *checker) startStates(i int, o *agents.Origin, at yamlx.Pos) ([]LearnedS
 			return nil, c.errf(at, "agents[%d].start_from: %s is not a state file of this version", i, p)
 		}
 		labels[r.Agent] = true
+		if r.Agent == o.Agent && ap.Kind == agents.QRoutingKind {
+			if got, want := agents.ObjectiveLabel(r.Objective), ap.Objective.String(); got != want {
+				return nil, c.errf(at, "agents[%d].start_from: %q holds states of agent %q learned under objective %s, not %s", i, o.Results, o.Agent, got, want)
+			}
+		}
 		if r.Agent == o.Agent {
 			h := sha256.New()
 			h.Write(b)

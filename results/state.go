@@ -41,6 +41,10 @@ type StateInfo struct {
 	Table string `json:"table,omitempty"`
 	// Network holds a network learner's parameters.
 	Network *NetworkState `json:"network,omitempty"`
+	// Objective is a tabular learner's objective as labels write it,
+	// omitted for delay (files without it are delay states); a state loads
+	// only into an agent of the same objective.
+	Objective string `json:"objective,omitempty"`
 }
 
 // NetworkState is every node's network: Sizes are the layer widths (input,
@@ -55,10 +59,28 @@ type NetworkState struct {
 }
 
 // QRow is one row of a learned Q table: at node, for destination, through
-// channel (towards neighbour), the estimate value in seconds. confidence
-// is the confidence variant's, best and recovery_rate the predictive
-// variant's (0 otherwise).
+// channel (towards neighbour), the delivery-time estimate value in seconds.
+// confidence is the confidence variant's, best and recovery_rate the
+// predictive variant's for the delivery-time estimate (0 otherwise). loss
+// and utilisation are the estimates of objectives that learn them: the
+// columns are written only for a state whose StateInfo.Objective is set,
+// and read as 0 from a file without them.
 type QRow struct {
+	Node         string  `parquet:"node,dict"`
+	Destination  string  `parquet:"destination,dict"`
+	Neighbour    string  `parquet:"neighbour,dict"`
+	Channel      int     `parquet:"channel"`
+	Value        float64 `parquet:"value"`
+	Confidence   float64 `parquet:"confidence"`
+	Best         float64 `parquet:"best"`
+	RecoveryRate float64 `parquet:"recovery_rate"`
+	Loss         float64 `parquet:"loss"`
+	Utilisation  float64 `parquet:"utilisation"`
+}
+
+// qRowDelay is QRow without the loss and utilisation columns: the layout
+// of a delay state's table, unchanged from earlier versions.
+type qRowDelay struct {
 	Node         string  `parquet:"node,dict"`
 	Destination  string  `parquet:"destination,dict"`
 	Neighbour    string  `parquet:"neighbour,dict"`
@@ -95,7 +117,15 @@ func writeState(dir string, s *LearnedState) error {
 	if info.Network == nil {
 		info.Table = stem + ".qtable.parquet"
 		if err := writeFileAtomic(filepath.Join(sd, info.Table), func(w io.Writer) error {
-			return writeTable(w, s.Q, [][2]string{{KeyTable, tableQ}})
+			kv := [][2]string{{KeyTable, tableQ}}
+			if info.Objective != "" {
+				return writeTable(w, s.Q, kv)
+			}
+			rows := make([]qRowDelay, len(s.Q))
+			for i, q := range s.Q {
+				rows[i] = qRowDelay{q.Node, q.Destination, q.Neighbour, q.Channel, q.Value, q.Confidence, q.Best, q.RecoveryRate}
+			}
+			return writeTable(w, rows, kv)
 		}); err != nil {
 			return err
 		}

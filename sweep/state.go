@@ -18,7 +18,7 @@ func learnedState(r *experiments.Run, net *sim.Net, a sim.Agent) *results.Learne
 	}
 	ls := &results.LearnedState{Info: results.StateInfo{
 		Experiment: r.Dims.Experiment, RunID: r.Dims.RunID, RunIndex: r.Dims.Index, Agent: r.Dims.Agent,
-		Kind: st.Kind, Variant: st.Variant, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure,
+		Kind: st.Kind, Variant: st.Variant, Objective: st.Objective, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure,
 		Replicate: r.Dims.Replicate, TopologyKey: net.Graph.Key(),
 	}}
 	if st.Kind == agents.QNetworkKind {
@@ -28,7 +28,8 @@ func learnedState(r *experiments.Run, net *sim.Net, a sim.Agent) *results.Learne
 	ls.Q = make([]results.QRow, len(st.Q))
 	for i, e := range st.Q {
 		ls.Q[i] = results.QRow{Node: net.Name(e.Node), Destination: net.Name(e.Destination), Neighbour: net.Name(e.Neighbour),
-			Channel: e.Channel, Value: e.Value, Confidence: e.Confidence, Best: e.Best, RecoveryRate: e.Rate}
+			Channel: e.Channel, Value: e.Value, Confidence: e.Confidence, Best: e.Best, RecoveryRate: e.Rate,
+			Loss: e.Loss, Utilisation: e.Utilisation}
 	}
 	return ls
 }
@@ -42,7 +43,7 @@ func startFrom(path string, net *sim.Net, a sim.Agent) error {
 	if info.TopologyKey != net.Graph.Key() {
 		return fmt.Errorf("sweep: %s was learned on another topology (%s)", path, info.Topology)
 	}
-	st := &agents.State{Kind: info.Kind, Variant: info.Variant}
+	st := &agents.State{Kind: info.Kind, Variant: info.Variant, Objective: info.Objective}
 	if n := info.Network; n != nil {
 		st.Sizes, st.Params, st.Target = n.Sizes, n.Params, n.Target
 	} else {
@@ -60,7 +61,7 @@ func startFrom(path string, net *sim.Net, a sim.Agent) error {
 				return fmt.Errorf("sweep: %s: row %d names a node the topology lacks", path, i)
 			}
 			st.Q[i] = agents.QEntry{Node: v, Destination: d, Neighbour: y, Channel: q.Channel, Value: q.Value,
-				Confidence: q.Confidence, Best: q.Best, Rate: q.RecoveryRate}
+				Confidence: q.Confidence, Best: q.Best, Rate: q.RecoveryRate, Loss: q.Loss, Utilisation: q.Utilisation}
 		}
 	}
 	if err := agents.StartFrom(a, st); err != nil {

@@ -113,3 +113,58 @@ func TestTrainThenStartFrom(t *testing.T) {
 		}
 	}
 }
+
+// A state learned under objective mix carries its loss and utilisation
+// tables: the Q table has them (utilisation estimates > 0 on a loaded
+// ring), a frozen run of the same objective starts from it, and a
+// start_from whose objective differs is refused at start_from with exit
+// status 2, writing nothing.
+func TestStartFromObjective(t *testing.T) {
+	dir := t.TempDir()
+	write := func(name, body string) string {
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	const mixAgent = "{kind: q-routing, variant: dual, objective: {mix: {delay: 1, loss: 5, utilisation: 1}}"
+	body := func(name, agent string) string {
+		return "name: " + name + "\nduration: 10s\nwarmup: 1s\nbin: 1s\nseed: 3\ntopologies: [{name: ring, nodes: 6}]\n" +
+			"traffic: {matrix: uniform, loads: [0.5]}\nagents:\n  - " + agent + "\n"
+	}
+	trained := filepath.Join(dir, "trained")
+	hop(t, 0, "run", write("train.yaml", body("train", mixAgent+", label: trainee}")), "--out", trained, "--quiet")
+	states, err := results.ReadStates(trained)
+	if err != nil || len(states) != 1 {
+		t.Fatalf("%d state files (%v), want 1", len(states), err)
+	}
+	s := states[0]
+	if s.Objective != "mix/delay=1/loss=5/utilisation=1" {
+		t.Errorf("state objective %q, want mix/delay=1/loss=5/utilisation=1", s.Objective)
+	}
+	rows, err := results.ReadQTable(results.StatePath(trained, s.RunID), s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	busy := 0
+	for _, r := range rows {
+		if r.Utilisation > 0 {
+			busy++
+		}
+	}
+	if busy == 0 {
+		t.Errorf("no utilisation estimate above 0 in %d rows", len(rows))
+	}
+	hop(t, 0, "run", write("test.yaml", body("test", mixAgent+", learning: frozen, start_from: {results: trained, agent: trainee}}")),
+		"--out", filepath.Join(dir, "tested"), "--quiet")
+	out := filepath.Join(dir, "out-other")
+	_, errb := hop(t, 2, "run", write("other.yaml", body("other", "{kind: q-routing, variant: dual, objective: loss, start_from: {results: trained, agent: trainee}}")), "--out", out)
+	want := `other.yaml:9:67: agents[0].start_from: "trained" holds states of agent "trainee" learned under objective mix/delay=1/loss=5/utilisation=1, not loss`
+	if !strings.Contains(errb, want) {
+		t.Errorf("stderr %q, want %q", errb, want)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("%s was created", out)
+	}
+}
