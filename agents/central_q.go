@@ -3,6 +3,7 @@ package agents
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 
 	"hoplore/sim"
 )
@@ -96,6 +97,40 @@ const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, an
 // yet, it falls back to zero-load shortest paths over the channels up in the
 // installed snapshot. Each pair whose chosen path changes counts one route
 // change (the next hop changes at the source).
+//
+// Under pin: flow (Params.Pin PinFlow) a flow of flow traffic keeps the
+// path it started on, so the natural reward of that choice is the flow's
+// own outcome (sim.FlowWatcher), and per-interval rewards would credit the
+// flow's packets to whatever choice is installed while they travel. With
+// objective delay, loss or mix the controller then learns flows apart:
+//
+//   - one more Q-learner per pair and flow size class (mice, medium,
+//     elephant: the sender declares a flow's size at its start,
+//     sim.ControlView.Flow), over the same states and candidates, its rows
+//     created at slowdown 1 on every candidate (Q = −1/(1 − discount); mix
+//     −w_delay/(1 − discount); loss 0), ties going to the shorter
+//     candidate; each interval it chooses a candidate for the flows of its
+//     class that start until the next install;
+//   - a flow follows the candidate installed for its pair and class when
+//     its first packet left (every packet of it is given that path);
+//   - when the flow ends, its reward updates Q(s,a) of the state and action
+//     of that choice, bootstrapped on the pair's latest state:
+//     Q(s,a) += learning_rate·(r + discount·max_a' Q(s_now,a') − Q(s,a)),
+//     with r by objective: delay r = −slowdown (completion time over the
+//     idle-network time, sim.FlowEnd.Slowdown), a failed flow −DropPenalty
+//     ÷ the pair's zero-load path time (the shortest candidate's: a drop
+//     costs DropPenalty of delivery time, in units of that time); loss
+//     r = −1 for a failed flow, 0 for a completed one; mix r =
+//     −(w_delay·slowdown + w_loss·[failed] + w_util·bottleneck utilisation
+//     of the flow's path in the last interval), the delay term left out for
+//     a failed flow;
+//   - the per-interval reward of the pair's first learner counts only the
+//     packets outside flows (Snapshot.PairFlow* taken off the pair's
+//     counters); pairs without packet traffic leave it untouched.
+//
+// Objective utilisation measures channels, not flows: under pin: flow it
+// keeps the per-interval reward over all packets and one learner per
+// pair, a flow following the choice installed at its start.
 type CentralQ struct {
 	p   Params
 	v   *sim.ControlView
@@ -110,9 +145,15 @@ type CentralQ struct {
 	prevTaken sim.Time
 
 	pairs []*cqPair // [s*n+d], nil until the pair has traffic
+	// nl is the number of learners per pair: 1, or 1 + sim.NumFlowClasses
+	// when flows learn from their outcomes (flowLearn)
+	nl        int
+	flowLearn bool
+	flows     []cqFlow // by flow slot (sim.Packet.FlowSlot), with flowLearn
 
 	// installed
-	choice []int8  // [s*n+d] candidate index, -1 = shortest-path fallback
+	choice []int8  // [(s*n+d)*nl + k] candidate index of learner k, -1 = shortest-path fallback
+	rows   []int32 // [(s*n+d)*nl + k] the state row each installed choice was made in
 	up     []bool  // per channel, from the installed snapshot
 	spNext []int32 // fallback next hops [u*n+d]
 
@@ -125,34 +166,56 @@ type CentralQ struct {
 }
 
 type cqPair struct {
-	cands   []path
-	states  map[uint64]int32 // state key -> row
-	q       []float64        // rows × len(cands)
-	row     int32            // last state's row, -1 before the first decision
-	action  int8
+	cands  []path
+	states map[uint64]int32 // state key -> row
+	// ls[0] learns from the packets outside flows (from all packets without
+	// flowLearn), ls[1+c] from the flows of size class c
+	ls      []cqLearner
+	cur     int32  // the latest state's row
+	ok      []bool // the candidates usable in the latest state
 	del     int64
 	delay   float64
 	dropped int64
 }
 
+// cqLearner is one Q-table over a pair's states and candidates.
+type cqLearner struct {
+	q      []float64 // rows × len(cands)
+	row    int32     // last state's row, -1 before the first decision
+	action int8
+}
+
+// cqFlow is the choice a flow in progress started on.
+type cqFlow struct {
+	pair int32
+	k    int8 // learner
+	act  int8 // candidate, -1: none (the shortest-path fallback)
+	row  int32
+}
+
 type cqPending struct {
 	choice []int8
+	rows   []int32
 	up     []bool
 	spNext []int32
 }
 
 var (
-	_ sim.Central = (*CentralQ)(nil)
-	_ sim.Timed   = (*CentralQ)(nil)
+	_ sim.Central     = (*CentralQ)(nil)
+	_ sim.Timed       = (*CentralQ)(nil)
+	_ sim.FlowWatcher = (*CentralQ)(nil)
 )
 
 func newCentralQ(p Params, net *sim.Net) (sim.Agent, error) {
 	n := net.NumNodes()
 	nc := len(net.Channels)
 	a := &CentralQ{p: p, net: net, n: n, k: p.K, pf: newPathFinder(net), zl: zeroLoadCosts(net, p.packetBytes()),
-		util: make([]float64, nc), prevBusy: make([]sim.Time, nc),
-		pairs: make([]*cqPair, n*n), choice: make([]int8, n*n), up: make([]bool, nc),
-		usable: make([]bool, nc), dist: make([]float64, n), col: make([]int32, n)}
+		util: make([]float64, nc), prevBusy: make([]sim.Time, nc), pairs: make([]*cqPair, n*n), nl: 1,
+		up: make([]bool, nc), usable: make([]bool, nc), dist: make([]float64, n), col: make([]int32, n)}
+	if p.Pin == PinFlow && p.Objective.Name != ObjectiveUtilisation {
+		a.flowLearn, a.nl = true, 1+int(sim.NumFlowClasses)
+	}
+	a.choice, a.rows = make([]int8, n*n*a.nl), make([]int32, n*n*a.nl)
 	for i := range a.choice {
 		a.choice[i] = -1
 	}
@@ -186,11 +249,15 @@ func (a *CentralQ) fallback(usable []bool) []int32 {
 }
 
 // Route follows the packet's source route, set at its source from the
-// installed choice. Cost: O(1), no allocation.
+// installed choice (a flow's packets, with flowLearn: from the choice its
+// first packet found). Cost: O(1), no allocation but when the flows in
+// progress reach a new peak.
 func (a *CentralQ) Route(node int, p *sim.Packet) int {
 	if node == p.Src && p.Hops == 0 {
 		i := node*a.n + p.Dst
-		if ch := a.choice[i]; ch >= 0 {
+		if slot := p.FlowSlot(); a.flowLearn && slot >= 0 {
+			a.flowRoute(i, slot, p)
+		} else if ch := a.choice[i*a.nl]; ch >= 0 {
 			p.Route = a.pairs[i].cands[ch].chans
 			p.RouteStep = 0
 		}
@@ -206,6 +273,97 @@ func (a *CentralQ) Route(node int, p *sim.Packet) int {
 		p.Route = nil // off the path or blocked: shortest path from here on
 	}
 	return int(a.spNext[node*a.n+p.Dst])
+}
+
+// flowRoute gives packet p of the flow in slot, of pair i, its path at the
+// source: the first packet records the choice installed for the pair and
+// the flow's size class, the others follow it.
+func (a *CentralQ) flowRoute(i, slot int, p *sim.Packet) {
+	if p.Seq == 0 {
+		for slot >= len(a.flows) {
+			a.flows = append(a.flows, cqFlow{act: -1})
+		}
+		_, class, _ := a.v.Flow(p)
+		k := 1 + int(class)
+		a.flows[slot] = cqFlow{pair: int32(i), k: int8(k), act: a.choice[i*a.nl+k], row: a.rows[i*a.nl+k]}
+	}
+	if f := &a.flows[slot]; f.act >= 0 {
+		p.Route = a.pairs[i].cands[f.act].chans
+		p.RouteStep = 0
+	}
+}
+
+// FlowEnded credits a flow's outcome to the choice it started on (see
+// CentralQ); without flowLearn it does nothing.
+func (a *CentralQ) FlowEnded(f *sim.FlowEnd) {
+	if !a.flowLearn || f.Slot >= len(a.flows) {
+		return
+	}
+	fl := &a.flows[f.Slot]
+	if fl.act < 0 {
+		return
+	}
+	pr := a.pairs[fl.pair]
+	l := &pr.ls[fl.k]
+	nc := len(pr.cands)
+	best := math.Inf(-1)
+	for j := 0; j < nc; j++ {
+		if pr.ok[j] && l.q[int(pr.cur)*nc+j] > best {
+			best = l.q[int(pr.cur)*nc+j]
+		}
+	}
+	if math.IsInf(best, -1) {
+		best = 0
+	}
+	qi := int(fl.row)*nc + int(fl.act)
+	l.q[qi] += a.p.LearningRate * (a.flowReward(pr, fl.act, f) + a.p.Discount*best - l.q[qi])
+	fl.act = -1
+}
+
+// flowReward returns the reward of flow f, started on candidate act of
+// pair pr, by objective (see CentralQ).
+func (a *CentralQ) flowReward(pr *cqPair, act int8, f *sim.FlowEnd) float64 {
+	failed := f.Outcome != sim.FlowCompleted
+	slowdown := func() float64 {
+		if sd := f.Slowdown(); !math.IsNaN(sd) {
+			return sd
+		}
+		return f.FCT() / pr.cands[0].cost // no idle-network time: the zero-load path time instead
+	}
+	switch a.p.Objective.Name {
+	case ObjectiveLoss:
+		if failed {
+			return -1
+		}
+		return 0
+	case ObjectiveMix:
+		w := a.p.Objective.Mix
+		r := 0.0
+		switch {
+		case failed:
+			r -= w.Loss
+		case w.Delay > 0:
+			r -= w.Delay * slowdown()
+		}
+		if w.Utilisation > 0 {
+			r -= w.Utilisation * a.bottleneck(pr.cands[act])
+		}
+		return r
+	}
+	if failed {
+		return -a.p.DropPenalty.Seconds() / pr.cands[0].cost
+	}
+	return -slowdown()
+}
+
+// bottleneck returns the largest utilisation of p's channels in the last
+// interval.
+func (a *CentralQ) bottleneck(p path) float64 {
+	u := 0.0
+	for _, c := range p.chans {
+		u = math.Max(u, a.util[c])
+	}
+	return u
 }
 
 // Timer requests snapshots and installs choices.
@@ -226,7 +384,7 @@ func (a *CentralQ) Timer(tag int) {
 				changes++
 			}
 		}
-		a.choice, a.up, a.spNext = pd.choice, pd.up, pd.spNext
+		a.choice, a.rows, a.up, a.spNext = pd.choice, pd.rows, pd.up, pd.spNext
 		if changes > 0 {
 			a.v.CountRouteChanges(changes)
 		}
@@ -238,18 +396,14 @@ func (a *CentralQ) Timer(tag int) {
 // shortest candidate's) + w_loss·drop fraction + w_util·bottleneck
 // utilisation of the chosen path); the delay term is left out when nothing
 // was delivered (the loss term then carries the interval).
-func (a *CentralQ) mixReward(pr *cqPair, del, drop int64, delay float64) float64 {
+func (a *CentralQ) mixReward(pr *cqPair, action int8, del, drop int64, delay float64) float64 {
 	w := a.p.Objective.Mix
 	r := -w.Loss * float64(drop) / float64(del+drop)
 	if del > 0 && w.Delay > 0 {
 		r -= w.Delay * delay / float64(del) / pr.cands[0].cost
 	}
 	if w.Utilisation > 0 {
-		u := 0.0
-		for _, c := range pr.cands[pr.action].chans {
-			u = math.Max(u, a.util[c])
-		}
-		r -= w.Utilisation * u
+		r -= w.Utilisation * a.bottleneck(pr.cands[action])
 	}
 	return r
 }
@@ -288,25 +442,41 @@ func (a *CentralQ) state(pr *cqPair, ok []bool) uint64 {
 	return key
 }
 
-// rowOf returns the Q row of state key, creating it at the zero-load prior.
+// rowOf returns the Q row of state key, creating it at the zero-load prior
+// in every learner of the pair.
 func (a *CentralQ) rowOf(pr *cqPair, key uint64) int32 {
 	if r, ok := pr.states[key]; ok {
 		return r
 	}
 	r := int32(len(pr.states))
 	pr.states[key] = r
-	for _, c := range pr.cands {
-		if a.p.Objective.Name == ObjectiveMix {
-			// the delay term's zero-load prior; none on loss or utilisation
-			pr.q = append(pr.q, -a.p.Objective.Mix.Delay*c.cost/pr.cands[0].cost/(1-a.p.Discount))
-			continue
+	for k := range pr.ls {
+		l := &pr.ls[k]
+		for _, c := range pr.cands {
+			if k > 0 {
+				// flows: slowdown 1 on every candidate (loss: none), ties to the shorter
+				switch a.p.Objective.Name {
+				case ObjectiveMix:
+					l.q = append(l.q, -a.p.Objective.Mix.Delay/(1-a.p.Discount))
+				case ObjectiveLoss:
+					l.q = append(l.q, 0)
+				default:
+					l.q = append(l.q, -1/(1-a.p.Discount))
+				}
+				continue
+			}
+			if a.p.Objective.Name == ObjectiveMix {
+				// the delay term's zero-load prior; none on loss or utilisation
+				l.q = append(l.q, -a.p.Objective.Mix.Delay*c.cost/pr.cands[0].cost/(1-a.p.Discount))
+				continue
+			}
+			if a.p.Objective.Name == ObjectiveLoss || a.p.Objective.Name == ObjectiveUtilisation {
+				// no prior on loss or utilisation: ties go to the shorter candidate
+				l.q = append(l.q, 0)
+				continue
+			}
+			l.q = append(l.q, -c.cost/(1-a.p.Discount))
 		}
-		if a.p.Objective.Name == ObjectiveLoss || a.p.Objective.Name == ObjectiveUtilisation {
-			// no prior on loss or utilisation: ties go to the shorter candidate
-			pr.q = append(pr.q, 0)
-			continue
-		}
-		pr.q = append(pr.q, -c.cost/(1-a.p.Discount))
 	}
 	return r
 }
@@ -324,6 +494,7 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 	}
 	a.prevTaken = s.Taken
 	choice := append([]int8(nil), a.choice...)
+	rows := append([]int32(nil), a.rows...)
 	ok := make([]bool, a.k)
 	rng := a.v.Rand()
 	for i := range a.pairs {
@@ -341,80 +512,99 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 			if len(cands) == 0 {
 				continue
 			}
-			pr = &cqPair{cands: cands, states: map[uint64]int32{}, row: -1}
+			pr = &cqPair{cands: cands, states: map[uint64]int32{}, ls: make([]cqLearner, a.nl), ok: make([]bool, len(cands))}
+			for k := range pr.ls {
+				pr.ls[k].row = -1
+			}
 			a.pairs[i] = pr
+		}
+		if a.flowLearn && s.PairFlowDelivered != nil {
+			// flows learn from their outcomes: the interval's are the other packets'
+			del, delay, drop = del-s.PairFlowDelivered[i], delay-s.PairFlowDelay[i], drop-s.PairFlowDropped[i]
 		}
 		dDel, dDelay, dDrop := del-pr.del, delay-pr.delay, drop-pr.dropped
 		pr.del, pr.delay, pr.dropped = del, delay, drop
 		key := a.state(pr, ok[:len(pr.cands)])
 		row := a.rowOf(pr, key)
+		pr.cur = row
+		copy(pr.ok, ok)
 		nc := len(pr.cands)
-		if pr.row >= 0 && dDel+dDrop > 0 {
-			r := 0.0
-			switch a.p.Objective.Name {
-			case ObjectiveMix:
-				r = a.mixReward(pr, dDel, dDrop, dDelay)
-			case ObjectiveLoss:
-				r = -float64(dDrop) / float64(dDel+dDrop)
-			case ObjectiveUtilisation:
-				for _, c := range pr.cands[pr.action].chans {
-					r = math.Min(r, -a.util[c])
+		for k := range pr.ls {
+			l := &pr.ls[k]
+			if k == 0 && l.row >= 0 && dDel+dDrop > 0 {
+				r := 0.0
+				switch a.p.Objective.Name {
+				case ObjectiveMix:
+					r = a.mixReward(pr, l.action, dDel, dDrop, dDelay)
+				case ObjectiveLoss:
+					r = -float64(dDrop) / float64(dDel+dDrop)
+				case ObjectiveUtilisation:
+					r = -a.bottleneck(pr.cands[l.action])
+				default:
+					if dDel > 0 {
+						r -= dDelay / float64(dDel)
+					}
+					r -= a.p.DropPenalty.Seconds() * float64(dDrop) / float64(dDel+dDrop)
 				}
-			default:
-				if dDel > 0 {
-					r -= dDelay / float64(dDel)
-				}
-				r -= a.p.DropPenalty.Seconds() * float64(dDrop) / float64(dDel+dDrop)
-			}
-			best := math.Inf(-1)
-			for j := 0; j < nc; j++ {
-				if ok[j] && pr.q[int(row)*nc+j] > best {
-					best = pr.q[int(row)*nc+j]
-				}
-			}
-			if math.IsInf(best, -1) {
-				best = 0
-			}
-			qi := int(pr.row)*nc + int(pr.action)
-			pr.q[qi] += a.p.LearningRate * (r + a.p.Discount*best - pr.q[qi])
-		}
-		// choose
-		act := -1
-		if a.p.Explore > 0 && rng.Float64() < a.p.Explore {
-			n := 0
-			for j := 0; j < nc; j++ {
-				if ok[j] {
-					n++
-				}
-			}
-			if n > 0 {
-				x := rng.IntN(n)
+				best := math.Inf(-1)
 				for j := 0; j < nc; j++ {
-					if ok[j] {
-						if x == 0 {
-							act = j
-							break
-						}
-						x--
+					if ok[j] && l.q[int(row)*nc+j] > best {
+						best = l.q[int(row)*nc+j]
 					}
 				}
+				if math.IsInf(best, -1) {
+					best = 0
+				}
+				qi := int(l.row)*nc + int(l.action)
+				l.q[qi] += a.p.LearningRate * (r + a.p.Discount*best - l.q[qi])
 			}
-		} else {
+			act := a.choose(l, row, ok[:nc], rng)
+			ci := i*a.nl + k
+			if act < 0 {
+				choice[ci] = -1
+				l.row = -1
+				continue
+			}
+			choice[ci], rows[ci] = int8(act), row
+			l.row, l.action = row, int8(act)
+		}
+	}
+	up := append([]bool(nil), a.usable...)
+	a.pending = append(a.pending, cqPending{choice: choice, rows: rows, up: up, spNext: a.fallback(up)})
+	a.v.After(a.p.ControlDelay, tagInstall)
+}
+
+// choose returns learner l's candidate in state row: ε-greedy (Explore)
+// among the usable ones (ok), ties to the shorter candidate; −1 when none
+// is usable.
+func (a *CentralQ) choose(l *cqLearner, row int32, ok []bool, rng *rand.Rand) int {
+	nc := len(ok)
+	act := -1
+	if a.p.Explore > 0 && rng.Float64() < a.p.Explore {
+		n := 0
+		for j := 0; j < nc; j++ {
+			if ok[j] {
+				n++
+			}
+		}
+		if n > 0 {
+			x := rng.IntN(n)
 			for j := 0; j < nc; j++ {
-				if ok[j] && (act < 0 || pr.q[int(row)*nc+j] > pr.q[int(row)*nc+act]) {
-					act = j
+				if ok[j] {
+					if x == 0 {
+						act = j
+						break
+					}
+					x--
 				}
 			}
 		}
-		if act < 0 {
-			choice[i] = -1
-			pr.row = -1
-			continue
-		}
-		choice[i] = int8(act)
-		pr.row, pr.action = row, int8(act)
+		return act
 	}
-	up := append([]bool(nil), a.usable...)
-	a.pending = append(a.pending, cqPending{choice: choice, up: up, spNext: a.fallback(up)})
-	a.v.After(a.p.ControlDelay, tagInstall)
+	for j := 0; j < nc; j++ {
+		if ok[j] && (act < 0 || l.q[int(row)*nc+j] > l.q[int(row)*nc+act]) {
+			act = j
+		}
+	}
+	return act
 }

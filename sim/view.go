@@ -133,6 +133,18 @@ func (v *ControlView) Request() { v.e.requestSnapshot() }
 // Result.RouteChanges).
 func (v *ControlView) CountRouteChanges(n int) { v.e.countRouteChanges(n) }
 
+// Flow returns the size in bytes and the size class of the flow of flow
+// traffic packet p belongs to, and false for packet traffic: what a sender
+// declares when a transfer starts, as size-aware schedulers assume. Cost:
+// O(1), no allocation.
+func (v *ControlView) Flow(p *Packet) (size int64, class FlowClass, ok bool) {
+	if p.fl == 0 {
+		return 0, 0, false
+	}
+	f := &v.e.fl[p.fl-1]
+	return f.size, f.class, true
+}
+
 // Snapshot is global telemetry at one instant. Cumulative counters run from
 // the start of the run; take differences between snapshots for rates.
 type Snapshot struct {
