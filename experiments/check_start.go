@@ -3,7 +3,8 @@ package experiments
 import (
 	"crypto/sha256"
 	"encoding/hex"
-	"encoding/json"
+	"errors"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"slices"
@@ -13,28 +14,26 @@ import (
 	"github.com/goccy/go-yaml/ast"
 
 	"hoplore/agents"
+	"hoplore/internal/statefile"
 	"hoplore/internal/yamlx"
 )
 
 // LearnedState is a training run's state file that an agent's start_from
-// may load: what the checker reads of it (the layout is
-// results.StateInfo's, written by `hoplore run`) and a digest of its
-// contents, so that the experiment's hash changes with the training.
+// may load: what the checker keeps of it (the layout is package
+// statefile's, written by `hoplore run`) and a digest of its contents, so
+// that the experiment's hash changes with the training.
 type LearnedState struct {
 	path      string
-	Digest    string `json:"-"` // hex SHA-256 of the state file and its Q table
-	Format    string `json:"format"`
-	Agent     string `json:"agent"`
-	Topology  string `json:"topology"`
-	Key       string `json:"topology_key"`
-	Replicate int    `json:"replicate"`
-	RunIndex  int    `json:"run_index"`
-	Table     string `json:"table"`
-	Objective string `json:"objective"` // a tabular learner's, "" for delay
+	Digest    string // hex SHA-256 of the state file and its Q table
+	Format    string
+	Agent     string
+	Topology  string
+	Key       string // the topology key
+	Replicate int
+	RunIndex  int
+	Table     string
+	Objective string // a tabular learner's, "" for delay
 }
-
-// stateFormat is results.StateFormat.
-const stateFormat = "hoplore-state-1"
 
 // startFromYAML is an agent's start_from: {results: DIR, agent: LABEL}.
 type startFromYAML struct {
@@ -71,10 +70,14 @@ func (c *checker) startStates(i int, ap *agents.Params, at yamlx.Pos) ([]Learned
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return nil, c.errf(at, "agents[%d].start_from.results: %q is not a result folder", i, o.Results)
 	}
-	sd := filepath.Join(dir, "state")
+	sd := filepath.Join(dir, statefile.Dir)
 	ents, err := os.ReadDir(sd)
 	if err != nil {
 		return nil, c.errf(at, "agents[%d].start_from.results: %q holds no learned state (no state folder: was it written by hoplore run with a learning agent?)", i, o.Results)
+	}
+	hash, err := statefile.FolderHash(dir)
+	if err != nil {
+		return nil, c.errf(at, "agents[%d].start_from.results: %q is not a result folder (%v)", i, o.Results, err)
 	}
 	var refs []LearnedState
 	labels := map[string]bool{}
@@ -84,33 +87,37 @@ func (c *checker) startStates(i int, ap *agents.Params, at yamlx.Pos) ([]Learned
 			continue
 		}
 		p := filepath.Join(sd, name)
-		b, err := os.ReadFile(p)
-		if err != nil {
+		info, b, err := statefile.Read(p)
+		if errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission) {
 			return nil, c.errf(at, "agents[%d].start_from: cannot read %s: %v", i, p, err)
-		}
-		r := LearnedState{path: p}
-		if err := json.Unmarshal(b, &r); err != nil || r.Format != stateFormat {
+		} else if err != nil {
 			return nil, c.errf(at, "agents[%d].start_from: %s is not a state file of this version", i, p)
 		}
-		labels[r.Agent] = true
-		if r.Agent == o.Agent && ap.Kind == agents.QRoutingKind {
-			if got, want := agents.ObjectiveLabel(r.Objective), ap.Objective.String(); got != want {
+		labels[info.Agent] = true
+		if info.Agent != o.Agent {
+			continue
+		}
+		if ap.Kind == agents.QRoutingKind {
+			if got, want := agents.ObjectiveLabel(info.Objective), ap.Objective.String(); got != want {
 				return nil, c.errf(at, "agents[%d].start_from: %q holds states of agent %q learned under objective %s, not %s", i, o.Results, o.Agent, got, want)
 			}
 		}
-		if r.Agent == o.Agent {
-			h := sha256.New()
-			h.Write(b)
-			if r.Table != "" {
-				tb, err := os.ReadFile(filepath.Join(sd, filepath.Base(r.Table)))
-				if err != nil {
-					return nil, c.errf(at, "agents[%d].start_from: cannot read the Q table of %s: %v", i, p, err)
-				}
-				h.Write(tb)
-			}
-			r.Digest = hex.EncodeToString(h.Sum(nil))
-			refs = append(refs, r)
+		if err := statefile.Check(p, info, hash); err != nil {
+			return nil, c.errf(at, "agents[%d].start_from: %v", i, err)
 		}
+		r := LearnedState{path: p, Format: info.Format, Agent: info.Agent, Topology: info.Topology, Key: info.TopologyKey,
+			Replicate: info.Replicate, RunIndex: info.RunIndex, Table: info.Table, Objective: info.Objective}
+		h := sha256.New()
+		h.Write(b)
+		if tp := statefile.TablePath(p, info); tp != "" {
+			tb, err := os.ReadFile(tp)
+			if err != nil {
+				return nil, c.errf(at, "agents[%d].start_from: cannot read the Q table of %s: %v", i, p, err)
+			}
+			h.Write(tb)
+		}
+		r.Digest = hex.EncodeToString(h.Sum(nil))
+		refs = append(refs, r)
 	}
 	if len(refs) == 0 {
 		have := make([]string, 0, len(labels))

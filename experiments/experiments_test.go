@@ -452,6 +452,25 @@ func TestEstimateEvents(t *testing.T) {
 	}
 }
 
+// TestEstimateEventsPerCell: the experiment's estimate, taken once per cell
+// and counted per replicate, is the sum of every run's estimate (the
+// bundled experiments and the examples, random failures included).
+func TestEstimateEventsPerCell(t *testing.T) {
+	for _, name := range []string{"demo", "link-failure", "load-sweep", "../examples/every-failure.yaml", "../examples/measured-day.yaml", "../testdata/tiny.yaml"} {
+		e, err := Resolve(name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var sum float64
+		for _, r := range e.Runs() {
+			sum += r.EstimateEvents()
+		}
+		if got := e.EstimateEvents(); math.Abs(got-sum) > 1e-12*sum {
+			t.Errorf("%s: EstimateEvents() = %g, sum over the runs %g", name, got, sum)
+		}
+	}
+}
+
 func FuzzParse(f *testing.F) {
 	for _, glob := range []string{"testdata/bad/*.yaml", "../examples/*.yaml"} {
 		files, _ := filepath.Glob(glob)

@@ -485,11 +485,15 @@ func (r *Run) EstimateEvents() float64 {
 	return events
 }
 
-// EstimateEvents returns the sum of EstimateEvents over all runs.
+// EstimateEvents returns the sum of EstimateEvents over all runs. The
+// replicates of a cell, consecutive in Runs, share their estimate (it
+// depends on the cell, not on the seed), so it is taken once per cell.
 func (e *Experiment) EstimateEvents() float64 {
+	runs := e.Runs()
+	step := max(e.Replicates, 1)
 	s := 0.0
-	for _, r := range e.Runs() {
-		s += r.EstimateEvents()
+	for i := 0; i < len(runs); i += step {
+		s += float64(min(step, len(runs)-i)) * runs[i].EstimateEvents()
 	}
 	return s
 }

@@ -11,11 +11,14 @@ import (
 	"reflect"
 	"slices"
 	"sync"
+
+	"hoplore/internal/statefile"
 )
 
 // MarkFile is the marker, in a result folder, naming the experiment whose
-// results the folder holds (JSON of Meta).
-const MarkFile = "experiment.json"
+// results the folder holds (JSON of Meta; statefile.FolderHash reads its
+// hash).
+const MarkFile = statefile.MarkFile
 
 // ErrOtherExperiment is wrapped by the errors that refuse to mix the results
 // of different experiments in one folder.

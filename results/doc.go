@@ -14,7 +14,9 @@
 //	                      traffic only (FlowRow)
 //	summary.parquet       one row per cell                 (SummaryRow)
 //	state/<run_id>.json   a learning run's final state (StateInfo), with
-//	state/<run_id>.qtable.parquet  its Q table (QRow) for a tabular learner
+//	state/<run_id>.qtable.parquet  its Q table (QRow) for a tabular learner;
+//	                      both carry the experiment hash (layout: package
+//	                      statefile, which experiments reads too)
 //
 // # Schema
 //

@@ -11,6 +11,7 @@ import (
 	"github.com/parquet-go/parquet-go/compress/zstd"
 
 	"hoplore/internal/atomicfile"
+	"hoplore/internal/statefile"
 )
 
 // Meta describes the experiment a result folder belongs to. Every table file
@@ -29,7 +30,7 @@ type Meta struct {
 const (
 	KeyVersion        = "hoplore.version"
 	KeyExperiment     = "hoplore.experiment"
-	KeyExperimentHash = "hoplore.experiment_hash"
+	KeyExperimentHash = statefile.KeyExperimentHash
 	KeyTable          = "hoplore.table" // runs, series, links, recoveries, summary, or another table's name
 )
 

@@ -59,7 +59,7 @@ func WritePart(dir string, t *RunTables) error {
 	}
 	if t.State != nil {
 		// before the part: a finished run has its state
-		if err := writeState(dir, t.State); err != nil {
+		if err := writeState(dir, t.State, t.Run.Version); err != nil {
 			return err
 		}
 	}

@@ -9,54 +9,26 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+
+	"hoplore/internal/statefile"
 )
 
 // StateDir is the folder, inside a result folder, that holds the final
 // state of every learning run: DIR/state/<run_id>.json (StateInfo) and, for
 // a tabular learner, DIR/state/<run_id>.qtable.parquet (QRow). Run ids are
-// escaped as in parts.
-const StateDir = "state"
+// escaped as in parts. The layout is package statefile's.
+const StateDir = statefile.Dir
 
 // StateFormat names the layout of the state files this version writes.
-const StateFormat = "hoplore-state-1"
+const StateFormat = statefile.Format
 
-// StateInfo is a learning run's state file, JSON: which run it ended, on
-// which topology, and for a network learner the parameters themselves.
-type StateInfo struct {
-	Format     string  `json:"format"` // StateFormat
-	Experiment string  `json:"experiment"`
-	RunID      string  `json:"run_id"`
-	RunIndex   int     `json:"run_index"` // position in the training's grid
-	Agent      string  `json:"agent"`     // the agent column's value
-	Kind       string  `json:"kind"`
-	Variant    string  `json:"variant,omitempty"`
-	Topology   string  `json:"topology"`
-	Load       float64 `json:"load"`
-	Failure    string  `json:"failure"`
-	Replicate  int     `json:"replicate"`
-	// TopologyKey identifies the topology's structure (names, links,
-	// capacities, delays, buffers): a state loads only where it matches.
-	TopologyKey string `json:"topology_key"`
-	// Table is the Q table's file name beside this one (tabular learners).
-	Table string `json:"table,omitempty"`
-	// Network holds a network learner's parameters.
-	Network *NetworkState `json:"network,omitempty"`
-	// Objective is a tabular learner's objective as labels write it,
-	// omitted for delay (files without it are delay states); a state loads
-	// only into an agent of the same objective.
-	Objective string `json:"objective,omitempty"`
-}
+// StateInfo is a learning run's state file, JSON: which run it ended, of
+// which experiment (name and hash), on which topology, and for a network
+// learner the parameters themselves (statefile.Info).
+type StateInfo = statefile.Info
 
-// NetworkState is every node's network: Sizes are the layer widths (input,
-// hidden..., 1); Params[v] and Target[v] are node v's online and target
-// parameters, layer by layer, each layer's weights (row-major, output by
-// input) then its biases. Numbers are written in the shortest form that
-// reads back to the same float64.
-type NetworkState struct {
-	Sizes  []int       `json:"sizes"`
-	Params [][]float64 `json:"params"`
-	Target [][]float64 `json:"target"`
-}
+// NetworkState is every node's network (statefile.Network).
+type NetworkState = statefile.Network
 
 // QRow is one row of a learned Q table: at node, for destination, through
 // channel (towards neighbour), the delivery-time estimate value in seconds.
@@ -106,7 +78,9 @@ func StatePath(dir, id string) string {
 
 // writeState stores s under DIR/state: the Q table first, then the JSON
 // file, each atomically, so that a JSON file present means its table is.
-func writeState(dir string, s *LearnedState) error {
+// The Q table's key-value metadata carries the experiment's name and hash
+// (s.Info's) and version, as the result tables do.
+func writeState(dir string, s *LearnedState, version string) error {
 	sd := filepath.Join(dir, StateDir)
 	if err := os.MkdirAll(sd, 0o755); err != nil {
 		return fmt.Errorf("results: %w", err)
@@ -117,7 +91,8 @@ func writeState(dir string, s *LearnedState) error {
 	if info.Network == nil {
 		info.Table = stem + ".qtable.parquet"
 		if err := writeFileAtomic(filepath.Join(sd, info.Table), func(w io.Writer) error {
-			kv := [][2]string{{KeyTable, tableQ}}
+			meta := Meta{Version: version, Experiment: info.Experiment, ExperimentHash: info.ExperimentHash}
+			kv := meta.kv(tableQ)
 			if info.Objective != "" {
 				return writeTable(w, s.Q, kv)
 			}
@@ -169,16 +144,9 @@ func ReadStates(dir string) ([]StateInfo, error) {
 
 // ReadStateInfo reads one state file.
 func ReadStateInfo(path string) (StateInfo, error) {
-	var info StateInfo
-	b, err := os.ReadFile(path)
+	info, _, err := statefile.Read(path)
 	if err != nil {
 		return info, fmt.Errorf("results: %w", err)
-	}
-	if err := json.Unmarshal(b, &info); err != nil {
-		return info, fmt.Errorf("results: %s: %w", path, err)
-	}
-	if info.Format != StateFormat {
-		return info, fmt.Errorf("results: %s: format %q, want %q", path, info.Format, StateFormat)
 	}
 	return info, nil
 }
@@ -203,10 +171,18 @@ func readLearnedState(dir, id string) (*LearnedState, error) {
 	return ls, nil
 }
 
-// ReadQTable reads the Q table of the state file at path (see StateInfo.Table).
+// ReadQTable reads the Q table of the state file at path (see
+// StateInfo.Table); an error when the table's experiment hash is not the
+// state file's.
 func ReadQTable(path string, info StateInfo) ([]QRow, error) {
-	if info.Table == "" {
+	tp := statefile.TablePath(path, info)
+	if tp == "" {
 		return nil, fmt.Errorf("results: %s: no Q table", path)
 	}
-	return readTable[QRow](filepath.Join(filepath.Dir(path), info.Table), tableQ)
+	if h, err := statefile.TableHash(tp); err != nil {
+		return nil, fmt.Errorf("results: %w", err)
+	} else if h != info.ExperimentHash {
+		return nil, fmt.Errorf("results: %s: Q table of experiment hash %q, its state file has %q: %w", tp, h, info.ExperimentHash, statefile.ErrOtherExperiment)
+	}
+	return readTable[QRow](tp, tableQ)
 }

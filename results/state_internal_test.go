@@ -26,7 +26,7 @@ func TestStateTableLayouts(t *testing.T) {
 			in[0].Loss, in[0].Utilisation = 0.28, 0.32
 		}
 		ls := &LearnedState{Info: StateInfo{RunID: "r1", Agent: "q", Kind: "q-routing", Variant: "plain", Objective: objective}, Q: in}
-		if err := writeState(dir, ls); err != nil {
+		if err := writeState(dir, ls, "test"); err != nil {
 			t.Fatal(err)
 		}
 		got, err := readLearnedState(dir, "r1")

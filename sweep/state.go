@@ -2,9 +2,11 @@ package sweep
 
 import (
 	"fmt"
+	"path/filepath"
 
 	"hoplore/agents"
 	"hoplore/experiments"
+	"hoplore/internal/statefile"
 	"hoplore/results"
 	"hoplore/sim"
 )
@@ -17,7 +19,7 @@ func learnedState(r *experiments.Run, net *sim.Net, a sim.Agent) *results.Learne
 		return nil
 	}
 	ls := &results.LearnedState{Info: results.StateInfo{
-		Experiment: r.Dims.Experiment, RunID: r.Dims.RunID, RunIndex: r.Dims.Index, Agent: r.Dims.Agent,
+		Experiment: r.Dims.Experiment, ExperimentHash: r.Exp.Hash, RunID: r.Dims.RunID, RunIndex: r.Dims.Index, Agent: r.Dims.Agent,
 		Kind: st.Kind, Variant: st.Variant, Objective: st.Objective, Topology: r.Dims.Topology, Load: r.Dims.Load, Failure: r.Dims.Failure,
 		Replicate: r.Dims.Replicate, TopologyKey: net.Graph.Key(),
 	}}
@@ -34,11 +36,20 @@ func learnedState(r *experiments.Run, net *sim.Net, a sim.Agent) *results.Learne
 	return ls
 }
 
-// startFrom loads the state file at path into agent a of a run on net.
+// startFrom loads the state file at path into agent a of a run on net. The
+// state and its Q table must carry the experiment hash of the result folder
+// holding them (statefile.Check).
 func startFrom(path string, net *sim.Net, a sim.Agent) error {
 	info, err := results.ReadStateInfo(path)
 	if err != nil {
 		return err
+	}
+	hash, err := statefile.FolderHash(filepath.Dir(filepath.Dir(path)))
+	if err != nil {
+		return fmt.Errorf("sweep: %w", err)
+	}
+	if err := statefile.Check(path, info, hash); err != nil {
+		return fmt.Errorf("sweep: %w", err)
 	}
 	if info.TopologyKey != net.Graph.Key() {
 		return fmt.Errorf("sweep: %s was learned on another topology (%s)", path, info.Topology)

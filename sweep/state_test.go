@@ -29,6 +29,9 @@ agents:
 		t.Fatal(err)
 	}
 	dir := t.TempDir()
+	if err := results.MarkDir(dir, results.Meta{Experiment: e.Name, ExperimentHash: e.Hash}); err != nil {
+		t.Fatal(err)
+	}
 	for _, r := range e.Runs() {
 		cfg, err := r.Config()
 		if err != nil {

@@ -87,9 +87,34 @@ func TestTrainThenStartFrom(t *testing.T) {
 		"  - {kind: q-network, hidden: [4], start_from: {results: trained, agent: net}}\n")
 	hop(t, 0, "run", good, "--out", filepath.Join(dir, "tested"), "--quiet")
 
+	// a state copied from another training, and a Q table of another
+	// experiment under a state file of this folder's, are refused
+	foreign, swapped := filepath.Join(dir, "foreign"), filepath.Join(dir, "swapped")
+	for _, d := range []string{foreign, swapped} {
+		copyDir(t, trained, d)
+	}
+	var trainee string
+	for _, s := range states {
+		if s.Agent == "trainee" {
+			trainee = results.StatePath(foreign, s.RunID)
+			break
+		}
+	}
+	b, _ := os.ReadFile(trainee)
+	hash := states[0].ExperimentHash
+	os.WriteFile(trainee, []byte(strings.Replace(string(b), hash, "0123abcd", 1)), 0o644)
+	for _, p := range append([]string{filepath.Join(swapped, results.MarkFile)}, statePaths(t, swapped)...) {
+		b, _ := os.ReadFile(p)
+		os.WriteFile(p, []byte(strings.ReplaceAll(string(b), hash, "4567cdef")), 0o644)
+	}
+
 	bad := []struct {
 		name, agents, want string
 	}{
+		{"foreign.yaml", "agents: [{kind: q-routing, start_from: {results: foreign, agent: trainee}}]\n",
+			`foreign.yaml:9:40: agents[0].start_from: statefile: ` + trainee + ` was written by experiment "train" (hash 0123abcd), not by the one whose results hold it (hash ` + hash + `)`},
+		{"swapped.yaml", "agents: [{kind: q-routing, start_from: {results: swapped, agent: trainee}}]\n",
+			`.qtable.parquet: Q table of experiment hash "` + hash + `", its state file `},
 		{"missing.yaml", "agents: [{kind: q-routing, start_from: {results: nowhere, agent: trainee}}]\n",
 			`missing.yaml:9:40: agents[0].start_from.results: "nowhere" is not a result folder`},
 		{"label.yaml", "agents: [{kind: q-routing, start_from: {results: trained, agent: trainer}}]\n",
@@ -167,4 +192,37 @@ func TestStartFromObjective(t *testing.T) {
 	if _, err := os.Stat(out); !os.IsNotExist(err) {
 		t.Errorf("%s was created", out)
 	}
+}
+
+// copyDir copies the files of folder src, one level of subfolders deep,
+// into dst.
+func copyDir(t *testing.T, src, dst string) {
+	t.Helper()
+	err := filepath.WalkDir(src, func(p string, d os.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		rel, _ := filepath.Rel(src, p)
+		if d.IsDir() {
+			return os.MkdirAll(filepath.Join(dst, rel), 0o755)
+		}
+		b, err := os.ReadFile(p)
+		if err != nil {
+			return err
+		}
+		return os.WriteFile(filepath.Join(dst, rel), b, 0o644)
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+}
+
+// statePaths lists the state files (JSON) of result folder dir.
+func statePaths(t *testing.T, dir string) []string {
+	t.Helper()
+	ps, err := filepath.Glob(filepath.Join(dir, results.StateDir, "*.json"))
+	if err != nil || len(ps) == 0 {
+		t.Fatalf("no state files in %s: %v", dir, err)
+	}
+	return ps
 }
