@@ -19,6 +19,31 @@ const (
 	SplitPacket         = "packet"
 )
 
+// coObjectiveField is central-optimal's objective: its own names
+// min-max-util (the default) and min-delay, the shared vocabulary's
+// utilisation and delay for the same two, loss, and a mix. Labels write
+// utilisation and delay as min-max-util and min-delay, so the same agent
+// gets the same label (and run ids) whichever spelling a file uses.
+func coObjectiveField() Field {
+	f := objectiveField(ObjectiveMinMaxUtil, true, ObjectiveMinMaxUtil, ObjectiveMinDelay, ObjectiveUtilisation, ObjectiveDelay, ObjectiveLoss)
+	def := Objective{Name: ObjectiveMinMaxUtil}
+	f.isDefault = func(p *Params) bool { return coObjective(p.Objective) == def }
+	f.text = func(p *Params) string { return coObjective(p.Objective).String() }
+	return f
+}
+
+// coObjective returns o with utilisation and delay written as
+// central-optimal's min-max-util and min-delay.
+func coObjective(o Objective) Objective {
+	switch o.Name {
+	case ObjectiveUtilisation:
+		o.Name = ObjectiveMinMaxUtil
+	case ObjectiveDelay:
+		o.Name = ObjectiveMinDelay
+	}
+	return o
+}
+
 // routeChangeShare is the share of a (node, destination)'s traffic an
 // install must move for central-optimal to count it as a route change.
 const routeChangeShare = 0.05
@@ -31,7 +56,7 @@ func init() {
 		Fields: []Field{
 			everyField(2 * sim.Second),
 			controlDelayField(50 * sim.Millisecond),
-			objectiveField(ObjectiveMinMaxUtil, false, ObjectiveMinMaxUtil, ObjectiveMinDelay),
+			coObjectiveField(),
 			NewField("split", func(p *Params) *string { return &p.Split }, SplitFlow, oneOf("split", SplitFlow, SplitPacket)),
 			NewField("max_shift", func(p *Params) *float64 { return &p.MaxShift }, 0.5, inUnitOpenClosed),
 			NewField("epsilon", func(p *Params) *float64 { return &p.Epsilon }, 0.05, func(v float64) error {
@@ -66,11 +91,29 @@ func init() {
 // is). It solves, on the model of the network as the snapshot shows it
 // (channels down, or at a node down, are left out; each channel a queue
 // drained at bandwidth/(8·mean packet size) packets/s plus its propagation
-// delay), either the min–max utilisation routing (Objective min-max-util)
-// or the least mean delay routing under M/G/1 queues per channel with the
-// run's packet-size variability (min-delay; M/M/1 for exponential sizes,
-// M/D/1 for a fixed size; when the estimated demand does not fit, so that no finite mean delay
-// exists, the min–max routing instead), within relative gap Epsilon (package
+// delay), within relative gap Epsilon (package optimum), the routing that
+// minimises Objective:
+//
+//   - min-max-util (the default; utilisation is the same objective): the
+//     largest channel utilisation.
+//   - min-delay (delay is the same): the mean delay under M/G/1 queues per
+//     channel with the run's packet-size variability (M/M/1 for
+//     exponential sizes, M/D/1 for a fixed size) and infinite buffers.
+//   - loss: the expected share of packets lost, each channel an M/M/1/K
+//     queue holding its buffer plus the packet in transmission (its
+//     blocking probability; an overloaded channel loses what does not fit)
+//     followed by its link's loss probability, as telemetry reports the
+//     link conditions in force (optimum.Solver.MinLoss).
+//   - mix {delay: w_d, loss: w_l, utilisation: w_u}: w_d·(mean delay ÷
+//     mean zero-load path time) + w_l·(loss share) + w_u·(largest
+//     utilisation), the scales of the objective vocabulary (Mix), with
+//     the same models (optimum.Solver.MinMix).
+//
+// When the estimated demand does not fit, so that no finite mean delay
+// exists, min-delay and a mix with a delay weight install the min–max
+// routing instead; loss alone always has a solution. Utilisation and
+// delay are labelled min-max-util and min-delay, so a file may use either
+// spelling for the same agent.
 // optimum). The solution's flow towards each destination, made loop-free,
 // gives every node split weights over its outgoing channels: the share of
 // its traffic for that destination to send on each. A node that carries no
@@ -118,6 +161,7 @@ type CentralOptimal struct {
 	prevGen   []int64
 	prevTaken sim.Time
 	usable    []bool
+	linkLoss  []float64 // per channel: link loss probability from telemetry
 
 	sol coSolver
 
@@ -150,7 +194,7 @@ func newCentralOptimal(p Params, net *sim.Net) (sim.Agent, error) {
 	nc := len(net.Channels)
 	a := &CentralOptimal{p: p, net: net, n: n,
 		off: make([]int, n+1), zlNext: make([]int32, n*n),
-		demand: make([][]float64, n), prevGen: make([]int64, n*n), usable: make([]bool, nc),
+		demand: make([][]float64, n), prevGen: make([]int64, n*n), usable: make([]bool, nc), linkLoss: make([]float64, nc),
 		cost: zeroLoadCosts(net, p.packetBytes()), dist: make([]float64, n), col: make([]int32, n),
 		pf: newPathFinder(net), state: make([]uint8, n),
 		evLoad: make([]float64, nc), evX: make([]float64, n), evIndeg: make([]int32, n), evQueue: make([]int32, 0, n)}
@@ -285,6 +329,9 @@ func (a *CentralOptimal) Telemetry(s *sim.Snapshot) {
 		ch := &a.net.Channels[c]
 		a.usable[c] = s.Up[c] && s.NodeUp[ch.From] && s.NodeUp[ch.To]
 	}
+	if s.Loss != nil {
+		copy(a.linkLoss, s.Loss)
+	}
 	latest := a.w // the table in force once everything queued is installed
 	if len(a.pending) > 0 {
 		latest = a.pending[len(a.pending)-1].w
@@ -295,7 +342,7 @@ func (a *CentralOptimal) Telemetry(s *sim.Snapshot) {
 		// the model could not be solved (no demand yet): keep zero-load
 		// shortest paths over the usable channels
 		a.zeroLoadInto(next)
-	} else if v, ok := a.evaluate(latest, b.delay); ok && v <= (1+a.p.Epsilon)*b.value {
+	} else if v, ok := a.evaluate(latest, b.kind); ok && v <= (1+a.p.Epsilon)*b.value {
 		return // what is installed does within epsilon as well as the new solution
 	}
 	a.pending = append(a.pending, coPending{w: next, usable: append([]bool(nil), a.usable...)})
@@ -303,15 +350,17 @@ func (a *CentralOptimal) Telemetry(s *sim.Snapshot) {
 }
 
 // evaluate returns the objective of weights w under the demand estimate on
-// the usable channels: the maximum channel utilisation, or with delay the
-// mean delay of the optimum package's model (optimum.ChannelDelay: M/G/1
-// channels of the run's packet-size variability, capacity
-// bandwidth/(8·mean packet size) packets/s, plus propagation).
+// the usable channels, in the measure m: the maximum channel utilisation,
+// the mean delay of the optimum package's model (optimum.ChannelDelay:
+// M/G/1 channels of the run's packet-size variability, capacity
+// bandwidth/(8·mean packet size) packets/s, plus propagation), or the
+// last loss or mix solve's objective (optimum.Solver.MixValue: the same
+// model, buffers and link losses, weights and zero-load reference).
 // ok is false when w does not carry every demand to its destination over
 // usable channels without a loop (then only a new table will do). Each
 // destination's traffic is pushed through its split graph in topological
 // order (Kahn's algorithm). Cost: O(N·(N + C)).
-func (a *CentralOptimal) evaluate(w []float64, delay bool) (v float64, ok bool) {
+func (a *CentralOptimal) evaluate(w []float64, m coMeasure) (v float64, ok bool) {
 	n := a.n
 	load := a.evLoad
 	clear(load)
@@ -372,6 +421,10 @@ func (a *CentralOptimal) evaluate(w []float64, delay bool) (v float64, ok bool) 
 			return 0, false // a loop
 		}
 	}
+	if m == coMix {
+		return a.sol.s.MixValue(load), true
+	}
+	delay := m == coDelay
 	for c := range load {
 		if load[c] == 0 {
 			continue

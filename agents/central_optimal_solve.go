@@ -14,7 +14,8 @@ var errNoDemand = errors.New("agents: central-optimal: no demand to route")
 // channels, rebuilt when that set changes.
 type coSolver struct {
 	s      *optimum.Solver
-	usable []bool // the usable channels s was built for
+	usable []bool    // the usable channels s was built for
+	loss   []float64 // and the link loss probabilities
 	splits optimum.Splits
 }
 
@@ -22,6 +23,9 @@ func (cs *coSolver) init(a *CentralOptimal) error { return cs.build(a) }
 
 func (cs *coSolver) build(a *CentralOptimal) error {
 	m := optimum.FromNet(a.net, a.p.packetBytes(), func(c int) bool { return !a.usable[c] })
+	for c := range m.Channels {
+		m.Channels[c].Loss = a.linkLoss[c]
+	}
 	s, err := optimum.NewSolver(m)
 	if err == nil {
 		err = s.SetServiceSCV(a.p.packetSCV())
@@ -31,22 +35,32 @@ func (cs *coSolver) build(a *CentralOptimal) error {
 	}
 	cs.s = s
 	cs.usable = append(cs.usable[:0], a.usable...)
+	cs.loss = append(cs.loss[:0], a.linkLoss...)
 	return nil
 }
 
-// coBound is what a solve found: the new routing's objective value, in mean
-// delay (delay) or maximum utilisation.
+// coBound is what a solve found: the new routing's objective value, and
+// its measure.
 type coBound struct {
 	value float64
-	delay bool
+	kind  coMeasure
 }
+
+// coMeasure is the measure of an objective value.
+type coMeasure int
+
+const (
+	coUtil  coMeasure = iota // maximum channel utilisation
+	coDelay                  // mean delay, seconds
+	coMix                    // the optimum package's MinMix objective (loss, mix)
+)
 
 // solveInto solves for a's demand estimate on its usable channels, writes
 // the split weights of every (node, destination) into w (entries with no
 // next hop are left as they are) and returns the new routing's value.
 func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
 	var b coBound
-	if !slices.Equal(cs.usable, a.usable) {
+	if !slices.Equal(cs.usable, a.usable) || !slices.Equal(cs.loss, a.linkLoss) {
 		if err := cs.build(a); err != nil {
 			return b, err
 		}
@@ -57,17 +71,33 @@ func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
 	if routable, _ := cs.s.Demand(); routable == 0 {
 		return b, errNoDemand
 	}
-	if a.p.Objective.Name == ObjectiveMinDelay {
+	switch o := coObjective(a.p.Objective); o.Name {
+	case ObjectiveMinDelay:
 		r, err := cs.s.MinDelay(a.p.Epsilon)
 		if err != nil {
 			return b, err
 		}
 		a.LastUtil = r.Start.Util
-		b = coBound{value: r.Mean, delay: true}
+		b = coBound{value: r.Mean, kind: coDelay}
 		if !r.Feasible { // the min–max routing stays in the solver
 			b = coBound{value: r.Start.Util}
 		}
-	} else {
+	case ObjectiveLoss, ObjectiveMix:
+		w := optimum.Weights{Loss: 1}
+		if o.Name == ObjectiveMix {
+			w = optimum.Weights{Delay: o.Mix.Delay, Loss: o.Mix.Loss, Utilisation: o.Mix.Utilisation}
+		}
+		r, err := cs.s.MinMix(w, a.p.Epsilon)
+		if err != nil {
+			return b, err
+		}
+		a.LastUtil = r.MaxUtil
+		b = coBound{value: r.Value, kind: coMix}
+		if !r.Feasible { // a delay term and no stable routing: the min–max routing stays
+			a.LastUtil = r.Start.Util
+			b = coBound{value: r.Start.Util}
+		}
+	default:
 		r, err := cs.s.MinMaxUtil(a.p.Epsilon)
 		if err != nil {
 			return b, err

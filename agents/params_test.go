@@ -70,6 +70,15 @@ var paramCases = []struct {
 	{agents.CentralOptimalKind, func(p *agents.Params) { p.Split = "random" }},
 	{agents.CentralOptimalKind, func(p *agents.Params) { p.MaxShift = 0 }},
 	{agents.CentralOptimalKind, func(p *agents.Params) { p.Epsilon = 0.7 }},
+	{agents.CentralOptimalKind, func(p *agents.Params) { p.Objective.Name = agents.ObjectiveUtilisation }},
+	{agents.CentralOptimalKind, func(p *agents.Params) { p.Objective.Name = agents.ObjectiveDelay }},
+	{agents.CentralOptimalKind, func(p *agents.Params) { p.Objective.Name = agents.ObjectiveLoss }},
+	{agents.CentralOptimalKind, func(p *agents.Params) {
+		p.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 20, Utilisation: 0.5}}
+	}},
+	{agents.CentralOptimalKind, func(p *agents.Params) {
+		p.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Loss: -1}}
+	}},
 	{agents.CentralQKind, func(p *agents.Params) {}},
 	{agents.CentralQKind, func(p *agents.Params) { p.K, p.LearningRate, p.Discount = 5, 0.1, 0 }},
 	{agents.CentralQKind, func(p *agents.Params) { p.Explore, p.DropPenalty, p.ControlDelay = 0, 3*sim.Second, sim.Second }},

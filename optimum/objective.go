@@ -119,8 +119,11 @@ func (s *Solver) MinMix(w Weights, eps float64) (MixResult, error) {
 	}
 	res := MixResult{Start: start, Feasible: true}
 	if s.total == 0 {
+		s.objW, s.objWD, s.objWL, s.objP = w, 0, 0, 0
 		return res, nil
 	}
+	m := s.objSetup(w, eps)
+	res.P = s.objP
 	if w.Delay > 0 {
 		for tries, e := 0, eps; start.Util >= 1 && start.Lower < 1 && tries < 2; tries++ {
 			e /= 4
@@ -137,8 +140,6 @@ func (s *Solver) MinMix(w Weights, eps float64) (MixResult, error) {
 		}
 	}
 	s.solved = 3
-	m := s.objSetup(w, eps)
-	res.P = s.objP
 	slack := 1.0 // m^(1/p): the norm's largest excess factor over the maximum
 	if w.Utilisation > 0 {
 		slack = math.Pow(m, 1/s.objP)
@@ -173,6 +174,39 @@ func (s *Solver) MinMix(w Weights, eps float64) (MixResult, error) {
 		res.Gap = res.Value/res.Lower - 1
 	}
 	return res, nil
+}
+
+// MixValue returns the objective Φ of the last MinMix (its weights, and
+// the demand's γ and T₀) for the channel loads load in packets/s, indexed
+// as the network's channels: for a controller that weighs the routing in
+// force on the same scale as a new solution. It is +Inf when there is a
+// delay weight and a load reaches its channel's capacity, or when load
+// puts flow on an absent channel; 0 without demand. Allocation-free.
+func (s *Solver) MixValue(load []float64) float64 {
+	if s.total == 0 {
+		return 0
+	}
+	var v, mx float64
+	for c, ch := range s.net.Channels {
+		f := load[c]
+		if f <= 0 {
+			continue
+		}
+		if ch.Capacity == 0 {
+			return math.Inf(1)
+		}
+		if s.objWD > 0 {
+			if f >= ch.Capacity {
+				return math.Inf(1)
+			}
+			v += s.objWD * (f/(ch.Capacity-f)*(1-s.short*f/ch.Capacity) + f*ch.Delay)
+		}
+		if s.objWL > 0 {
+			v += s.objWL * ChannelLoss(f, ch.Capacity, ch.Room, ch.Loss)
+		}
+		mx = math.Max(mx, f/ch.Capacity)
+	}
+	return v + s.objW.Utilisation*mx
 }
 
 // checkWeights returns an error unless every weight is finite and ≥ 0 and

@@ -448,6 +448,9 @@ func TestMixAgainstSimplex(t *testing.T) {
 					ci, tc.w, i, net.Nodes, len(net.Channels), r.Value, r.Lower, r.Gap, r.Iterations, lo, hi)
 			}
 			t.Logf("case %d %+v instance %d: value %.6g gap %.2g (%d iterations, ℓp exponent %.0f), LP bracket [%.6g, %.6g]", ci, tc.w, i, r.Value, r.Gap, r.Iterations, r.P, lo, hi)
+			if v := s.MixValue(s.Load()); math.Abs(v-r.Value) > 1e-12*r.Value {
+				t.Errorf("case %d instance %d: MixValue of the routing found %v, MinMix's value %v", ci, i, v, r.Value)
+			}
 			checkRouting(t, s, dem)
 			checkSplits(t, s, dem)
 			i++

@@ -993,6 +993,7 @@ func (e *engine) requestSnapshot() {
 		Queue:  make([]int, len(e.ch)),
 		Up:     make([]bool, len(e.ch)),
 		NodeUp: make([]bool, N),
+		Loss:   make([]float64, len(e.ch)),
 	}
 	for c := range e.ch {
 		ch := &e.ch[c]
@@ -1003,6 +1004,7 @@ func (e *engine) requestSnapshot() {
 		s.Sent[c] = ch.sent
 		s.Queue[c] = ch.q.len()
 		s.Up[c] = ch.up
+		s.Loss[c] = ch.loss
 	}
 	for v := range e.nodes {
 		s.NodeUp[v] = e.nodes[v].up

@@ -154,6 +154,10 @@ type Snapshot struct {
 	Queue  []int   // per channel: packets waiting now
 	Up     []bool  // per channel: usable now
 	NodeUp []bool
+	// Loss is, per channel, the probability that a packet it transmits is
+	// lost on the link, as link conditions set it now (a link's configured
+	// loss, as its interface reports it).
+	Loss []float64
 	// Per source–destination pair (index s*N+d), cumulative over data packets
 	// generated at any time: delivered, delivery time sum (seconds), dropped.
 	PairDelivered []int64
