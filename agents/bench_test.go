@@ -28,6 +28,11 @@ func benchParams() []agents.Params {
 	qn := agents.Defaults(agents.QNetworkKind)
 	qn.InstallEvery = 500 * sim.Millisecond
 	ps = append(ps, qn)
+	qnl := agents.Defaults(agents.QNetworkKind)
+	qnl.Objective.Name = agents.ObjectiveLoss
+	qnm := agents.Defaults(agents.QNetworkKind)
+	qnm.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+	ps = append(ps, qnl, qnm)
 	ps = append(ps, agents.Defaults(agents.CentralAdaptiveKind), agents.Defaults(agents.CentralQKind))
 	co := agents.Defaults(agents.CentralOptimalKind)
 	co.Split = agents.SplitPacket

@@ -20,10 +20,29 @@ var contract = map[string][]func(p *agents.Params){
 		p.Objective.Name, p.Split, p.MaxShift = agents.ObjectiveMinDelay, agents.SplitPacket, 1
 	}},
 	agents.QRoutingKind: qRoutingCases(),
-	agents.QNetworkKind: {nil, func(p *agents.Params) { p.InstallEvery = 500 * sim.Millisecond }, func(p *agents.Params) {
-		p.Explore = 0.02
-		p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
-	}},
+	agents.QNetworkKind: qNetworkCases(),
+}
+
+// qNetworkCases are the defaults, install_every, exploration with
+// consensus, and the objectives: loss (also with install_every),
+// utilisation, and a mix of all three terms with consensus.
+func qNetworkCases() []func(p *agents.Params) {
+	mix := agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+	return []func(p *agents.Params){
+		nil,
+		func(p *agents.Params) { p.InstallEvery = 500 * sim.Millisecond },
+		func(p *agents.Params) {
+			p.Explore = 0.02
+			p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
+		},
+		func(p *agents.Params) { p.Objective.Name = agents.ObjectiveLoss },
+		func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond },
+		func(p *agents.Params) { p.Objective.Name = agents.ObjectiveUtilisation },
+		func(p *agents.Params) {
+			p.Objective = mix
+			p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
+		},
+	}
 }
 
 // qRoutingCases are every variant with either feedback, consensus, and

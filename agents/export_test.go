@@ -62,3 +62,14 @@ func QRoutingValue(a sim.Agent, node, d, k int) float64 {
 	r := a.(*QRouting).nodes[node]
 	return r.q[d*r.deg+k]
 }
+
+// QNetworkEstimates returns node's estimates for destination d via out[k]
+// of a q-network agent after its run, with an empty queue: delivery time
+// (seconds), loss and utilisation (0 for a head the objective lacks).
+func QNetworkEstimates(a sim.Agent, node, d, k int, qf float64) (delay, loss, util float64) {
+	r := a.(*QNetwork).nodes[node]
+	r.s.firstLayerCommon(r.theta, r.id, d, r.common)
+	delay = r.qvalue(r.theta, d, k, qf)
+	loss, util = r.estimates(k, r.out[k])
+	return delay, loss, util
+}

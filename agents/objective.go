@@ -5,6 +5,8 @@ import (
 	"math"
 	"slices"
 	"strings"
+
+	"hoplore/sim"
 )
 
 // ObjectiveMix is the objective name of a weighted mix of delay, loss and
@@ -92,4 +94,31 @@ func objectiveField(def string, mix bool, names ...string) Field {
 		}
 		return nil
 	})
+}
+
+// busyMeter estimates the utilisation of a node's outgoing channels as the
+// node itself can measure it: each channel's busy fraction since its last
+// sample (sim.NodeView.Busy), folded into an EWMA of time constant
+// utilWindow (a sample covering dt weighs 1 − exp(−dt/utilWindow)).
+type busyMeter struct {
+	u    []float64 // per Out index: the estimate
+	t, b []sim.Time
+}
+
+func newBusyMeter(channels int) busyMeter {
+	return busyMeter{u: make([]float64, channels), t: make([]sim.Time, channels), b: make([]sim.Time, channels)}
+}
+
+// at samples channel c (Out index k) of the node behind v and returns its
+// utilisation estimate. Cost O(1), no allocation.
+func (m *busyMeter) at(v *sim.NodeView, k, c int) float64 {
+	now := v.Now()
+	if dt := now - m.t[k]; dt > 0 {
+		busy := v.Busy(c)
+		sample := float64(busy-m.b[k]) / float64(dt)
+		w := -math.Expm1(-float64(dt) / float64(utilWindow))
+		m.u[k] += w * (sample - m.u[k])
+		m.t[k], m.b[k] = now, busy
+	}
+	return m.u[k]
 }

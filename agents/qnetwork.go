@@ -36,6 +36,7 @@ func init() {
 			learningField(),
 			startFromField(),
 			NewField("install_every", func(p *Params) *sim.Time { return &p.InstallEvery }, 0, nonNegativeTime),
+			objectiveField(ObjectiveDelay, true, ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation),
 		},
 		New: newQNetwork,
 		Cost: func(p *Params, r RunSize) Cost {
@@ -47,7 +48,7 @@ func init() {
 				params += (prev + 1) * float64(h)
 				prev = float64(h)
 			}
-			params += prev + 1
+			params += (prev + 1) * float64(qnHeads(p.Objective))
 			// weights, target copy, gradient and consensus scratch per node,
 			// replay samples of the inputs
 			return Cost{
@@ -62,6 +63,17 @@ func init() {
 // regressions; DQN-style replay and target copies as Mnih et al., Nature
 // 2015).
 const (
+	// qnLossBand is the width of the loss classes objective loss compares:
+	// within one class the delivery-time estimate decides. The network's
+	// estimate of a loss-free path scatters around 0 (it generalises
+	// across destinations and neighbours) where a table's stays exactly 0,
+	// so exact comparison would follow that scatter; 0.02 is a choice.
+	qnLossBand = 0.02
+	// qnDropWeight is the weight of one packet's outcome in a channel's
+	// drop frequency (an EWMA over the packets sent into it: about the
+	// last 100; standard deviation at most √(0.01/1.99·0.25) = 0.035,
+	// Roberts, Technometrics 1, 1959). A choice.
+	qnDropWeight = 0.01
 	// qnReplayDraws is how many samples drawn uniformly from the replay
 	// buffer are trained on after each new sample.
 	qnReplayDraws = 3
@@ -71,7 +83,8 @@ const (
 
 // QNetwork is per-node Q-routing with a small neural network in place of
 // the table. Every node has a multilayer perceptron of one shared shape
-// (inputs, Hidden tanh layers, one linear output) that scores a candidate
+// (inputs, Hidden tanh layers, a linear output: one value, more under the
+// objectives other than delay, see Objective) that scores a candidate
 // neighbour:
 //
 //	inputs: one-hot of this node (N), one-hot of the destination (N),
@@ -102,6 +115,56 @@ const (
 // SGD step (rate learning_rate) on the new sample and on qnReplayDraws
 // samples drawn from the buffer, with squared loss on the normalised target
 // and its error clipped to [−1, 1].
+//
+// Objective (objective: delay, the default, is all of the above, unchanged
+// to the bit). Under the other objectives the output layer has one head
+// more per term the objective weighs, beside the delivery-time head, which
+// is always trained (ties, loops, give_up_after). The heads share the
+// hidden layers and are trained together on each feedback, each by its own
+// squared error; the loss and utilisation heads start at 0 and are read
+// clamped to [0, 1] (trained unclamped, so that an estimate of a loss-free
+// path can settle at 0, where a sigmoid would keep it at scattered small
+// values). Each head estimates the value of the rest of the path, V_y(d),
+// and the node's own channel enters measured, not learned: learned, the
+// estimate of a channel the node has not used would be generalised from
+// the one it uses (the neighbour one-hot is all that tells them apart), so
+// a lossy first hop would make every first hop look lossy.
+//   - loss: the estimate via y is 1 − (1 − p_xy)(1 − L_y), p_xy the drop
+//     frequency of the node's own channel, an EWMA (weight qnDropWeight)
+//     over the packets sent into it, a drop there (full queue or link
+//     loss, reported by sim.Dropper) counting 1 and an arrival at y 0, and
+//     L_y the loss head, trained on y's reported value: y's estimate for
+//     its best channel (0 at y = d, 1 when y has none usable or the packet
+//     reaches its hop limit at y). Its fixed point is the Bellman target
+//     of a terminal loss cost, p_xy + (1 − p_xy)·V_y(d) (Watkins & Dayan,
+//     "Q-learning", Machine Learning 8, 1992), as q-routing's sampled
+//     target. Decisions compare loss in classes of qnLossBand and take the
+//     lower delivery time within a class.
+//   - utilisation: the estimate via y is max(u_xy, U_y), u_xy the busy
+//     fraction of the node's own channel now (busyMeter: an EWMA of time
+//     constant 1 s sampled at each decision) and U_y the utilisation head,
+//     trained on y's reported value, which leaves out y's channels back to
+//     the asking node (split horizon, as q-routing's). Drops do not enter
+//     it. Decisions compare utilisation in classes of utilBand, delivery
+//     time within a class. The estimates follow the current utilisation
+//     (an unused path's falls back), so traffic keeps moving between paths
+//     whose bottlenecks are close.
+//   - mix {delay: w_d, loss: w_l, utilisation: w_u}: heads for the terms of
+//     weight > 0; decisions on w_d·Q/z_xd + w_l·loss + w_u·util, z_xd this
+//     node's zero-load time to d (see Mix), exact ties to the lower
+//     delivery time; the feedback carries the three values of y's channel
+//     of least cost (with split horizon when w_u > 0).
+//
+// Consensus averages all parameters, heads included, and works under every
+// objective; give_up_after compares the delivery-time head. A learned state
+// records the objective and holds every head; start_from loads only a
+// state of the same objective (and shape); the measured parts, drop
+// frequencies and utilisation, start afresh.
+// With install_every the installed channel is the objective's choice on the
+// snapshot; under utilisation a snapshot can then hold a loop of more than
+// two nodes until the next install (on the contract suite's 3×3 grid at
+// 10% load, 6 of 2700 packets reached the hop limit with install_every
+// 500ms, 136 with 2s), as q-routing's tables can.
 //
 // Consensus: every Every each node sends its parameters to every neighbour
 // in-band (ParamsMessageBytes); a node keeps the parameters it sent in that
@@ -159,6 +222,11 @@ type qnShared struct {
 	dist   [][]float64
 	qCap   float64
 	prior  bool // add zl to the output; false learns from scratch (tests)
+
+	obj          int  // qnObjDelay, ...
+	hLoss, hUtil int  // output head of the loss and utilisation estimates, −1 if none
+	split        bool // values sent back leave out the channel to the asking node
+	w            Mix  // objective mix: the weights
 }
 
 var (
@@ -166,19 +234,71 @@ var (
 	_ sim.Router   = (*qnNode)(nil)
 	_ sim.Arrivals = (*qnNode)(nil)
 	_ sim.Receiver = (*qnNode)(nil)
+	_ sim.Dropper  = (*qnNode)(nil)
 	_ sim.Detector = (*qnNode)(nil)
 	_ sim.Timed    = (*qnNode)(nil)
 )
 
+// Objectives of q-network (qnShared.obj).
+const (
+	qnObjDelay = iota
+	qnObjLoss
+	qnObjUtil
+	qnObjMix
+)
+
+// qnHeads returns the number of output heads objective o needs: delivery
+// time always, loss and utilisation when o weighs them.
+func qnHeads(o Objective) int {
+	switch o.Name {
+	case ObjectiveLoss, ObjectiveUtilisation:
+		return 2
+	case ObjectiveMix:
+		h := 1
+		if o.Mix.Loss > 0 {
+			h++
+		}
+		if o.Mix.Utilisation > 0 {
+			h++
+		}
+		return h
+	}
+	return 1
+}
+
 func newQNetwork(p Params, net *sim.Net) (sim.Agent, error) {
+	switch p.Objective.Name {
+	case ObjectiveDelay, ObjectiveLoss, ObjectiveUtilisation:
+	case ObjectiveMix:
+		if err := checkMix(p.Objective.Mix); err != nil {
+			return nil, fmt.Errorf("agents: q-network: %w", err)
+		}
+	default:
+		return nil, fmt.Errorf("agents: q-network: unknown objective %q", p.Objective.Name)
+	}
 	return newQNetworkOpt(p, net, true), nil
 }
 
 func newQNetworkOpt(p Params, net *sim.Net, prior bool) *QNetwork {
 	n := net.NumNodes()
-	s := &qnShared{p: p, n: n, prior: prior}
+	s := &qnShared{p: p, n: n, prior: prior, hLoss: -1, hUtil: -1}
+	switch p.Objective.Name {
+	case ObjectiveLoss:
+		s.obj, s.hLoss = qnObjLoss, 1
+	case ObjectiveUtilisation:
+		s.obj, s.hUtil, s.split = qnObjUtil, 1, true
+	case ObjectiveMix:
+		s.obj, s.w = qnObjMix, p.Objective.Mix
+		h := 1
+		if s.w.Loss > 0 {
+			s.hLoss, h = h, h+1
+		}
+		if s.w.Utilisation > 0 {
+			s.hUtil, s.split = h, true
+		}
+	}
 	s.sizes = append([]int{3*n + 2}, p.Hidden...)
-	s.sizes = append(s.sizes, 1)
+	s.sizes = append(s.sizes, qnHeads(p.Objective))
 	off := 0
 	for l := 0; l+1 < len(s.sizes); l++ {
 		s.woff = append(s.woff, off)
@@ -237,12 +357,24 @@ type qnNode struct {
 	deltas [][]float64
 	common []float64 // first-layer partial sums shared by a decision's candidates
 
-	// replay ring
+	// replay ring; rl and ru (loss and utilisation targets) only with
+	// those heads
 	rd      []int32
 	rk      []int16
 	rq, rt  []float64
+	rl, ru  []float64
 	rn, rat int
 	updates int
+
+	// objectives other than delay: the hop limit (a packet reaching it is
+	// lost), per channel the drop frequency and the utilisation, the mix's
+	// delay weight over the zero-load time to each destination (1/s), and
+	// the estimates of the last choice's channel
+	hopLimit            int
+	drops               []float64
+	meter               busyMeter
+	wz                  []float64
+	pickD, pickL, pickU float64
 
 	cons *consensusState
 	pref prefs
@@ -274,37 +406,71 @@ func (r *qnNode) install() {
 	}
 }
 
-// greedy returns the Out index of the usable channel with the least Q(d,·)
-// under parameters theta and the current queue features, −1 if none.
-func (r *qnNode) greedy(theta []float64, d int) int {
-	r.s.firstLayerCommon(theta, r.id, d, r.common)
-	best, bestV := -1, 0.0
-	for k, c := range r.out {
-		if !r.v.Up(c) {
-			continue
-		}
-		if val := r.qvalue(theta, d, k, r.queueFeature(c)); best < 0 || val < bestV {
-			best, bestV = k, val
-		}
-	}
-	return best
-}
+// greedy returns the Out index of the best usable channel for d under
+// parameters theta and the current queue features, −1 if none.
+func (r *qnNode) greedy(theta []float64, d int) int { return r.choose(theta, d, -1) }
 
-// greedyAvoiding returns the Out index of the usable channel with the least
-// Q(d,·) under the live parameters and the current queue features among
-// those not leading to node avoid, −1 if none.
-func (r *qnNode) greedyAvoiding(d, avoid int) int {
-	r.s.firstLayerCommon(r.theta, r.id, d, r.common)
-	best, bestV := -1, 0.0
+// choose returns the Out index of the best usable channel for d, leaving out
+// those towards node avoid (−1: none), under parameters theta and the
+// current queue features, −1 if none; the order is the objective's (see
+// QNetwork): the least delivery time under delay, else the least primary
+// value (loss class, utilisation class or mix cost) with exact ties to the
+// lower delivery time, and the lowest Out index on ties. It leaves the
+// chosen channel's delivery time, loss and utilisation estimates in pickD,
+// pickL, pickU (0 for a head the objective lacks). Cost O(degree·network
+// size), no allocation.
+func (r *qnNode) choose(theta []float64, d, avoid int) int {
+	r.s.firstLayerCommon(theta, r.id, d, r.common)
+	best, bestP, bestD := -1, 0.0, 0.0
 	for k, c := range r.out {
 		if r.nbr[k] == avoid || !r.v.Up(c) {
 			continue
 		}
-		if val := r.qvalue(r.theta, d, k, r.queueFeature(c)); best < 0 || val < bestV {
-			best, bestV = k, val
+		dl := r.qvalue(theta, d, k, r.queueFeature(c))
+		if r.s.obj == qnObjDelay {
+			if best < 0 || dl < bestD {
+				best, bestD = k, dl
+			}
+			continue
+		}
+		l, u := r.estimates(k, c)
+		pr := r.primary(d, dl, l, u)
+		if best < 0 || pr < bestP || pr == bestP && dl < bestD {
+			best, bestP, bestD = k, pr, dl
+			r.pickL, r.pickU = l, u
 		}
 	}
+	r.pickD = bestD
 	return best
+}
+
+// estimates returns the loss and utilisation estimates via channel c (Out
+// index k) from the last forward pass for it: 1 − (1 − drop frequency of
+// c)·(1 − loss head) and max(utilisation of c now, utilisation head), the
+// heads clamped to [0, 1]; 0 for a term the objective lacks.
+func (r *qnNode) estimates(k, c int) (loss, util float64) {
+	out := r.acts[len(r.acts)-1]
+	if h := r.s.hLoss; h >= 0 {
+		loss = 1 - (1-r.drops[k])*(1-math.Min(math.Max(out[h], 0), 1))
+	}
+	if h := r.s.hUtil; h >= 0 {
+		util = math.Max(r.meter.at(r.v, k, c), math.Min(math.Max(out[h], 0), 1))
+	}
+	return loss, util
+}
+
+// primary returns the value decisions compare first under an objective
+// other than delay, from a channel's delivery time dl (seconds), loss l and
+// utilisation u: the loss class floor(l/qnLossBand), the utilisation class
+// floor(u/utilBand), or the mix cost w_d·dl/z + w_l·l + w_u·u.
+func (r *qnNode) primary(d int, dl, l, u float64) float64 {
+	switch r.s.obj {
+	case qnObjLoss:
+		return math.Floor(l / qnLossBand)
+	case qnObjUtil:
+		return math.Floor(u / utilBand)
+	}
+	return r.wz[d]*dl + r.s.w.Loss*l + r.s.w.Utilisation*u
 }
 
 func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
@@ -335,6 +501,26 @@ func newQNNode(s *qnShared, v *sim.NodeView) *qnNode {
 	}
 	R := s.p.Replay
 	r.rd, r.rk, r.rq, r.rt = make([]int32, R), make([]int16, R), make([]float64, R), make([]float64, R)
+	if s.obj != qnObjDelay {
+		r.hopLimit = v.HopLimit()
+	}
+	if s.hLoss >= 0 {
+		r.rl = make([]float64, R)
+		r.drops = make([]float64, len(r.out))
+	}
+	if s.hUtil >= 0 {
+		r.ru = make([]float64, R)
+		r.meter = newBusyMeter(len(r.out))
+	}
+	if s.obj == qnObjMix {
+		r.wz = make([]float64, s.n)
+		for d, z := range s.dist[r.id] {
+			if z == 0 || math.IsInf(z, 1) {
+				z = 1 // this node, or unreachable: every channel's delay term is the same
+			}
+			r.wz[d] = s.w.Delay / z
+		}
+	}
 	if s.p.Consensus != nil && !s.p.frozen() {
 		r.cons = newConsensusState(s.p.Consensus)
 		r.sent = make([]float64, s.nParam)
@@ -488,7 +674,7 @@ func (r *qnNode) Route(p *sim.Packet) int {
 		if r.fwd != nil && best >= 0 && r.nbr[best] == p.Prev {
 			// never straight back while following installed channels (see
 			// QNetwork); a detour is per packet, not a route change
-			if k := r.greedyAvoiding(d, p.Prev); k >= 0 {
+			if k := r.choose(r.theta, d, p.Prev); k >= 0 {
 				best = k
 			}
 		}
@@ -527,8 +713,34 @@ func (r *qnNode) Arrived(p *sim.Packet, in int) {
 		return // no feedback: nothing learns
 	}
 	qs := (p.LastWait + p.LastTx).Seconds()
+	if r.s.obj != qnObjDelay {
+		avoid := -1
+		if r.s.split {
+			avoid = p.Prev // split horizon: not back through the asking node
+		}
+		t, l, u := r.objValue(p.Dst, avoid)
+		if p.Dst != r.id && p.Hops >= r.hopLimit {
+			l, u = 1, 1 // the packet expires here: lost
+		}
+		r.v.Tell(in^1, sim.Message{Type: msgNetFeedback, Dst: p.Dst, Value: qs + t, Aux: p.Aux[1], Aux2: l, Aux3: u})
+		return
+	}
 	t := r.value(p.Dst)
 	r.v.Tell(in^1, sim.Message{Type: msgNetFeedback, Dst: p.Dst, Value: qs + t, Aux: p.Aux[1]})
+}
+
+// objValue returns, under an objective other than delay, the delivery
+// time (plus processing), loss and utilisation estimates of the best usable
+// channel to d on the target network, leaving out channels towards node
+// avoid: 0, 0, 0 at d itself; the ceiling, 1, 1 when none is usable.
+func (r *qnNode) objValue(d, avoid int) (delay, loss, util float64) {
+	if d == r.id {
+		return 0, 0, 0
+	}
+	if r.choose(r.target, d, avoid) < 0 || math.IsInf(r.pickD, 1) {
+		return r.s.qCap, 1, 1
+	}
+	return math.Min(math.Max(r.pickD, 0)+r.proc, r.s.qCap), r.pickL, r.pickU
 }
 
 // Receive trains on feedback and mixes in neighbours' parameters.
@@ -552,26 +764,43 @@ func (r *qnNode) Receive(m *sim.Message, in int) {
 			return
 		}
 		target := math.Min(m.Value+r.net.Channels[r.out[k]].Delay.Seconds(), r.s.qCap)
-		r.learn(m.Dst, k, m.Aux, target)
+		if r.drops != nil {
+			r.drops[k] -= qnDropWeight * r.drops[k] // the packet crossed the channel
+		}
+		r.learn(m.Dst, k, m.Aux, target, m.Aux2, m.Aux3)
 	case msgParams:
 		r.mix(r.nbr[k], m.Vec)
 	}
 }
 
-// learn stores a sample and takes SGD steps on it and on replayed samples.
-func (r *qnNode) learn(d, k int, qf, target float64) {
+// learn stores a sample (targets: delivery time in seconds, the next
+// node's loss and utilisation values, used by the heads the objective has)
+// and takes SGD steps on it and on replayed samples.
+func (r *qnNode) learn(d, k int, qf, target, loss, util float64) {
 	R := len(r.rd)
 	r.rd[r.rat], r.rk[r.rat], r.rq[r.rat], r.rt[r.rat] = int32(d), int16(k), qf, target
+	if r.rl != nil {
+		r.rl[r.rat] = loss
+	}
+	if r.ru != nil {
+		r.ru[r.rat] = util
+	}
 	r.rat = (r.rat + 1) % R
 	if r.rn < R {
 		r.rn++
 	}
-	r.sgd(d, k, qf, target)
+	r.sgd(d, k, qf, target, loss, util)
 	if r.rn > 1 {
 		rng := r.v.Rand()
 		for i := 0; i < qnReplayDraws; i++ {
 			j := rng.IntN(r.rn)
-			r.sgd(int(r.rd[j]), int(r.rk[j]), r.rq[j], r.rt[j])
+			if r.rl != nil {
+				loss = r.rl[j]
+			}
+			if r.ru != nil {
+				util = r.ru[j]
+			}
+			r.sgd(int(r.rd[j]), int(r.rk[j]), r.rq[j], r.rt[j], loss, util)
 		}
 	}
 	r.updates++
@@ -580,9 +809,11 @@ func (r *qnNode) learn(d, k int, qf, target float64) {
 	}
 }
 
-// sgd takes one step on the squared error of the normalised output for
-// sample (d, out[k], qf) against target seconds.
-func (r *qnNode) sgd(d, k int, qf, target float64) {
+// sgd takes one step on the squared errors of the outputs for sample
+// (d, out[k], qf): the normalised delivery-time output against target
+// seconds, and the loss and utilisation heads (unclamped) against loss and
+// util where the objective has them.
+func (r *qnNode) sgd(d, k int, qf, target, loss, util float64) {
 	s := r.s
 	y := r.nbr[k]
 	goal := target
@@ -592,10 +823,16 @@ func (r *qnNode) sgd(d, k int, qf, target float64) {
 	goal /= s.scale
 	s.firstLayerCommon(r.theta, r.id, d, r.common)
 	outv := s.forward(r.theta, r.common, y, qf, 1, r.acts)
-	g := math.Max(-1, math.Min(1, outv-goal)) // d(½e²)/d out, clipped
 	lr := s.p.LearningRate
 	L := len(s.sizes) - 1
-	r.deltas[L-1][0] = g
+	top := r.deltas[L-1]
+	top[0] = math.Max(-1, math.Min(1, outv-goal)) // d(½e²)/d out, clipped
+	if h := s.hLoss; h >= 0 {
+		top[h] = math.Max(-1, math.Min(1, r.acts[L-1][h]-loss))
+	}
+	if h := s.hUtil; h >= 0 {
+		top[h] = math.Max(-1, math.Min(1, r.acts[L-1][h]-util))
+	}
 	for l := L - 1; l >= 1; l-- {
 		in, out := s.sizes[l], s.sizes[l+1]
 		wl := r.theta[s.woff[l]:s.boff[l]]
@@ -637,6 +874,21 @@ func (r *qnNode) sgd(d, k int, qf, target float64) {
 		wq[j] -= lr * dj * qf
 		wu[j] -= lr * dj
 		b[j] -= lr * dj
+	}
+}
+
+// Dropped counts a loss on the node's own channel out (full queue or link
+// loss) in that channel's drop frequency. Under objectives without a loss
+// term a drop teaches nothing.
+func (r *qnNode) Dropped(_ *sim.Packet, out int, _ sim.DropReason) {
+	if r.drops == nil || r.s.p.frozen() {
+		return
+	}
+	for k, c := range r.out {
+		if c == out {
+			r.drops[k] += qnDropWeight * (1 - r.drops[k])
+			return
+		}
 	}
 }
 

@@ -59,12 +59,13 @@ type QEntry struct {
 type State struct {
 	Kind    string // QRoutingKind or QNetworkKind
 	Variant string // q-routing's variant
-	// Objective is q-routing's objective as labels write it (see
+	// Objective is the learner's objective as labels write it (see
 	// Objective.String), "" for delay: a state loads only into an agent of
 	// the same objective.
 	Objective string
 	Q         []QEntry // q-routing: every (node, destination ≠ node, channel) in that order
-	// q-network: Sizes are the layer widths (input, hidden..., 1); Params[v]
+	// q-network: Sizes are the layer widths (input, hidden..., heads: 1
+	// under delay, one more per term of another objective); Params[v]
 	// and Target[v] node v's online and target parameters, laid out layer
 	// by layer, each layer's weights (row-major, output by input) then its
 	// biases.
@@ -111,7 +112,7 @@ func ExportState(a sim.Agent) (*State, bool) {
 		}
 		return st, true
 	case *QNetwork:
-		st := &State{Kind: QNetworkKind, Sizes: append([]int(nil), x.shared.sizes...)}
+		st := &State{Kind: QNetworkKind, Objective: stateObjective(x.p.Objective), Sizes: append([]int(nil), x.shared.sizes...)}
 		for _, r := range x.nodes {
 			st.Params = append(st.Params, append([]float64(nil), r.theta...))
 			st.Target = append(st.Target, append([]float64(nil), r.target...))
@@ -148,6 +149,9 @@ func StartFrom(a sim.Agent, st *State) error {
 		if st.Kind != QNetworkKind || fmt.Sprint(st.Sizes) != fmt.Sprint(s.sizes) || len(st.Params) != s.n || len(st.Target) != s.n {
 			return fmt.Errorf("agents: start state of %s with layers %v for %d nodes, not q-network with layers %v for %d nodes",
 				st.Kind, st.Sizes, len(st.Params), s.sizes, s.n)
+		}
+		if want := stateObjective(x.p.Objective); st.Objective != want {
+			return fmt.Errorf("agents: start state learned under objective %s, not %s", ObjectiveLabel(st.Objective), ObjectiveLabel(want))
 		}
 		for v := range st.Params {
 			if len(st.Params[v]) != s.nParam || len(st.Target[v]) != s.nParam {
