@@ -32,7 +32,7 @@ type LearnedState struct {
 	Replicate int
 	RunIndex  int
 	Table     string
-	Objective string // a tabular learner's, "" for delay
+	Objective string // the learner's, "" for delay
 }
 
 // startFromYAML is an agent's start_from: {results: DIR, agent: LABEL}.
@@ -62,8 +62,8 @@ func (s *startFromYAML) store(ptr any) {
 
 // startStates reads the state files agent i (parameters ap) start_from
 // names and keeps those of its label, by run index; an error at the field
-// when the folder is missing, holds no state of that label, or (q-routing)
-// holds one learned under another objective.
+// when the folder is missing, holds no state of that label, or holds one
+// learned under another objective.
 func (c *checker) startStates(i int, ap *agents.Params, at yamlx.Pos) ([]LearnedState, error) {
 	o := ap.StartFrom
 	dir := c.files.resolve(c.file, o.Results)
@@ -97,7 +97,7 @@ func (c *checker) startStates(i int, ap *agents.Params, at yamlx.Pos) ([]Learned
 		if info.Agent != o.Agent {
 			continue
 		}
-		if ap.Kind == agents.QRoutingKind {
+		if ap.Kind == agents.QRoutingKind || ap.Kind == agents.QNetworkKind {
 			if got, want := agents.ObjectiveLabel(info.Objective), ap.Objective.String(); got != want {
 				return nil, c.errf(at, "agents[%d].start_from: %q holds states of agent %q learned under objective %s, not %s", i, o.Results, o.Agent, got, want)
 			}
