@@ -20,6 +20,36 @@ import (
 // (results.Charted).
 var CompareMetrics = chartedNames()
 
+// FlowCompareMetrics are the runs.parquet columns of flow traffic that
+// Compare tests after CompareMetrics when given none and some run of the
+// folder had flows (flows_started > 0): completion time (mean, p99, mice,
+// elephants), slowdown likewise, the reordered fraction and the failed
+// flows (a count: paired runs share their seeds, so they start the same
+// flows).
+var FlowCompareMetrics = []string{"fct_mean_s", "fct_p99_s", "fct_mice_mean_s", "fct_elephant_mean_s",
+	"slowdown_mean", "slowdown_p99", "slowdown_mice_mean", "slowdown_elephant_mean", "reordered_fraction", "flows_failed"}
+
+// HasFlows reports whether some run of d had flow traffic (flows_started
+// above 0).
+func (d *Data) HasFlows() bool {
+	k := results.Runs.Index("flows_started")
+	for i := range d.Runs {
+		if d.Runs[i].at(k) > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// DefaultMetrics returns what Compare tests when given no metric:
+// CompareMetrics, then FlowCompareMetrics when d has flows (HasFlows).
+func DefaultMetrics(d *Data) []string {
+	if d.HasFlows() {
+		return append(slices.Clone(CompareMetrics), FlowCompareMetrics...)
+	}
+	return CompareMetrics
+}
+
 func chartedNames() []string {
 	var out []string
 	for _, c := range results.Charted() {
@@ -102,14 +132,14 @@ const (
 
 // Compare pairs agents a and b across replicates in every panel where both
 // ran, and tests each of metrics, numeric runs.parquet columns
-// (CompareMetrics when none is given). Rows come sorted by topology,
+// (DefaultMetrics when none is given). Rows come sorted by topology,
 // failure, load, metric order. It is an input error if a metric is not a
 // numeric runs.parquet column, if either label is not an agent of the
 // experiment or both are the same (the message lists the agents there
 // are), or if the two never ran in the same panel.
 func Compare(d *Data, a, b string, metrics ...string) ([]Comparison, error) {
 	if len(metrics) == 0 {
-		metrics = CompareMetrics
+		metrics = DefaultMetrics(d)
 	}
 	idx := make([]int, len(metrics))
 	for i, m := range metrics {

@@ -54,6 +54,7 @@ td.clear { font-weight: bold; color: var(--accent); }
 </dl>
 <nav aria-label="contents"><ol>
 {{if .Glance}}<li><a href="#glance">At a glance: the fastest agent in each cell</a></li>
+{{end}}{{if .FlowGlance}}<li><a href="#flow-glance">Flows at a glance: the agent whose flows were slowed least in each cell</a></li>
 {{end}}{{range .Charts}}<li><a href="#{{.ID}}">{{.Title}}</a></li>
 {{end}}{{if .Events}}<li><a href="#recovery">Recovery after each failure event</a></li>
 {{end}}{{if .Worst}}<li><a href="#worst">The worst single failures of each agent</a></li>
@@ -69,6 +70,15 @@ td.clear { font-weight: bold; color: var(--accent); }
 <thead><tr><th>topology</th><th>failures</th><th>load</th><th>fastest</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>runner-up</th><th>delivery ({{.GlanceUnit}})</th><th>loss (%)</th><th>difference ({{.GlanceUnit}}) ± 95% CI</th><th>relative</th><th>p (t)</th><th>p (t), Holm</th><th>p (Wilcoxon)</th><th>verdict</th><th>model optimum ({{.GlanceUnit}})</th><th>optimum over</th><th>optimum loss (%)</th><th>fastest ÷ optimum</th><th>runner-up ÷ optimum</th><th>loss above optimum (%, fastest / runner-up)</th></tr></thead>
 <tbody>
 {{range .Glance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestMean}}</td><td>{{.BestLoss}}</td><td class="dim">{{.Second}}</td><td>{{.SecondMean}}</td><td>{{.SecondLoss}}</td><td>{{.Diff}}</td><td>{{.Rel}}</td><td>{{.PT}}</td><td>{{.PTHolm}}</td><td>{{.PW}}</td><td class="dim{{if .Clear}} clear{{end}}">{{.Verdict}}</td><td>{{.Opt}}</td><td class="dim">{{.OptOver}}</td><td>{{.OptLoss}}</td><td>{{.BestRatio}}</td><td>{{.SecondRatio}}</td><td>{{.BestExtra}} / {{.SecondExtra}}</td></tr>
+{{end}}</tbody></table></div>
+</section>
+{{end}}{{if .FlowGlance}}<section id="flow-glance">
+<h2>Flows at a glance: the agent whose flows were slowed least in each cell</h2>
+<p class="note">Least slowed: lowest mean slowdown (a flow's completion time over its completion time alone on the idle network, runs.parquet slowdown_mean) across replicates. The runner-up is compared with it run by run (same replicate, same seeds, hence the same flows): differences (least slowed − runner-up) in mean slowdown, mean and 99th-percentile completion time and failed flows, each with its 95% confidence interval (Student t) and the paired t test's p-value adjusted by Holm's step-down method (1979) across the rows of this table, metric by metric. Verdict "less slowed": the interval of the slowdown difference lies below zero and its adjusted p is below 0.05; "unclear": not both; "untested": fewer than 3 paired replicates, or the same difference in every replicate. hoplore compare tests these and the other flow columns per agent pair.</p>
+<div class="scroll"><table class="glance" data-table="flow-glance">
+<thead><tr><th>topology</th><th>failures</th><th>load</th><th>least slowed</th><th>slowdown</th><th>runner-up</th><th>slowdown</th><th>difference ± 95% CI</th><th>relative</th><th>p (t)</th><th>p (t), Holm</th><th>verdict</th><th>completion time, mean: difference ({{.FCTUnit}})</th><th>Holm p</th><th>completion time, p99: difference ({{.FCTUnit}})</th><th>Holm p</th><th>failed flows: difference</th><th>Holm p</th></tr></thead>
+<tbody>
+{{range .FlowGlance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestSD}}</td><td class="dim">{{.Second}}</td><td>{{.SecondSD}}</td><td>{{.SD}}</td><td>{{.SDRel}}</td><td>{{.SDPT}}</td><td>{{.SDPTHolm}}</td><td class="dim{{if .Clear}} clear{{end}}">{{.Verdict}}</td><td>{{.FCT}}</td><td>{{.FCTHolm}}</td><td>{{.P99}}</td><td>{{.P99Holm}}</td><td>{{.Failed}}</td><td>{{.FailedHolm}}</td></tr>
 {{end}}</tbody></table></div>
 </section>
 {{end}}{{range .Charts}}<section class="chart-section">

@@ -71,7 +71,10 @@ type Report struct {
 	// events' load (see Resilience).
 	Resilience []AgentResilience
 	Glance     []GlanceRow // the fastest agent per cell against the runner-up
-	Notes      []string    // what the page leaves out and why
+	// FlowGlance is the agent whose flows were slowed least per cell
+	// against the runner-up, when the runs had flow traffic.
+	FlowGlance []FlowGlanceRow
+	Notes      []string // what the page leaves out and why
 
 	charts  []*chart
 	tables  []htmlTable
@@ -214,6 +217,7 @@ func Build(d *Data, o Options) (*Report, error) {
 	}
 	uniqueIDs(r.charts)
 	r.Glance = Glance(d)
+	r.FlowGlance = FlowGlance(d)
 	for _, c := range chartedColumns(d) {
 		t := textFor(c)
 		r.tables = append(r.tables, makeTable("table-"+t.id, t.table, c, agents, cellTable(d, results.Runs.Index(c.Name))))
@@ -434,6 +438,7 @@ func (r *Report) HTML(w io.Writer) error {
 		}
 		glance = append(glance, v)
 	}
+	flowGlance, fctUnit := r.flowGlanceView()
 	var charts []chartView
 	for _, c := range r.charts {
 		src := "data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(c.themedSVG(false))
@@ -485,6 +490,8 @@ func (r *Report) HTML(w io.Writer) error {
 		"WorstShown": WorstShown,
 		"Notes":      r.Notes,
 		"Glance":     glance,
+		"FlowGlance": flowGlance,
+		"FCTUnit":    fctUnit,
 		"GlanceUnit": unit,
 	}
 	if err := pageTemplate.Execute(w, view); err != nil {
@@ -529,4 +536,48 @@ func chartedColumns(d *Data) []*results.Column {
 		}
 	}
 	return out
+}
+
+// flowGlanceView is a FlowGlanceRow as the page shows it.
+type flowGlanceView struct {
+	Topology, Load, Failure    string
+	Best, BestSD               string
+	Second, SecondSD           string
+	SD, SDRel, SDPT, SDPTHolm  string
+	Verdict                    string
+	Clear                      bool
+	FCT, FCTHolm, P99, P99Holm string
+	Failed, FailedHolm         string
+}
+
+// flowGlanceView formats r.FlowGlance, completion times in the unit
+// returned (ms below a second).
+func (r *Report) flowGlanceView() ([]flowGlanceView, string) {
+	var hi float64
+	for _, g := range r.FlowGlance {
+		for _, c := range g.Diffs[1:3] {
+			hi = math.Max(hi, math.Max(nanZero(c.MeanA), nanZero(c.MeanB)))
+		}
+	}
+	scale, unit := timeUnit(hi)
+	var out []flowGlanceView
+	for _, g := range r.FlowGlance {
+		sd, fct, p99, failed := g.Diffs[0], g.Diffs[1], g.Diffs[2], g.Diffs[3]
+		v := flowGlanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
+			Best: g.Best, BestSD: g.BestSlowdown.Format(1), Second: g.Second, SecondSD: g.SecondSlowdown.Format(1),
+			SD: stats.PlusMinus(sd.MeanDiff, sd.CI95), SDRel: fmtPercent(sd.RelDiff), SDPT: fmtP(sd.PT), SDPTHolm: fmtP(sd.PTHolm),
+			FCT: stats.PlusMinus(fct.MeanDiff*scale, fct.CI95*scale), FCTHolm: fmtP(fct.PTHolm),
+			P99: stats.PlusMinus(p99.MeanDiff*scale, p99.CI95*scale), P99Holm: fmtP(p99.PTHolm),
+			Failed: stats.PlusMinus(failed.MeanDiff, failed.CI95), FailedHolm: fmtP(failed.PTHolm)}
+		switch {
+		case sd.Note != "":
+			v.Verdict = "untested: " + sd.Note
+		case sd.CI95High < 0 && sd.PTHolm < Alpha:
+			v.Verdict, v.Clear = "less slowed", true
+		default:
+			v.Verdict = "unclear"
+		}
+		out = append(out, v)
+	}
+	return out, unit
 }

@@ -24,6 +24,7 @@ func newCompareCmd(d *deps) *cobra.Command {
 		Short: "Paired comparison of two agents across replicates, per cell: mean difference, 95% CI, p-values",
 		Long: "compare pairs the runs of agents A and B that share a cell (topology, load, failure schedule) and a\n" +
 			"replicate index, and so the same seeds, and tests the differences A − B of " + strings.Join(report.CompareMetrics, ", ") + "\n" +
+			"and, when the runs have flow traffic, " + strings.Join(report.FlowCompareMetrics, ", ") + "\n" +
 			"(or the runs.parquet columns given with --metric): mean difference with its 95% confidence interval (Student t), the paired\n" +
 			"t test and the Wilcoxon signed-rank test (exact for up to 50 pairs), the difference relative to B, and\n" +
 			"both p-values adjusted by Holm's step-down method (1979) across the cells compared on the same metric;\n" +
@@ -41,7 +42,7 @@ func newCompareCmd(d *deps) *cobra.Command {
 	f.StringVar(&o.a, "a", "", "label of agent A (the agent column)")
 	f.StringVar(&o.b, "b", "", "label of agent B")
 	f.StringVar(&o.out, "out", "", "Parquet file to write (default DIR/compare.parquet)")
-	f.StringSliceVar(&o.metrics, "metric", nil, "numeric runs.parquet column to test, repeatable (default "+strings.Join(report.CompareMetrics, ",")+")")
+	f.StringSliceVar(&o.metrics, "metric", nil, "numeric runs.parquet column to test, repeatable (default "+strings.Join(report.CompareMetrics, ",")+", and with flow traffic "+strings.Join(report.FlowCompareMetrics, ",")+")")
 	_ = cmd.MarkFlagRequired("a")
 	_ = cmd.MarkFlagRequired("b")
 	cmd.ValidArgsFunction = completeDirs
