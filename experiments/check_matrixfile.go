@@ -155,6 +155,10 @@ func (c *checker) matrixFile(e *Experiment) error {
 // rate matrices (packets per second, before any load scaling).
 func (c *checker) matrixFilePeriods(e *Experiment, t *Topology) error {
 	N := len(t.Graph.Nodes)
+	if b := ReplayBytes(len(e.Traffic.Periods), N); e.Traffic.Replay && b > MaxReplayBytes {
+		return c.errf(c.at.traffic, "traffic.matrix: a replay of %d periods on topology %q (%d nodes) takes %.3g GB as dense matrices, each run a copy; at most %.3g GB: use fewer periods (a longer period, or fewer files) or a smaller topology",
+			len(e.Traffic.Periods), t.Label, N, b/1e9, MaxReplayBytes/1e9)
+	}
 	index := make(map[string]int, N)
 	for i, n := range t.Graph.Nodes {
 		index[n.Name] = i

@@ -142,7 +142,10 @@
 //
 // Sizes the file controls are bounded before the work they drive starts:
 // MaxNodes and MaxLinks per topology, MaxRuns in the grid, MaxBins per run,
-// MaxFailureEvents expected per run, MaxAgentBytes per agent and topology.
+// MaxFailureEvents expected per run, MaxAgentBytes per agent and topology,
+// MaxReplayBytes for a traffic-matrix replay's dense matrices per topology
+// (ReplayBytes). EstimateMemory counts what remains below them, a replay's
+// matrices and a matrix file's demands included.
 //
 // Bundled experiments (demo, load-sweep, link-failure, single-queue) are
 // embedded in the binary with the topology files they use; Resolve finds a

@@ -25,4 +25,18 @@ const (
 	// take on one topology (agents.Kind.Cost); validation builds every
 	// agent once, so this is checked first.
 	MaxAgentBytes = 8e9
+	// MaxReplayBytes bounds the matrices of a traffic-matrix replay on one
+	// topology: a replay is kept as one dense nodes × nodes matrix per
+	// period (ReplayBytes), once by validation and once more by each run a
+	// worker holds; checked before validation builds them. Below it the
+	// memory guard weighs every copy (EstimateMemory).
+	MaxReplayBytes = 1e9
 )
+
+// ReplayBytes returns the bytes of periods dense nodes × nodes rate
+// matrices of float64, with their row slices: each row is an allocation of
+// 8 × nodes bytes, which Go's allocator rounds up to its size class (at most
+// 12.5% more below 32 KB).
+func ReplayBytes(periods, nodes int) float64 {
+	return float64(periods) * float64(nodes) * (1.125*8*float64(nodes) + 24)
+}

@@ -40,6 +40,16 @@ const (
 	seriesRowBytes   = 200  // a series row and a bin's counters
 	channelBytes     = 300  // channel state and its links row
 	perBinHistSpread = 1e3  // delivery times of one bin span three decades
+	// A replay's demand in the engine: its destination and weight in the
+	// source's draw table of the period (alias method: weight, probability,
+	// alias), and a source's entry per period (rate, table header: 80
+	// bytes, doubled for the slack of growing slices).
+	replayDemandBytes = 40
+	// A demand row of a matrix file as validation keeps it: names, rate,
+	// and the row and position its error messages point at (measured:
+	// about 370).
+	demandRowBytes    = 400
+	replaySourceBytes = 160
 	// GCFactor turns live heap into resident memory: with the garbage
 	// collector's default pacing (GOGC=100) the heap grows to about twice
 	// its live part before a collection.
@@ -89,6 +99,20 @@ func (e *Experiment) EstimateMemory(workers int) MemoryEstimate {
 	}
 	add("the process itself", processBytes)
 	add(fmt.Sprintf("replicates: %d (%d runs in the grid)", e.Replicates, len(runs)), float64(len(runs))*perRunBytes)
+	if tr := e.Traffic; tr.Matrix == "file" {
+		// the demands as read, and a replay's matrices on each topology,
+		// held from validation on
+		var demands int
+		for _, p := range tr.Periods {
+			demands += len(p.Demands)
+		}
+		add(fmt.Sprintf("traffic.matrix: %d demands read", demands), float64(demands)*demandRowBytes)
+		if tr.Replay {
+			for _, t := range e.Topologies {
+				add(replaySetting(e, t), ReplayBytes(len(tr.Periods), len(t.Graph.Nodes)))
+			}
+		}
+	}
 	for i := 0; i < workers && i < len(per); i++ {
 		for _, p := range per[i].parts {
 			add(p.Setting, p.Bytes)
@@ -129,6 +153,16 @@ func (r *Run) memoryParts() []MemoryPart {
 		{fmt.Sprintf("topology %s (%d channels)", t.Label, len(t.Net.Channels)), channels * channelBytes},
 		{"agent " + r.Dims.Agent, r.Agent.Estimate(r.size()).Bytes},
 	}
+	if tr := e.Traffic; tr.Replay {
+		// the run's scaled copy of the matrices, and the engine's
+		// per-source draw tables of each period's demands
+		var demands int
+		for _, p := range tr.Periods {
+			demands += len(p.Demands)
+		}
+		ps = append(ps, MemoryPart{replaySetting(e, t),
+			ReplayBytes(len(tr.Periods), len(t.Graph.Nodes)) + float64(demands)*replayDemandBytes + float64(len(tr.Periods)*len(t.Graph.Nodes))*replaySourceBytes})
+	}
 	if f := r.Failure; f != nil && f.Random != nil {
 		n := float64(len(t.Graph.Links))
 		if f.Random.Scope == "nodes" {
@@ -142,4 +176,10 @@ func (r *Run) memoryParts() []MemoryPart {
 		ps = append(ps, MemoryPart{"failures " + f.Name, float64(len(f.Events)) * failureBytes})
 	}
 	return ps
+}
+
+// replaySetting names a replay's memory term on topology t.
+func replaySetting(e *Experiment, t *Topology) string {
+	n := len(t.Graph.Nodes)
+	return fmt.Sprintf("traffic.matrix: a replay of %d periods (dense %d×%d matrices on topology %s)", len(e.Traffic.Periods), n, n, t.Label)
 }

@@ -3,6 +3,7 @@ package sweep
 import (
 	"context"
 	"os"
+	"path/filepath"
 	"runtime"
 	"runtime/debug"
 	"strconv"
@@ -185,5 +186,94 @@ failures: [` + fail + `]
 	t.Logf("failure events add %.1f MB to the run's heap; estimated %.1f MB", got/1e6, term/1e6)
 	if got > term || term > 2*got {
 		t.Errorf("estimate %.1f MB, measured %.1f MB: want within [1×, 2×]", term/1e6, got/1e6)
+	}
+}
+
+// replayYAML writes, into dir, a replay of periods matrices of 50 demands
+// each on a ring of nodes nodes (each period lasts 100 ms of the run) and
+// returns the experiment file's path.
+func replayYAML(t testing.TB, dir string, nodes, periods int) string {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("t,source,target,rate_pps\n")
+	for k := range periods {
+		for j := range 50 {
+			s := (k + 7*j) % nodes
+			d := (s + 1 + j%(nodes-1)) % nodes
+			b.WriteString(strconv.Itoa(k) + "s,n" + strconv.Itoa(s) + ",n" + strconv.Itoa(d) + ",2\n")
+		}
+	}
+	if err := os.WriteFile(filepath.Join(dir, "day.csv"), []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	y := `name: replay
+duration: ` + strconv.Itoa(periods/10) + `s
+warmup: 0s
+bin: 1s
+topologies: [{name: ring, nodes: ` + strconv.Itoa(nodes) + `}]
+traffic:
+  matrix: {file: day.csv, period: 1s, speedup: 10}
+  packet_size: {dist: fixed, bytes: 1000}
+agents: [shortest-path]
+optimum: {compute: false}
+`
+	p := filepath.Join(dir, "replay.yaml")
+	if err := os.WriteFile(p, []byte(y), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+// A traffic-matrix replay is held as dense matrices, once from validation
+// on (with the demands as read) and once more by each run: the replay and
+// demand terms of the estimate bound the heap that validation keeps, and
+// the whole estimate the heap a run takes, each within 2× (100 periods of
+// 50 demands on a ring of 150 nodes: about 20 MB a copy).
+func TestReplayMemoryBound(t *testing.T) {
+	nodes, periods := 150, 100
+	path := replayYAML(t, t.TempDir(), nodes, periods)
+	// what validation keeps (the topology's tables and the replay)
+	var m0, m1 runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&m0)
+	e, err := experiments.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	runtime.GC()
+	runtime.ReadMemStats(&m1)
+	validation := float64(m1.HeapAlloc) - float64(m0.HeapAlloc)
+	est := e.EstimateMemory(1)
+	var shared, perRun float64
+	for _, p := range est.Parts {
+		if strings.HasPrefix(p.Setting, "traffic.matrix: a replay of "+strconv.Itoa(periods+1)+" periods") {
+			// the shared and the run's terms carry the same name: added
+			shared = experiments.ReplayBytes(periods+1, nodes) // the periods and the end
+			perRun = p.Bytes/experiments.GCFactor - shared
+		}
+	}
+	if shared == 0 {
+		t.Fatalf("no replay term in %+v", est.Parts)
+	}
+	for _, p := range est.Parts {
+		if p.Setting == "traffic.matrix: "+strconv.Itoa(50*periods)+" demands read" {
+			shared += p.Bytes / experiments.GCFactor
+		}
+	}
+	run := e.Runs()[0]
+	running := peakHeap(func() {
+		if _, _, err := (&expUnit{r: run}).Execute(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	})
+	want := (est.Total - 30e6) / experiments.GCFactor // the run and the validation's matrices it finds
+	runtime.KeepAlive(e)
+	t.Logf("validation keeps %.1f MB (replay term %.1f MB); run %.1f MB (run's replay term %.1f MB, whole estimate but the process %.1f MB)",
+		validation/1e6, shared/1e6, running/1e6, perRun/1e6, (want-shared)/1e6)
+	if validation > shared || shared > 2*validation {
+		t.Errorf("validation: estimate %.1f MB, measured %.1f MB: want within [1×, 2×]", shared/1e6, validation/1e6)
+	}
+	if running > want-shared || want-shared > 2*running {
+		t.Errorf("run: estimate %.1f MB, measured %.1f MB: want within [1×, 2×]", (want-shared)/1e6, running/1e6)
 	}
 }

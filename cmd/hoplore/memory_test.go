@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -34,6 +35,24 @@ failures: [` + failure + `]
 		return p
 	}
 	tiny := write("tiny", "1s", "none")
+	// a replay of periods matrices (one demand each) on a ring of nodes
+	replay := func(name string, nodes, periods int) string {
+		var b strings.Builder
+		b.WriteString("t,source,target,rate_pps\n")
+		for k := range periods {
+			fmt.Fprintf(&b, "%dm,n%d,n%d,5\n", 5*k, k%nodes, (k+1)%nodes)
+		}
+		if err := os.WriteFile(filepath.Join(dir, name+".csv"), []byte(b.String()), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		p := filepath.Join(dir, name+".yaml")
+		y := fmt.Sprintf("name: %s\nduration: 100s\nbin: 1s\ntopologies: [{name: ring, nodes: %d}]\n"+
+			"traffic:\n  matrix: {file: %s.csv, period: 5m, speedup: 864}\nagents: [shortest-path]\n", name, nodes, name)
+		if err := os.WriteFile(p, []byte(y), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
 	tests := []struct {
 		name string
 		args []string
@@ -49,6 +68,14 @@ failures: [` + failure + `]
 		{"budget lifted", []string{"check", write("fine-bins2", "10us", "none"), "--memory-limit", "none"}, 0, "memory"},
 		{"within budget", []string{"check", tiny, "--memory-limit", "1GB"}, 0, "may be used (--memory-limit)"},
 		{"bad size", []string{"check", tiny, "--memory-limit", "lots"}, 2, "--memory-limit"},
+		// a day of 5-minute matrices on 1,000 nodes: 2.6 GB a copy, refused
+		// before validation builds one
+		{"replay of 288 on 1000", []string{"check", replay("day-1000", 1000, 288), "--memory-limit", "none"}, 2,
+			`day-1000.yaml:6:11: traffic.matrix: a replay of 289 periods on topology "ring(nodes=1000)" (1000 nodes) takes 2.61 GB as dense matrices`},
+		// on 300 nodes 0.23 GB a copy: validation builds it, the guard weighs
+		// the copies (validation's and each run's)
+		{"replay of 288 on 300", []string{"check", replay("day-300", 300, 288), "--memory-limit", "500MB"}, 2,
+			"driven by traffic.matrix: a replay of 289 periods (dense 300×300 matrices on topology ring(nodes=300))"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
