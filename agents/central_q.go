@@ -96,7 +96,8 @@ const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, an
 // channel is down in the installed snapshot, and for pairs without a choice
 // yet, it falls back to zero-load shortest paths over the channels up in the
 // installed snapshot. Each pair whose chosen path changes counts one route
-// change (the next hop changes at the source).
+// change (the next hop changes at the source); with flow learning (below),
+// each pair's and each size class's.
 //
 // Under pin: flow (Params.Pin PinFlow) a flow of flow traffic keeps the
 // path it started on, so the natural reward of that choice is the flow's
