@@ -39,6 +39,10 @@ func qNetworkCases() []func(p *agents.Params) {
 		func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond },
 		func(p *agents.Params) { p.Objective.Name = agents.ObjectiveUtilisation },
 		func(p *agents.Params) {
+			p.Objective.Name, p.InstallEvery = agents.ObjectiveUtilisation, 500*sim.Millisecond
+		},
+		func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveUtilisation, 2*sim.Second },
+		func(p *agents.Params) {
 			p.Objective = mix
 			p.Consensus = &agents.Consensus{Every: 2 * sim.Second, Weight: 0.5}
 		},

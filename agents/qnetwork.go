@@ -161,10 +161,7 @@ const (
 // state of the same objective (and shape); the measured parts, drop
 // frequencies and utilisation, start afresh.
 // With install_every the installed channel is the objective's choice on the
-// snapshot; under utilisation a snapshot can then hold a loop of more than
-// two nodes until the next install (on the contract suite's 3×3 grid at
-// 10% load, 6 of 2700 packets reached the hop limit with install_every
-// 500ms, 136 with 2s), as q-routing's tables can.
+// snapshot (see the hop budget below for the loops that can hold).
 //
 // Consensus: every Every each node sends its parameters to every neighbour
 // in-band (ParamsMessageBytes); a node keeps the parameters it sent in that
@@ -199,10 +196,21 @@ const (
 // install_every 500ms, 11.5% of the packets were lost at full queues,
 // against 0.04% without install_every; with the rule 0.04%). Sending a
 // packet back to where it came from is never part of a loop-free path, so
-// the detour costs nothing when the snapshots agree; it breaks two-node
-// loops only (longer ones end at the hop limit or the next install). An
-// install at the detecting node would not help: the stale entry is the
-// neighbour's, which learns of the failure only through its packets.
+// the detour costs nothing when the snapshots agree. An install at the
+// detecting node would not help: the stale entry is the neighbour's, which
+// learns of the failure only through its packets.
+//
+// The rule breaks two-node loops only. Longer ones can hold in the
+// snapshots until the next install, above all under objective utilisation,
+// whose classes a loop does not raise (on the contract suite's 3×3 grid at
+// 10% load, 6 of 2700 packets reached the hop limit with install_every
+// 500ms and 136 with 2s). So a packet that has made more hops than twice
+// the topology's hop diameter (the hop budget) is past any reasonable
+// detour: it leaves the installed channels and takes, per hop, the least
+// live delivery-time estimate (not back where it came from while another
+// channel exists), which the zero-load prior and the feedback of looping
+// packets keep pointing towards the destination; with it none of those
+// packets is lost. It too is a detour of that packet, not a route change.
 type QNetwork struct {
 	p      Params
 	shared *qnShared
@@ -226,6 +234,7 @@ type qnShared struct {
 	obj          int  // qnObjDelay, ...
 	hLoss, hUtil int  // output head of the loss and utilisation estimates, −1 if none
 	split        bool // values sent back leave out the channel to the asking node
+	hopBudget    int  // with install_every: hops after which a packet is decided live
 	w            Mix  // objective mix: the weights
 }
 
@@ -307,6 +316,9 @@ func newQNetworkOpt(p Params, net *sim.Net, prior bool) *QNetwork {
 		off += s.sizes[l+1]
 	}
 	s.nParam = off
+	if p.InstallEvery > 0 {
+		s.hopBudget = 2 * hopDiameter(net)
+	}
 	s.zl = zeroLoadCosts(net, p.packetBytes())
 	s.dist = allPairsDist(net, s.zl)
 	s.qCap = qCeiling(s.dist)
@@ -406,20 +418,48 @@ func (r *qnNode) install() {
 	}
 }
 
+// hopDiameter returns the largest hop count of a shortest path between two
+// nodes of the intact topology (breadth-first search from every node).
+func hopDiameter(net *sim.Net) int {
+	n := net.NumNodes()
+	dist := make([]int, n)
+	queue := make([]int, 0, n)
+	diam := 0
+	for src := 0; src < n; src++ {
+		for i := range dist {
+			dist[i] = -1
+		}
+		dist[src] = 0
+		queue = append(queue[:0], src)
+		for len(queue) > 0 {
+			u := queue[0]
+			queue = queue[1:]
+			diam = max(diam, dist[u])
+			for _, c := range net.Out[u] {
+				if v := net.Channels[c].To; dist[v] < 0 {
+					dist[v] = dist[u] + 1
+					queue = append(queue, v)
+				}
+			}
+		}
+	}
+	return diam
+}
+
 // greedy returns the Out index of the best usable channel for d under
 // parameters theta and the current queue features, −1 if none.
-func (r *qnNode) greedy(theta []float64, d int) int { return r.choose(theta, d, -1) }
+func (r *qnNode) greedy(theta []float64, d int) int { return r.choose(theta, d, -1, false) }
 
 // choose returns the Out index of the best usable channel for d, leaving out
 // those towards node avoid (−1: none), under parameters theta and the
 // current queue features, −1 if none; the order is the objective's (see
-// QNetwork): the least delivery time under delay, else the least primary
-// value (loss class, utilisation class or mix cost) with exact ties to the
-// lower delivery time, and the lowest Out index on ties. It leaves the
-// chosen channel's delivery time, loss and utilisation estimates in pickD,
-// pickL, pickU (0 for a head the objective lacks). Cost O(degree·network
-// size), no allocation.
-func (r *qnNode) choose(theta []float64, d, avoid int) int {
+// QNetwork): the least delivery time under delay (or with byDelay), else
+// the least primary value (loss class, utilisation class or mix cost) with
+// exact ties to the lower delivery time, and the lowest Out index on ties.
+// It leaves the chosen channel's delivery time, loss and utilisation
+// estimates in pickD, pickL, pickU (0 for a head the objective lacks or
+// with byDelay). Cost O(degree·network size), no allocation.
+func (r *qnNode) choose(theta []float64, d, avoid int, byDelay bool) int {
 	r.s.firstLayerCommon(theta, r.id, d, r.common)
 	best, bestP, bestD := -1, 0.0, 0.0
 	for k, c := range r.out {
@@ -427,7 +467,7 @@ func (r *qnNode) choose(theta []float64, d, avoid int) int {
 			continue
 		}
 		dl := r.qvalue(theta, d, k, r.queueFeature(c))
-		if r.s.obj == qnObjDelay {
+		if r.s.obj == qnObjDelay || byDelay {
 			if best < 0 || dl < bestD {
 				best, bestD = k, dl
 			}
@@ -671,10 +711,11 @@ func (r *qnNode) Route(p *sim.Packet) int {
 			best = r.greedy(r.theta, d) // the installed channel is down: the live parameters
 		}
 		r.pref.saw(r.v, d, best)
-		if r.fwd != nil && best >= 0 && r.nbr[best] == p.Prev {
-			// never straight back while following installed channels (see
-			// QNetwork); a detour is per packet, not a route change
-			if k := r.choose(r.theta, d, p.Prev); k >= 0 {
+		if r.fwd != nil && best >= 0 && (r.nbr[best] == p.Prev || p.Hops > r.s.hopBudget) {
+			// never straight back while following installed channels, and
+			// the live delivery time past the hop budget (see QNetwork); a
+			// detour is per packet, not a route change
+			if k := r.choose(r.theta, d, p.Prev, p.Hops > r.s.hopBudget); k >= 0 {
 				best = k
 			}
 		}
@@ -737,7 +778,7 @@ func (r *qnNode) objValue(d, avoid int) (delay, loss, util float64) {
 	if d == r.id {
 		return 0, 0, 0
 	}
-	if r.choose(r.target, d, avoid) < 0 || math.IsInf(r.pickD, 1) {
+	if r.choose(r.target, d, avoid, false) < 0 || math.IsInf(r.pickD, 1) {
 		return r.s.qCap, 1, 1
 	}
 	return math.Min(math.Max(r.pickD, 0)+r.proc, r.s.qCap), r.pickL, r.pickU
