@@ -144,5 +144,6 @@ for ((i = 0; i < TASKS; i++)); do
   [ -f "$WORK/cluster/shards/$i/runs.parquet" ] && fail "shard $i finalized tables though it holds only its share"
 done
 echo "--- merge log:"; head -n 3 "$WORK"/cluster/slurm/logs/merge-"$MERGE".out
+[ -f "$WORK/cluster/optimum.parquet" ] || fail "the merge job wrote no optimum.parquet"
 go test ./sweep -run '^TestCompareDirs$' -count=1 -v -args "$WORK/local" "$WORK/cluster"
 ts "PASS: merged job-array result equals the local run (wall_s masked)"
