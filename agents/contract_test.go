@@ -24,8 +24,8 @@ var contract = map[string][]func(p *agents.Params){
 }
 
 // qNetworkCases are the defaults, install_every, exploration with
-// consensus, and the objectives: loss (also with install_every),
-// utilisation, and a mix of all three terms with consensus.
+// consensus, and the objectives: loss and utilisation (each also with
+// install_every), and a mix of all three terms with consensus.
 func qNetworkCases() []func(p *agents.Params) {
 	mix := agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
 	return []func(p *agents.Params){
@@ -38,9 +38,6 @@ func qNetworkCases() []func(p *agents.Params) {
 		func(p *agents.Params) { p.Objective.Name = agents.ObjectiveLoss },
 		func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond },
 		func(p *agents.Params) { p.Objective.Name = agents.ObjectiveUtilisation },
-		func(p *agents.Params) {
-			p.Objective.Name, p.InstallEvery = agents.ObjectiveUtilisation, 500*sim.Millisecond
-		},
 		func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveUtilisation, 2*sim.Second },
 		func(p *agents.Params) {
 			p.Objective = mix
