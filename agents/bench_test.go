@@ -21,9 +21,12 @@ func benchParams() []agents.Params {
 		p.Objective.Name = o
 		ps = append(ps, p)
 	}
-	qm := agents.Defaults(agents.QRoutingKind)
-	qm.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
-	ps = append(ps, qm)
+	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
+		qm := agents.Defaults(agents.QRoutingKind)
+		qm.Variant = v
+		qm.Objective = agents.Objective{Name: agents.ObjectiveMix, Mix: agents.Mix{Delay: 1, Loss: 5, Utilisation: 1}}
+		ps = append(ps, qm)
+	}
 	ps = append(ps, agents.Defaults(agents.QNetworkKind)) // hidden [32]
 	qn := agents.Defaults(agents.QNetworkKind)
 	qn.InstallEvery = 500 * sim.Millisecond
