@@ -57,9 +57,13 @@ func CentralOptimalSolve(ag sim.Agent, demand [][]float64, d int) ([][]float64, 
 }
 
 // QRoutingValue returns node's estimate Q(d, out[k]) of a q-routing agent
-// after its run.
+// after its run (under objective loss, the loss estimate: the channel's
+// drop frequency composed with the learned loss beyond the next node).
 func QRoutingValue(a sim.Agent, node, d, k int) float64 {
 	r := a.(*QRouting).nodes[node]
+	if r.s.lossOn {
+		return r.lossAt(d*r.deg + k)
+	}
 	return r.q[d*r.deg+k]
 }
 

@@ -119,19 +119,25 @@ func init() {
 //     Heavy loss on a short path therefore does not move traffic away
 //     from it; a full queue does only through the wait it causes.
 //   - loss: Q_x(d,y) is the probability that a packet for d sent now into
-//     the channel towards y is lost before delivery, in [0, 1]. x samples
-//     the outcome of each packet it sends: a drop on its own channel (a
-//     full output queue or a loss on the link, reported to x alone by
-//     sim.Dropper) gives the sample 1; an arrival at y gives y's
-//     V_y(d) = min_z Q_y(d,z) (0 at y = d). Q moves towards each sample
-//     (rate as the variant), so it converges to the Bellman target
-//     p_xy·1 + (1 − p_xy)·V_y(d) = 1 − (1 − p_xy)(1 − V_y(d)), p_xy being
-//     the drop frequency x observes on its channel: Q-learning on sampled
-//     transitions (Watkins & Dayan, "Q-learning", Machine Learning 8,
-//     1992) with loss as a terminal cost of 1. A packet that reaches its
-//     hop limit at y (it will be dropped there) is a loss too: y then
-//     returns 1, so a forwarding loop shows as loss. Tables start at 0 (1
-//     for an unreachable destination). Beside them each node keeps the
+//     the channel towards y is lost before delivery, in [0, 1]: the
+//     Bellman value p_xy·1 + (1 − p_xy)·V_y(d) = 1 − (1 − p_xy)(1 −
+//     V_y(d)) of loss as a terminal cost of 1 (Watkins & Dayan,
+//     "Q-learning", Machine Learning 8, 1992), p_xy being the drop
+//     frequency of x's channel and V_y(d) = min_z Q_y(d,z) (0 at y = d).
+//     x learns the two factors apart: p̂_xy, an EWMA (rate dropRate) over
+//     every packet it sends on the channel, whatever its destination, of 1
+//     for a drop there (a full output queue or a loss on the link,
+//     reported to x alone by sim.Dropper) and 0 otherwise; and the loss
+//     beyond y, L_x(d,y), which moves towards each V_y(d) y reports (rate
+//     as the variant); Q_x(d,y) = 1 − (1 − p̂_xy)(1 − L_x(d,y)). Sampling
+//     Q itself, 1 for a drop and V_y(d) for an arrival, converges to the
+//     same value but at learning_rate 0.5 one drop lifts the estimate to
+//     0.5: greedy choice on so noisy an estimate leaves a lossy path long
+//     before its mean cost says so, and an unused path is never sampled
+//     again (measured: see the README, q-routing's objectives). A packet
+//     that reaches its hop limit at y (it will be dropped there) is a loss
+//     too: y then reports 1, so a forwarding loop shows as loss. Tables
+//     start at 0 (1 for an unreachable destination). Beside them each node keeps the
 //     delivery-time table of objective delay (same start, same update,
 //     the feedback carrying both values) and breaks exact ties of loss
 //     estimates, such as between loss-free paths, by it: packets take the
@@ -159,8 +165,8 @@ func init() {
 //     time to d (see Mix), exact ties to the lower delivery time. Feedback
 //     from y carries the three values of y's channel of least cost (a
 //     hop-limit expiry: loss and utilisation 1), so each table estimates
-//     its term along the path the mix takes; a drop on x's own channel is
-//     a loss sample of 1.
+//     its term along the path the mix takes; drops on x's own channels
+//     enter its drop frequencies, as under loss.
 //
 // Every variant takes every objective; under loss, utilisation and mix:
 //   - plain: every table at learning_rate, as above.
@@ -177,23 +183,21 @@ func init() {
 //     delivery time, utilisation: the values of x's best channel for src,
 //     with a utilisation table the best other than the one to the next
 //     node, split horizon); y moves its backward estimates Q_y(src,x) towards
-//     1 − (1 − p̂_yx)(1 − V_x(src)) (loss), V_x(src) + w + s' + δ (delivery
-//     time, as under delay) and max(u_yx, V_x(src)) (utilisation). p̂_yx is
-//     the drop frequency y observes on its channel to x: an EWMA (rate
-//     dropRate) of samples 1 for each drop sim.Dropper reports there and 0
-//     for each feedback that confirms an arrival.
+//     1 − (1 − p̂_yx)(1 − V_x(src)) (loss: its loss beyond x moves towards
+//     V_x(src), p̂_yx being y's observed drop frequency on its channel to
+//     x), V_x(src) + w + s' + δ (delivery time, as under delay) and
+//     max(u_yx, V_x(src)) (utilisation).
 //   - confidence: one confidence C per entry, as under delay: y reports
 //     the confidence of its best entry by the objective (1 at y = d, and
 //     when y has no usable channel ahead or the packet expires at y: those
 //     samples are facts, not estimates; without that a confident entry
 //     pointing into a dead end after a failure hardly moves, and packets
 //     loop), x
-//     computes η = max(C_est, 1 − C_old), moves the delivery-time table at
-//     rate η and the loss and utilisation tables at learning_rate·η (a
-//     single loss sample is a Bernoulli draw whatever its confidence: at
-//     rate 1 an estimate would jump between 0 and 1), and sets
-//     C += η(C_est − C). A drop sample moves the loss table at
-//     learning_rate and leaves C alone.
+//     computes η = max(C_est, 1 − C_old), moves every table (delivery
+//     time, loss beyond y, utilisation) at rate η and sets
+//     C += η(C_est − C). The values y reports are estimates, not single
+//     Bernoulli draws (the drop frequency of x's channel is learned apart,
+//     as above), so the published rate applies to each.
 //
 // give_up_after bounds the delivery-time table under every objective (a
 // destination is given up while every usable channel's delivery-time
@@ -203,8 +207,8 @@ func init() {
 // utilisation values (as its feedback would carry them; with a utilisation
 // table or split_horizon leaving out the channel to that neighbour), and
 // the neighbour moves its entries towards hop + V (delivery time),
-// 1 − (1 − p̂_xy)(1 − V) (loss) and max(u_xy, V) (utilisation) with
-// weight w. start_from loads every table a state stores (see State); a
+// 1 − (1 − p̂_xy)(1 − V) (loss: V is the loss beyond y) and max(u_xy, V)
+// (utilisation) with weight w. start_from loads every table a state stores (see State); a
 // state learned under another objective is refused.
 //
 // With give_up_after B > 0 a node drops (no_route) the packets for a
@@ -247,7 +251,7 @@ type qrShared struct {
 	utilOn   bool // a utilisation table is learned (objective utilisation, or a mix weighing it)
 	predQ    bool // predictive under objective delay: the recovery machinery acts on q
 	predD    bool // predictive under objective ≠ delay: recovery on the delivery-time table qd
-	needDrop bool // each channel's drop frequency is estimated (loss term with dual or consensus)
+	needDrop bool // each channel's drop frequency is estimated (a loss table is learned)
 }
 
 var (
@@ -293,7 +297,7 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	}
 	s.predQ = s.variant == variantPredictive && !s.alt
 	s.predD = s.variant == variantPredictive && s.alt
-	s.needDrop = s.lossOn && (s.variant == variantDual || p.Consensus != nil)
+	s.needDrop = s.lossOn
 	return &QRouting{p: p, shared: s}, nil
 }
 
@@ -410,6 +414,7 @@ type qrNode struct {
 	fu         []sim.Time
 	fbd, frd   []float64
 	fud        []sim.Time
+	fpdrop     []float64
 	installed  sim.Time
 }
 
@@ -419,6 +424,7 @@ func (r *qrNode) snapDelay() {
 	copy(r.fbd, r.bd)
 	copy(r.frd, r.rd)
 	copy(r.fud, r.ud)
+	copy(r.fpdrop, r.pdrop)
 }
 
 // tagQInstall is q-routing's install timer.
@@ -519,6 +525,9 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 			r.fr = make([]float64, len(r.r))
 			r.fu = make([]sim.Time, len(r.u))
 		}
+		if r.pdrop != nil {
+			r.fpdrop = make([]float64, len(r.pdrop))
+		}
 		if r.bd != nil {
 			r.fbd = make([]float64, len(r.bd))
 			r.frd = make([]float64, len(r.rd))
@@ -594,11 +603,14 @@ func (r *qrNode) resetColumn(k int) {
 // tables give their recovered values. With install_every it reads the
 // forwarding snapshot, as of the install. Cost O(1), no allocation.
 func (r *qrNode) view(i int, now sim.Time) (val, t float64) {
-	q, qd, qu, b, rr, u, bd, rd, ud := r.q, r.qd, r.qu, r.b, r.r, r.u, r.bd, r.rd, r.ud
+	q, qd, qu, b, rr, u, bd, rd, ud, pd := r.q, r.qd, r.qu, r.b, r.r, r.u, r.bd, r.rd, r.ud, r.pdrop
 	if r.fq != nil {
-		q, qd, qu, b, rr, u, bd, rd, ud, now = r.fq, r.fqd, r.fqu, r.fb, r.fr, r.fu, r.fbd, r.frd, r.fud, r.installed
+		q, qd, qu, b, rr, u, bd, rd, ud, pd, now = r.fq, r.fqd, r.fqu, r.fb, r.fr, r.fu, r.fbd, r.frd, r.fud, r.fpdrop, r.installed
 	}
 	val = q[i]
+	if r.s.lossOn {
+		val = composeLoss(pd[i%r.deg], val)
+	}
 	if r.s.predQ {
 		val = predEst(q, b, rr, u, i, now)
 	}
@@ -688,6 +700,9 @@ func (r *qrNode) Route(p *sim.Packet) int {
 	if best < 0 {
 		return sim.NoRoute
 	}
+	if r.pdrop != nil && !r.s.p.frozen() {
+		r.pdrop[best] -= dropRate * r.pdrop[best] // a send: a sample 0, until Dropped says otherwise
+	}
 	if r.s.variant == variantDual {
 		switch {
 		case r.s.alt && p.Src == r.id:
@@ -763,7 +778,7 @@ func (r *qrNode) less(a, b, ta, tb float64) bool {
 // delivery-time and utilisation tables q, qd, qu (qu nil at weight 0):
 // w_delay·qd/(zero-load time to the destination) + w_loss·q + w_util·qu.
 func (r *qrNode) mixCost(i int, q, qd, qu []float64) float64 {
-	c := r.wz[i/r.deg]*qd[i] + r.s.w.Loss*q[i]
+	c := r.wz[i/r.deg]*qd[i] + r.s.w.Loss*r.lossAt(i)
 	if qu != nil {
 		c += r.s.w.Utilisation * qu[i]
 	}
@@ -834,7 +849,7 @@ func (r *qrNode) altBest(d, skip int) int {
 			}
 			continue
 		}
-		if best < 0 || r.less(r.q[i], r.q[base+best], r.qd[i], r.qd[base+best]) {
+		if best < 0 || r.less(r.altAt(i), r.altAt(base+best), r.qd[i], r.qd[base+best]) {
 			best = k
 		}
 	}
@@ -858,16 +873,39 @@ func (r *qrNode) altVals(d, skip int) (loss, delay, util float64, k int) {
 	delay = math.Min(r.proc+r.qd[i], r.s.qCap)
 	switch {
 	case r.s.mix:
-		loss = r.q[i]
+		loss = r.lossAt(i)
 		if r.qu != nil {
 			util = r.qu[i]
 		}
 	case r.s.util:
 		util = r.q[i]
 	default:
-		loss = r.q[i]
+		loss = r.lossAt(i)
 	}
 	return loss, delay, util, k
+}
+
+// composeLoss returns the loss probability of a hop of drop frequency p
+// followed by a path of loss probability v: 1 − (1 − p)(1 − v).
+func composeLoss(p, v float64) float64 { return 1 - (1-p)*(1-v) }
+
+// lossAt returns the live loss estimate of entry i: the drop frequency of
+// its channel composed with the learned loss beyond the next node (0 when
+// no loss table is learned).
+func (r *qrNode) lossAt(i int) float64 {
+	if !r.s.lossOn {
+		return 0
+	}
+	return composeLoss(r.pdrop[i%r.deg], r.q[i])
+}
+
+// altAt returns the live value of entry i that objective loss or
+// utilisation compares.
+func (r *qrNode) altAt(i int) float64 {
+	if r.s.util {
+		return r.q[i]
+	}
+	return r.lossAt(i)
 }
 
 // utilTable returns the utilisation table (nil when none is learned).
@@ -982,9 +1020,6 @@ func (r *qrNode) Receive(m *sim.Message, in int) {
 		if d == r.id || d < 0 || d >= r.s.n {
 			return
 		}
-		if r.pdrop != nil {
-			r.pdrop[k] -= dropRate * r.pdrop[k] // the packet arrived: a sample 0
-		}
 		util := 0.0
 		if r.s.utilOn {
 			util = math.Max(r.channelUtil(k), m.Aux2)
@@ -1004,54 +1039,51 @@ func (r *qrNode) Receive(m *sim.Message, in int) {
 }
 
 // dropRate is the rate of the EWMA of drop samples (1 for a packet lost on
-// the channel, 0 for one that arrived) by which a node estimates each of its
-// channels' drop frequency p_xy for dual's backward loss estimate and for
-// consensus: it averages over about the last 1/dropRate packets sent. A
-// choice: an estimate of p = 0.2 then has standard deviation
-// √(dropRate/(2 − dropRate)·p(1 − p)) ≈ 0.009 (Roberts 1959).
+// the channel, 0 for one that was not) by which a node estimates each of
+// its channels' drop frequency p_xy under objectives that learn loss: it
+// averages over about the last 1/dropRate packets sent on the channel, for
+// any destination. A choice: an estimate of p = 0.2 then has standard
+// deviation √(dropRate/(2 − dropRate)·p(1 − p)) ≈ 0.009 (Roberts 1959), and
+// a change of loss is followed within about a thousand packets.
 const dropRate = 0.001
 
 // learnAlt applies one sample to entry (d, out[k]) under objective ≠ delay:
 // targets loss (loss table), delay (delivery-time table, seconds) and util
 // (utilisation table), each used only where the objective learns that
-// table; conf is the target's confidence (variant confidence). Rates:
-// learning_rate (predictive: with recovery on the delivery-time table);
-// confidence: η = max(conf, 1 − C) on the delivery-time table as
-// Kumar & Miikkulainen 1998, and learning_rate·η on the loss and
-// utilisation tables, whose single samples carry Bernoulli or busy-time
-// noise that no confidence removes. Cost O(1), no allocation.
+// table (loss: the loss beyond the next node); conf is the target's
+// confidence (variant confidence). Rates: learning_rate (predictive: with
+// recovery on the delivery-time table); confidence: η = max(conf, 1 − C)
+// on every table, as Kumar & Miikkulainen 1998. Cost O(1), no allocation.
 func (r *qrNode) learnAlt(d, k int, loss, delay, util, conf float64) {
 	i := d*r.deg + k
 	a := r.s.p.LearningRate
-	aAlt, aDelay := a, a
 	if r.s.variant == variantConfidence {
 		cOld := r.confidenceOf(d, i)
-		eta := math.Max(conf, 1-cOld)
-		aAlt, aDelay = a*eta, eta
+		a = math.Max(conf, 1-cOld)
 		r.rowN[d]++
-		r.c[i] = cOld + eta*(conf-cOld)
+		r.c[i] = cOld + a*(conf-cOld)
 		r.stamp[i] = r.rowN[d]
 	}
 	if r.s.lossOn {
-		r.q[i] += aAlt * (loss - r.q[i])
+		r.q[i] += a * (loss - r.q[i])
 	}
 	if r.s.predD {
 		predLearn(r.qd, r.bd, r.rd, r.ud, i, delay, a, r.v.Now())
 	} else {
-		r.qd[i] += aDelay * (delay - r.qd[i])
+		r.qd[i] += a * (delay - r.qd[i])
 	}
 	if ut := r.utilTable(); ut != nil {
-		ut[i] += aAlt * (util - ut[i])
+		ut[i] += a * (util - ut[i])
 	}
 }
 
 // dualAlt is dual's backward update at y under objective ≠ delay, for data
 // packet p that came from x over back's reverse (back: y → x): Q_y(src, x)
 // moves towards x's values for src carried in p.Aux (loss, delivery time,
-// utilisation) composed with y's own channel to x: loss
-// 1 − (1 − p_yx)(1 − V_x(src)), p_yx the drop frequency y observes on that
-// channel; delivery time V_x(src) + w + s' + δ as under delay; utilisation
-// max(u_yx, V_x(src)).
+// utilisation) composed with y's own channel to x: the loss beyond x
+// towards V_x(src) (the loss estimate composing it with y's drop frequency
+// on that channel); delivery time V_x(src) + w + s' + δ as under delay;
+// utilisation max(u_yx, V_x(src)).
 func (r *qrNode) dualAlt(p *sim.Packet, back int) {
 	k := r.localIndex(back)
 	if k < 0 {
@@ -1059,10 +1091,7 @@ func (r *qrNode) dualAlt(p *sim.Packet, back int) {
 	}
 	ch := &r.net.Channels[back]
 	delay := p.Aux[1] + r.v.Backlog(back)/ch.Bandwidth + float64(p.Size)*8/ch.Bandwidth + ch.Delay.Seconds()
-	loss, util := 0.0, 0.0
-	if r.s.lossOn {
-		loss = 1 - (1-r.pdrop[k])*(1-p.Aux[0])
-	}
+	loss, util := p.Aux[0], 0.0
 	if r.s.utilOn {
 		util = math.Max(r.channelUtil(k), p.Aux[2])
 	}
@@ -1113,11 +1142,10 @@ func (r *qrNode) channelUtil(k int) float64 {
 	return r.util[k]
 }
 
-// Dropped samples a loss when a loss table is learned: the packet for
-// p.Dst sent into this node's channel out was lost there (full queue or
-// link loss), so Q_x(d, out) moves towards 1 (at learning_rate in every
-// variant; the confidence variant leaves C as it is). Under delay a drop
-// teaches nothing.
+// Dropped samples a drop when a loss table is learned: the packet sent into
+// this node's channel out was lost there (full queue or link loss), so the
+// channel's drop frequency, which counted the send as a 0 in Route, takes a
+// 1 instead. Under delay a drop teaches nothing.
 func (r *qrNode) Dropped(p *sim.Packet, out int, _ sim.DropReason) {
 	if !r.s.lossOn || r.s.p.frozen() {
 		return
@@ -1127,11 +1155,7 @@ func (r *qrNode) Dropped(p *sim.Packet, out int, _ sim.DropReason) {
 	if k < 0 || d == r.id || d < 0 || d >= r.s.n {
 		return
 	}
-	if r.pdrop != nil {
-		r.pdrop[k] += dropRate * (1 - r.pdrop[k])
-	}
-	i := d*r.deg + k
-	r.q[i] += r.s.p.LearningRate * (1 - r.q[i])
+	r.pdrop[k] += dropRate // the send counted 0: a sample 1
 }
 
 // Detected resets a channel's column when its link comes back; a channel
@@ -1296,9 +1320,9 @@ func (r *qrNode) sendAltValues() {
 // blendAlt moves every table entry via out[k] towards the neighbour's
 // advertised values composed with this node's channel to it, under
 // objective ≠ delay: Q ← (1−w)Q + w·target with targets, per destination,
-// hop + V_y(d) for the delivery time (hop as blend), 1 − (1 − p_xy)(1 −
-// V_y(d)) for the loss, p_xy this node's observed drop frequency on the
-// channel, and max(u_xy, V_y(d)) for the utilisation.
+// hop + V_y(d) for the delivery time (hop as blend), V_y(d) for the loss
+// beyond y (the loss estimate composing it with the channel's drop
+// frequency), and max(u_xy, V_y(d)) for the utilisation.
 func (r *qrNode) blendAlt(k int, vals []float64) {
 	n := r.s.n
 	blocks := 1
@@ -1315,10 +1339,7 @@ func (r *qrNode) blendAlt(k int, vals []float64) {
 	c := r.out[k]
 	ch := &r.net.Channels[c]
 	hop := (r.v.Backlog(c)+AssumedPacketBytes*8)/ch.Bandwidth + ch.Delay.Seconds()
-	pxy, uxy := 0.0, 0.0
-	if r.pdrop != nil {
-		pxy = r.pdrop[k]
-	}
+	uxy := 0.0
 	if ut != nil {
 		uxy = r.channelUtil(k)
 	}
@@ -1334,7 +1355,7 @@ func (r *qrNode) blendAlt(k int, vals []float64) {
 		}
 		j := n
 		if r.s.lossOn {
-			r.q[i] = (1-w)*r.q[i] + w*(1-(1-pxy)*(1-vals[j+d]))
+			r.q[i] = (1-w)*r.q[i] + w*vals[j+d]
 			j += n
 		}
 		if ut != nil {

@@ -45,12 +45,15 @@ func (p *Params) frozen() bool { return p.Learning == "frozen" }
 // delivery-time estimate Value seconds (kept under every objective).
 // Confidence is the confidence variant's, Best and Rate the predictive
 // variant's best value and recovery rate of the delivery-time estimate (0
-// otherwise). Loss and Utilisation are the loss and utilisation estimates
-// of objectives that learn them (0 otherwise).
+// otherwise). Under objectives that learn loss, ChannelLoss is the drop
+// frequency of Channel and LossBeyond the learned loss probability beyond
+// Neighbour, the loss estimate being 1 − (1 − ChannelLoss)(1 −
+// LossBeyond); Utilisation is the utilisation estimate of objectives that
+// learn it (0 otherwise).
 type QEntry struct {
 	Node, Destination, Neighbour, Channel int
 	Value, Confidence, Best, Rate         float64
-	Loss, Utilisation                     float64
+	ChannelLoss, LossBeyond, Utilisation  float64
 }
 
 // State is a per-node learner's learned state at the end of a run: what
@@ -90,7 +93,7 @@ func ExportState(a sim.Agent) (*State, bool) {
 					if r.s.alt {
 						e.Value = r.qd[i]
 						if r.s.lossOn {
-							e.Loss = r.q[i]
+							e.ChannelLoss, e.LossBeyond = r.pdrop[k], r.q[i]
 						}
 						if ut := r.utilTable(); ut != nil {
 							e.Utilisation = ut[i]
@@ -177,7 +180,10 @@ func (r *qrNode) load(st *State) error {
 		i := e.Destination*r.deg + k
 		r.q[i] = e.Value
 		if r.s.alt {
-			r.qd[i], r.q[i] = e.Value, e.Loss
+			r.qd[i], r.q[i] = e.Value, e.LossBeyond
+			if r.pdrop != nil {
+				r.pdrop[k] = e.ChannelLoss
+			}
 			if ut := r.utilTable(); ut != nil {
 				ut[i] = e.Utilisation
 			}

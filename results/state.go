@@ -33,10 +33,13 @@ type NetworkState = statefile.Network
 // QRow is one row of a learned Q table: at node, for destination, through
 // channel (towards neighbour), the delivery-time estimate value in seconds.
 // confidence is the confidence variant's, best and recovery_rate the
-// predictive variant's for the delivery-time estimate (0 otherwise). loss
-// and utilisation are the estimates of objectives that learn them: the
-// columns are written only for a state whose StateInfo.Objective is set,
-// and read as 0 from a file without them.
+// predictive variant's for the delivery-time estimate (0 otherwise). Under
+// objectives that learn loss, channel_loss is the channel's observed drop
+// frequency and loss_beyond the learned loss probability beyond the
+// neighbour (the loss estimate is 1 − (1 − channel_loss)(1 − loss_beyond));
+// utilisation is the utilisation estimate of objectives that learn it. These
+// three columns are written only for a state whose StateInfo.Objective is
+// set, and read as 0 from a file without them.
 type QRow struct {
 	Node         string  `parquet:"node,dict"`
 	Destination  string  `parquet:"destination,dict"`
@@ -46,7 +49,8 @@ type QRow struct {
 	Confidence   float64 `parquet:"confidence"`
 	Best         float64 `parquet:"best"`
 	RecoveryRate float64 `parquet:"recovery_rate"`
-	Loss         float64 `parquet:"loss"`
+	ChannelLoss  float64 `parquet:"channel_loss"`
+	LossBeyond   float64 `parquet:"loss_beyond"`
 	Utilisation  float64 `parquet:"utilisation"`
 }
 

@@ -23,7 +23,7 @@ func TestStateTableLayouts(t *testing.T) {
 		in := make([]QRow, len(rows))
 		copy(in, rows)
 		if objective != "" {
-			in[0].Loss, in[0].Utilisation = 0.28, 0.32
+			in[0].ChannelLoss, in[0].LossBeyond, in[0].Utilisation = 0.2, 0.1, 0.32
 		}
 		ls := &LearnedState{Info: StateInfo{RunID: "r1", Agent: "q", Kind: "q-routing", Variant: "plain", Objective: objective}, Q: in}
 		if err := writeState(dir, ls, "test"); err != nil {
@@ -45,7 +45,7 @@ func TestStateTableLayouts(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, hasLoss := pf.Schema().Lookup("loss")
+		_, hasLoss := pf.Schema().Lookup("loss_beyond")
 		_, hasUtil := pf.Schema().Lookup("utilisation")
 		f.Close()
 		if want := objective != ""; hasLoss != want || hasUtil != want {

@@ -31,7 +31,7 @@ func learnedState(r *experiments.Run, net *sim.Net, a sim.Agent) *results.Learne
 	for i, e := range st.Q {
 		ls.Q[i] = results.QRow{Node: net.Name(e.Node), Destination: net.Name(e.Destination), Neighbour: net.Name(e.Neighbour),
 			Channel: e.Channel, Value: e.Value, Confidence: e.Confidence, Best: e.Best, RecoveryRate: e.Rate,
-			Loss: e.Loss, Utilisation: e.Utilisation}
+			ChannelLoss: e.ChannelLoss, LossBeyond: e.LossBeyond, Utilisation: e.Utilisation}
 	}
 	return ls
 }
@@ -72,7 +72,8 @@ func startFrom(path string, net *sim.Net, a sim.Agent) error {
 				return fmt.Errorf("sweep: %s: row %d names a node the topology lacks", path, i)
 			}
 			st.Q[i] = agents.QEntry{Node: v, Destination: d, Neighbour: y, Channel: q.Channel, Value: q.Value,
-				Confidence: q.Confidence, Best: q.Best, Rate: q.RecoveryRate, Loss: q.Loss, Utilisation: q.Utilisation}
+				Confidence: q.Confidence, Best: q.Best, Rate: q.RecoveryRate,
+				ChannelLoss: q.ChannelLoss, LossBeyond: q.LossBeyond, Utilisation: q.Utilisation}
 		}
 	}
 	if err := agents.StartFrom(a, st); err != nil {
