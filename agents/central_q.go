@@ -33,7 +33,13 @@ func init() {
 		},
 		New: newCentralQ,
 		Cost: func(p *Params, r RunSize) Cost {
-			return Cost{Events: centralEvents(p, r), Bytes: centralBytes(p, r)}
+			b := centralBytes(p, r)
+			if p.Pin == PinFlow && p.Objective.Name != ObjectiveUtilisation {
+				// the flow size classes' Q-tables, as large as the pairs' own
+				N := float64(r.Nodes)
+				b += float64(sim.NumFlowClasses) * N * N * float64(max(p.K, 1)) * 8 * 8
+			}
+			return Cost{Events: centralEvents(p, r), Bytes: b}
 		},
 	})
 }
