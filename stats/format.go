@@ -41,7 +41,16 @@ func PlusMinus(mean, half float64) string {
 		return Sig(mean, 4)
 	}
 	d := max(0, 1-int(math.Floor(math.Log10(half))))
-	return strconv.FormatFloat(mean, 'f', d, 64) + " ± " + strconv.FormatFloat(half, 'f', d, 64)
+	return unsignedZero(strconv.FormatFloat(mean, 'f', d, 64)) + " ± " + strconv.FormatFloat(half, 'f', d, 64)
+}
+
+// unsignedZero drops the sign of a number that rounded to zero: a mean of
+// −0.3 shown to the units is "0", not "-0".
+func unsignedZero(s string) string {
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+		return s[1:]
+	}
+	return s
 }
 
 // Format formats e in display units, its mean and half-width multiplied by
