@@ -102,8 +102,7 @@ func init() {
 //   - loss: the expected share of packets lost, each channel an M/M/1/K
 //     queue holding its buffer plus the packet in transmission (its
 //     blocking probability; an overloaded channel loses what does not fit)
-//     followed by its link's loss probability, as telemetry reports the
-//     link conditions in force (optimum.Solver.MinLoss).
+//     followed by its link's loss probability (optimum.Solver.MinLoss).
 //   - mix {delay: w_d, loss: w_l, utilisation: w_u}: w_d·(mean delay ÷
 //     mean zero-load path time) + w_l·(loss share) + w_u·(largest
 //     utilisation), the scales of the objective vocabulary (Mix), with
@@ -111,7 +110,10 @@ func init() {
 //
 // When the estimated demand does not fit, so that no finite mean delay
 // exists, min-delay and a mix with a delay weight install the min–max
-// routing instead; loss alone always has a solution. Utilisation and
+// routing instead; loss alone always has a solution. Loss and mix model
+// each link as telemetry reports it now, the bit rate and loss
+// probability the link conditions set; min-max-util and min-delay keep
+// the topology's bit rates. Utilisation and
 // delay are labelled min-max-util and min-delay, so a file may use either
 // spelling for the same agent.
 // optimum). The solution's flow towards each destination, made loop-free,
@@ -162,6 +164,7 @@ type CentralOptimal struct {
 	prevTaken sim.Time
 	usable    []bool
 	linkLoss  []float64 // per channel: link loss probability from telemetry
+	bandwidth []float64 // per channel: bit/s in force, from telemetry
 
 	sol coSolver
 
@@ -194,7 +197,7 @@ func newCentralOptimal(p Params, net *sim.Net) (sim.Agent, error) {
 	nc := len(net.Channels)
 	a := &CentralOptimal{p: p, net: net, n: n,
 		off: make([]int, n+1), zlNext: make([]int32, n*n),
-		demand: make([][]float64, n), prevGen: make([]int64, n*n), usable: make([]bool, nc), linkLoss: make([]float64, nc),
+		demand: make([][]float64, n), prevGen: make([]int64, n*n), usable: make([]bool, nc), linkLoss: make([]float64, nc), bandwidth: make([]float64, nc),
 		cost: zeroLoadCosts(net, p.packetBytes()), dist: make([]float64, n), col: make([]int32, n),
 		pf: newPathFinder(net), state: make([]uint8, n),
 		evLoad: make([]float64, nc), evX: make([]float64, n), evIndeg: make([]int32, n), evQueue: make([]int32, 0, n)}
@@ -206,6 +209,7 @@ func newCentralOptimal(p Params, net *sim.Net) (sim.Agent, error) {
 	}
 	for c := range a.usable {
 		a.usable[c] = true
+		a.bandwidth[c] = net.Channels[c].Bandwidth
 	}
 	a.w = make([]float64, a.off[n])
 	a.zeroLoadInto(a.w)
@@ -331,6 +335,9 @@ func (a *CentralOptimal) Telemetry(s *sim.Snapshot) {
 	}
 	if s.Loss != nil {
 		copy(a.linkLoss, s.Loss)
+	}
+	if s.Bandwidth != nil {
+		copy(a.bandwidth, s.Bandwidth)
 	}
 	latest := a.w // the table in force once everything queued is installed
 	if len(a.pending) > 0 {

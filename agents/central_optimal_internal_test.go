@@ -270,6 +270,34 @@ func TestCentralOptimalLossModel(t *testing.T) {
 			t.Logf("%s: share on the lossy direct channel %.4f, value %.4g, loss %.3g", tc.obj, next[i], want.Value, want.LossRate)
 		})
 	}
+	// Bit rates in force: loss and mix solve on the telemetry's, the
+	// min-max and min-delay objectives on the topology's, as before.
+	for _, tc := range []struct {
+		obj  Objective
+		want float64
+	}{
+		{Objective{Name: ObjectiveLoss}, 62.5},
+		{Objective{Name: ObjectiveMix, Mix: Mix{Delay: 1}}, 62.5},
+		{Objective{Name: ObjectiveMinMaxUtil}, 125},
+		{Objective{Name: ObjectiveMinDelay}, 125},
+	} {
+		p := Defaults(CentralOptimalKind)
+		p.Objective, p.MeanPacketBytes, p.PacketSizeSCV = tc.obj, 1000, 1
+		ag, err := New(p, net)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a := ag.(*CentralOptimal)
+		a.demand[0][1] = 10
+		a.bandwidth[0] = 0.5e6
+		next := make([]float64, len(a.w))
+		if _, err := a.sol.solveInto(a, next); err != nil {
+			t.Fatal(err)
+		}
+		if got := a.sol.s.Network().Channels[0].Capacity; got != tc.want {
+			t.Errorf("%s: channel 0 at half its bit rate solved with capacity %v packets/s, want %v", tc.obj, got, tc.want)
+		}
+	}
 	for _, tc := range []struct{ name, want string }{{ObjectiveUtilisation, ObjectiveMinMaxUtil}, {ObjectiveDelay, ObjectiveMinDelay}} {
 		p := Defaults(CentralOptimalKind)
 		p.Objective.Name = tc.name

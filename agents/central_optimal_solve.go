@@ -16,6 +16,7 @@ type coSolver struct {
 	s      *optimum.Solver
 	usable []bool    // the usable channels s was built for
 	loss   []float64 // and the link loss probabilities
+	bw     []float64 // and the bit rates (loss and mix objectives)
 	splits optimum.Splits
 }
 
@@ -23,8 +24,12 @@ func (cs *coSolver) init(a *CentralOptimal) error { return cs.build(a) }
 
 func (cs *coSolver) build(a *CentralOptimal) error {
 	m := optimum.FromNet(a.net, a.p.packetBytes(), func(c int) bool { return !a.usable[c] })
+	inForce := coInForce(a.p.Objective)
 	for c := range m.Channels {
 		m.Channels[c].Loss = a.linkLoss[c]
+		if inForce && m.Channels[c].Capacity > 0 {
+			m.Channels[c].Capacity = a.bandwidth[c] / (8 * a.p.packetBytes())
+		}
 	}
 	s, err := optimum.NewSolver(m)
 	if err == nil {
@@ -36,7 +41,17 @@ func (cs *coSolver) build(a *CentralOptimal) error {
 	cs.s = s
 	cs.usable = append(cs.usable[:0], a.usable...)
 	cs.loss = append(cs.loss[:0], a.linkLoss...)
+	cs.bw = append(cs.bw[:0], a.bandwidth...)
 	return nil
+}
+
+// coInForce reports whether objective o models the links as telemetry
+// reports them now (bit rates and link losses the link conditions set):
+// loss and mix do; min-max-util and min-delay keep the topology's bit
+// rates, as they always have.
+func coInForce(o Objective) bool {
+	o = coObjective(o)
+	return o.Name == ObjectiveLoss || o.Name == ObjectiveMix
 }
 
 // coBound is what a solve found: the new routing's objective value, and
@@ -60,7 +75,9 @@ const (
 // next hop are left as they are) and returns the new routing's value.
 func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
 	var b coBound
-	if !slices.Equal(cs.usable, a.usable) || !slices.Equal(cs.loss, a.linkLoss) {
+	o := coObjective(a.p.Objective)
+	inForce := coInForce(o)
+	if !slices.Equal(cs.usable, a.usable) || inForce && (!slices.Equal(cs.loss, a.linkLoss) || !slices.Equal(cs.bw, a.bandwidth)) {
 		if err := cs.build(a); err != nil {
 			return b, err
 		}
@@ -71,7 +88,7 @@ func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
 	if routable, _ := cs.s.Demand(); routable == 0 {
 		return b, errNoDemand
 	}
-	switch o := coObjective(a.p.Objective); o.Name {
+	switch o.Name {
 	case ObjectiveMinDelay:
 		r, err := cs.s.MinDelay(a.p.Epsilon)
 		if err != nil {

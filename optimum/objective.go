@@ -160,7 +160,10 @@ func (s *Solver) MinMix(w Weights, eps float64) (MixResult, error) {
 		if v := s.objExact(); v <= (1+eps)*lower/slack || v-lower/slack <= floor {
 			break
 		}
-		step := s.objLine()
+		for c := range s.dir {
+			s.dir[c] = s.ytot[c] - s.tot[c]
+		}
+		step := s.objLine(s.dir)
 		mix(s.flow, s.yk, step)
 		mix(s.tot, s.ytot, step)
 		phi = s.objValue()
@@ -404,20 +407,20 @@ func (s *Solver) objGradient() {
 	}
 }
 
-// objLine returns the step in [0, 1] minimising Φ_p(tot + step·(ytot −
-// tot)), below every capacity when there is a delay weight, by bisection
-// on the derivative (increasing, Φ_p being convex) by regula falsi.
-func (s *Solver) objLine() float64 {
+// objLine returns the step in [0, 1] minimising Φ_p(tot + step·dir),
+// below every capacity when there is a delay weight, by regula falsi on
+// the derivative (increasing, Φ_p being convex).
+func (s *Solver) objLine(dir []float64) float64 {
 	hi := 1.0
 	if s.objWD > 0 {
 		for c, ch := range s.net.Channels {
-			if d := s.ytot[c] - s.tot[c]; d > 0 && ch.Capacity > 0 {
+			if d := dir[c]; d > 0 && ch.Capacity > 0 {
 				hi = math.Min(hi, (ch.Capacity-s.tot[c])/d)
 			}
 		}
 	}
 	var t float64
-	at := func(c int) float64 { return s.tot[c] + t*(s.ytot[c]-s.tot[c]) }
+	at := func(c int) float64 { return s.tot[c] + t*dir[c] }
 	deriv := func(step float64) float64 {
 		t = step
 		var up float64
@@ -426,7 +429,7 @@ func (s *Solver) objLine() float64 {
 		}
 		var sum float64
 		for c, ch := range s.net.Channels {
-			d := s.ytot[c] - s.tot[c]
+			d := dir[c]
 			if d == 0 || ch.Capacity == 0 {
 				continue
 			}

@@ -55,6 +55,7 @@ type Solver struct {
 	tot     []float64 // Σ_k flow
 	yk      []float64 // [k*E+c]: the latest direction (phase or all-or-nothing flow)
 	ytot    []float64
+	dir     []float64 // per channel: MinMix's step direction
 	sumk    []float64 // running sum of phase flows (min-max)
 	sumtot  []float64
 }
@@ -97,6 +98,7 @@ func NewSolver(net Network) (*Solver, error) {
 	s.tot = make([]float64, E)
 	s.yk = make([]float64, N*E)
 	s.ytot = make([]float64, E)
+	s.dir = make([]float64, E)
 	s.sumk = make([]float64, N*E)
 	s.sumtot = make([]float64, E)
 	return s, nil

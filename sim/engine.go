@@ -994,6 +994,8 @@ func (e *engine) requestSnapshot() {
 		Up:     make([]bool, len(e.ch)),
 		NodeUp: make([]bool, N),
 		Loss:   make([]float64, len(e.ch)),
+
+		Bandwidth: make([]float64, len(e.ch)),
 	}
 	for c := range e.ch {
 		ch := &e.ch[c]
@@ -1005,6 +1007,7 @@ func (e *engine) requestSnapshot() {
 		s.Queue[c] = ch.q.len()
 		s.Up[c] = ch.up
 		s.Loss[c] = ch.loss
+		s.Bandwidth[c] = ch.bw
 	}
 	for v := range e.nodes {
 		s.NodeUp[v] = e.nodes[v].up

@@ -158,6 +158,9 @@ type Snapshot struct {
 	// lost on the link, as link conditions set it now (a link's configured
 	// loss, as its interface reports it).
 	Loss []float64
+	// Bandwidth is, per channel, the bit rate in force now (link
+	// conditions may change it from the topology's).
+	Bandwidth []float64
 	// Per source–destination pair (index s*N+d), cumulative over data packets
 	// generated at any time: delivered, delivery time sum (seconds), dropped.
 	PairDelivered []int64
