@@ -26,10 +26,12 @@ func shortLong(buffer int) *sim.Net {
 // shortLongRun runs p on shortLong with 100 packets/s of 1000 bytes from
 // n0 to n1 (ρ = 0.8 on either path alone) for 120 s, 30 s of warm-up, and
 // returns the share of n0's packets sent on the direct channel after the
-// warm-up and the share of generated packets lost.
+// warm-up and the share of generated packets lost. The controller solves
+// every 5 s.
 func shortLongRun(t *testing.T, net *sim.Net, p agents.Params, conds []sim.LinkCondition, seed uint64) (direct, loss float64) {
 	t.Helper()
 	p.MeanPacketBytes, p.PacketSizeSCV = 1000, 0
+	p.Every = 5 * sim.Second // each solve's min–max start runs its full phase budget on this network
 	ag, err := agents.New(p, net)
 	if err != nil {
 		t.Fatal(err)
@@ -84,13 +86,13 @@ func modelSplit(t *testing.T, net *sim.Net, w optimum.Weights, directLoss float6
 // objective: loss moves it to the clean path, and loses less. Measured:
 // the share of packets n0 sends on the direct channel (split packet, so
 // that each packet follows the installed weights). Tolerances from a pilot
-// of seeds 11–14: the measured shares lay within 0.052 of the model's
-// split (0.769–0.851 against 0.821 under delay, 0.025–0.034 against 0.030
+// of seeds 11–14: the measured shares lay within 0.048 of the model's
+// split (0.773–0.836 against 0.821 under delay, 0.027–0.036 against 0.030
 // under loss with the small buffer, 0 against 0 with the lossy link: the
 // controller solves on its own noisy demand estimate, to gap epsilon, and
 // keeps a routing within epsilon of the new one); asserted: within 0.1 of
 // the model's split, and under loss at most half the loss rate of delay
-// (the pilot: none lost under loss, 4–6% and 1.5% under delay).
+// (the pilot: none lost under loss, 4.3–5.8% and 1.5–1.7% under delay).
 func TestCentralOptimalLossObjective(t *testing.T) {
 	seeds := []uint64{1, 2}
 	if testing.Short() {
@@ -140,6 +142,9 @@ func TestCentralOptimalMixSplit(t *testing.T) {
 	net := shortLong(2)
 	prev := math.Inf(1)
 	weights := []float64{0.1, 10, 1000}
+	if testing.Short() {
+		weights = []float64{0.1, 1000}
+	}
 	for _, wl := range weights {
 		want := modelSplit(t, net, optimum.Weights{Delay: 1, Loss: wl}, 0)
 		p := agents.Defaults(agents.CentralOptimalKind)
