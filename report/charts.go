@@ -89,7 +89,7 @@ func agentIndex(agents []string) map[string]int {
 
 // loadChart draws column col against load: rows are topologies, columns
 // failure schedules. refs, by topology, add the model optimum (nil: none).
-func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column, refs map[string]optimumRef) *chart {
+func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column, refs map[refKey]optimumRef) *chart {
 	idx := agentIndex(agents)
 	var topos, fails []string
 	var all []Curve
@@ -103,8 +103,8 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 		all = append(all, lp.Curves...)
 	}
 	withRefs := all
-	for _, t := range topos {
-		if ref, ok := refs[t]; ok && len(ref.line) > 0 {
+	for _, lp := range panels {
+		if ref, ok := refs[refKey{lp.Topology, lp.Failure}]; ok && len(ref.line) > 0 {
 			withRefs = append(withRefs, Curve{Points: ref.line})
 		}
 	}
@@ -121,7 +121,7 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 	}
 	notes := []string{"lines: mean across replicates; bands: 95% confidence interval (Student t)"}
 	if len(refs) > 0 {
-		notes = append(notes, "grey dashed: model optimum (best splittable routing, intact topology)",
+		notes = append(notes, "grey dashed: model optimum (best routing of each topology state)",
 			"grey dotted: load limit, the highest load any routing could carry")
 	}
 	legend := agentLegend(agents, idx, notes...)
@@ -143,10 +143,7 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 			}
 			setRange(&p.X, xlo, xhi, false)
 			setRange(&p.Y, lo*ax.scale, hi*ax.scale, ax.logY)
-			if ref, ok := refs[lp.Topology]; ok {
-				if ref.intactOnly && lp.Failure != "none" {
-					ref.line = nil
-				}
+			if ref, ok := refs[refKey{lp.Topology, lp.Failure}]; ok {
 				addOptimum(p, th, ref, ax.scale, ax.logY, xlo, xhi, p.Y.Min, p.Y.Max)
 			}
 			f.panels[slices.Index(topos, lp.Topology)][slices.Index(fails, lp.Failure)] = p

@@ -471,10 +471,25 @@ func TestGlanceOptimum(t *testing.T) {
 			t.Errorf("%+v: optimum over %q, want %q", g.Panel, got, wantOver)
 		}
 	}
-	for topo, ref := range optimumRefs(d, "loss_rate") {
-		for _, p := range ref.line {
-			if p.X >= ref.limit || p.Est.Mean != 0 {
-				t.Errorf("%s: loss reference point %+v at or beyond the limit %v", topo, p, ref.limit)
+	// the charts draw the same reference per panel: delivery time and loss
+	// where the table gives them, the limit of the worst state
+	mean, loss := optimumRefs(d, "delivery_mean_s"), optimumRefs(d, "loss_rate")
+	for _, g := range rows {
+		k := refKey{g.Topology, g.Failure}
+		wantLimit := g.Optimum.LoadLimit
+		if g.Failure == "cut" {
+			wantLimit /= synCutFactor
+		}
+		if !close(mean[k].limit, wantLimit) || !close(loss[k].limit, wantLimit) {
+			t.Errorf("%+v: chart limits %v, %v; want %v", k, mean[k].limit, loss[k].limit, wantLimit)
+		}
+		for _, c := range []struct {
+			ref  optimumRef
+			want float64
+		}{{mean[k], g.Ref.DelayMean}, {loss[k], g.Ref.Loss}} {
+			i := slices.IndexFunc(c.ref.line, func(p Point) bool { return p.X == g.Load })
+			if math.IsNaN(c.want) != (i < 0) || i >= 0 && !close(c.ref.line[i].Est.Mean, c.want) {
+				t.Errorf("%+v at load %v: chart reference %+v, want %v", k, g.Load, c.ref.line, c.want)
 			}
 		}
 	}
@@ -498,7 +513,7 @@ func TestReadResultNamesFromSchema(t *testing.T) {
 // optimum only when some agent's mean lies below it at the same topology
 // and load.
 func TestBelowOptimum(t *testing.T) {
-	refs := map[string]optimumRef{"a": {line: []Point{{X: 0.5, Est: estimateOf(0.010)}, {X: 1, Est: estimateOf(0.040)}}, limit: 1.2}}
+	refs := map[refKey]optimumRef{{"a", "none"}: {line: []Point{{X: 0.5, Est: estimateOf(0.010)}, {X: 1, Est: estimateOf(0.040)}}, limit: 1.2}}
 	panel := func(topo string, pts ...Point) []LoadPanel {
 		return []LoadPanel{{Topology: topo, Failure: "none", Curves: []Curve{{Agent: "x", Points: pts}}}}
 	}

@@ -68,43 +68,69 @@ func Optima(d *Data) []Optimum {
 // estimateOf is a single exact value as an estimate (no interval).
 func estimateOf(v float64) stats.Estimate { return stats.Estimate{Mean: v, CI95: math.NaN()} }
 
-// optimumRef is what a load chart draws of the model optimum on one
-// topology: a reference line (nil: none) and the load limit (NaN: none).
+// optimumRef is what a load chart draws of the model optimum in one panel
+// (topology and failure schedule): a reference line (nil: none) and the
+// load limit (NaN: none).
 type optimumRef struct {
 	line  []Point
 	limit float64
-	// intactOnly: the line holds only without failures (the optimum's zero
-	// loss: a failure can force loss even below the intact load limit).
-	intactOnly bool
 }
 
-// optimumRefs returns, per topology, the reference of the charted column
-// col: for delivery_mean_s the optimum's mean delivery time at each load;
-// for loss_rate zero at the loads below the load limit (no routing need
-// lose anything there, in the model), drawn on the panels without
-// failures only; for both and for delivery_p95_s the load limit. Other
-// columns get none.
-func optimumRefs(d *Data, col string) map[string]optimumRef {
+// refKey identifies a load chart's panel: a topology and a failure
+// schedule.
+type refKey struct{ Topology, Failure string }
+
+// optimumRefs returns, per panel, the reference of the charted column col,
+// from the Reference of each load (the optimum of each topology state of
+// the panel's failure schedule over the measured window; without failures
+// the intact optimum): for delivery_mean_s its delivery time, for
+// loss_rate its loss (zero without failures) where known — below the load
+// limit of every state —, and for both and for delivery_p95_s the load
+// limit, the smallest of the states' in the window. Other columns get none.
+func optimumRefs(d *Data, col string) map[refKey]optimumRef {
 	if col != "delivery_mean_s" && col != "loss_rate" && col != "delivery_p95_s" {
 		return nil
 	}
-	out := map[string]optimumRef{}
+	intact := map[Panel]Optimum{}
 	for _, o := range Optima(d) {
-		ref, ok := out[o.Topology]
+		intact[Panel{Topology: o.Topology, Load: o.Load}] = o
+	}
+	states := optimumStates(d)
+	byPanel := map[Panel][]Run{}
+	var panels []Panel
+	for _, r := range d.Runs {
+		p := Panel{r.Topology, r.Load, r.Failure}
+		if _, ok := byPanel[p]; !ok {
+			panels = append(panels, p)
+		}
+		byPanel[p] = append(byPanel[p], r)
+	}
+	slices.SortFunc(panels, comparePanel)
+	out := map[refKey]optimumRef{}
+	for _, p := range panels {
+		o, ok := intact[Panel{Topology: p.Topology, Load: p.Load}]
+		if !ok && len(states[p]) == 0 {
+			continue
+		}
 		if !ok {
+			o = Optimum{Topology: p.Topology, Load: p.Load, DelayMean: math.NaN(), LoadLimit: math.NaN()}
+		}
+		k := refKey{p.Topology, p.Failure}
+		ref, seen := out[k]
+		if !seen {
 			ref.limit = math.NaN()
 		}
-		if !math.IsNaN(o.LoadLimit) {
-			ref.limit = o.LoadLimit
+		rf := reference(p, byPanel[p], states[p], o)
+		if !math.IsNaN(rf.LoadLimit) {
+			ref.limit = rf.LoadLimit
 		}
 		switch {
-		case col == "delivery_mean_s" && !math.IsNaN(o.DelayMean):
-			ref.line = append(ref.line, Point{X: o.Load, Est: estimateOf(o.DelayMean)})
-		case col == "loss_rate" && o.Load < o.LoadLimit:
-			ref.line = append(ref.line, Point{X: o.Load, Est: estimateOf(0)})
-			ref.intactOnly = true
+		case col == "delivery_mean_s" && !math.IsNaN(rf.DelayMean):
+			ref.line = append(ref.line, Point{X: p.Load, Est: estimateOf(rf.DelayMean)})
+		case col == "loss_rate" && !math.IsNaN(rf.Loss) && !math.IsNaN(rf.DelayMean):
+			ref.line = append(ref.line, Point{X: p.Load, Est: estimateOf(rf.Loss)})
 		}
-		out[o.Topology] = ref
+		out[k] = ref
 	}
 	return out
 }
@@ -115,9 +141,9 @@ const belowOptimumText = "Some agents' means lie below the model optimum (grey d
 
 // belowOptimum reports whether some agent's mean in panels lies below the
 // reference line of its topology at the same load.
-func belowOptimum(panels []LoadPanel, refs map[string]optimumRef) bool {
+func belowOptimum(panels []LoadPanel, refs map[refKey]optimumRef) bool {
 	for _, lp := range panels {
-		ref, ok := refs[lp.Topology]
+		ref, ok := refs[refKey{lp.Topology, lp.Failure}]
 		if !ok {
 			continue
 		}
@@ -261,6 +287,10 @@ type Reference struct {
 	Window []WindowShare
 	// Why says, when DelayMean is NaN, why ("" when known).
 	Why string
+	// LoadLimit is the smallest load limit among the states in the window
+	// that carry traffic: beyond it some state has no finite optimum (NaN
+	// when unknown).
+	LoadLimit float64
 }
 
 // WindowShare is a topology state's share of the measured window.
@@ -331,7 +361,7 @@ func measuredWindow(runs []Run) (lo, hi float64) {
 // its optimum.parquet rows states (state order) or, without them, from the
 // intact optimum of its runs' opt_* columns when p has no failures.
 func reference(p Panel, runs []Run, states []OptimumState, intact Optimum) Reference {
-	ref := Reference{DelayMean: math.NaN(), Loss: math.NaN()}
+	ref := Reference{DelayMean: math.NaN(), Loss: math.NaN(), LoadLimit: math.NaN()}
 	if len(states) == 0 {
 		if p.Failure != "none" {
 			ref.Why = "no per-state optimum (optimum.parquet)"
@@ -376,6 +406,9 @@ func reference(p Panel, runs []Run, states []OptimumState, intact Optimum) Refer
 		wSent += t * (1 - s.Unsent)
 		if routable <= 0 {
 			continue // nothing to carry in this state
+		}
+		if !math.IsNaN(s.LoadLimit) && !(s.LoadLimit >= ref.LoadLimit) {
+			ref.LoadLimit = s.LoadLimit
 		}
 		if math.IsNaN(s.DelayMean) {
 			if known {
