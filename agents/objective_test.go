@@ -474,3 +474,50 @@ func TestQRoutingMixBreakEven(t *testing.T) {
 		t.Errorf("long path's share %.3f at W = 2 (want below 0.5) and %.3f at W = 3 (want above 0.5)", shares[1], shares[2])
 	}
 }
+
+// Every variant's utilisation estimates are the path's bottleneck, and
+// dual's backward estimates too: on the chain of TestQRoutingUtilisation-
+// Estimate (s–m at 10 Mbit/s, m–d at 5 Mbit/s) with 200 packets/s of 1000
+// bytes each way, Q_s(d, m), Q_m(d, d) and Q_d(s, m) tend to
+// max(0.16, 0.32) = 0.32 and Q_m(s, s) to 0.16. Each estimate averages
+// max(u_xy, V_y(d)) over feedback and, for dual, backward updates, whose
+// channel terms are EWMAs of the busy time over about a second: standard
+// deviation at most that of one second's busy time, 0.0226 (as in
+// TestQRoutingUtilisationEstimate), z = 3.29.
+func TestQRoutingUtilisationEstimateVariants(t *testing.T) {
+	g := &sim.Graph{Name: "slow-chain"}
+	for _, n := range []string{"s", "m", "d"} {
+		g.Nodes = append(g.Nodes, sim.Node{Name: n})
+	}
+	g.Links = []sim.Link{{A: 0, B: 1, Bandwidth: 10e6, Delay: sim.Millisecond, Buffer: 64}, {A: 1, B: 2, Bandwidth: 5e6, Delay: sim.Millisecond, Buffer: 64}}
+	net := sim.Compile(g)
+	tol := 3.29 * 0.0226
+	for _, v := range []string{"plain", "predictive", "dual", "confidence"} {
+		p := agents.Defaults(agents.QRoutingKind)
+		p.Variant, p.Objective.Name = v, agents.ObjectiveUtilisation
+		a, err := agents.New(p, net)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := sim.Run(&sim.Config{Net: net, Agent: a, Seed: 7, AgentSeed: 8, Duration: 30 * sim.Second, Bin: sim.Second,
+			Traffic: sim.Traffic{Rates: [][]float64{{0, 0, 200}, {0, 0, 0}, {200, 0, 0}}, Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}}}); err != nil {
+			t.Fatal(err)
+		}
+		for _, c := range []struct {
+			node, dst, next int
+			want            float64
+		}{{0, 2, 1, 0.32}, {1, 2, 2, 0.32}, {2, 0, 1, 0.32}, {1, 0, 0, 0.16}} {
+			k := -1
+			for i, ch := range net.Out[c.node] {
+				if net.Channels[ch].To == c.next {
+					k = i
+				}
+			}
+			got := agents.QRoutingValue(a, c.node, c.dst, k)
+			t.Logf("%s: Q_%s(%s, %s) = %.4f, want %.2f ± %.4f", v, g.Nodes[c.node].Name, g.Nodes[c.dst].Name, g.Nodes[c.next].Name, got, c.want, tol)
+			if math.Abs(got-c.want) > tol {
+				t.Errorf("%s: Q_%s(%s, %s) = %.4f, want %.2f ± %.4f", v, g.Nodes[c.node].Name, g.Nodes[c.dst].Name, g.Nodes[c.next].Name, got, c.want, tol)
+			}
+		}
+	}
+}
