@@ -570,7 +570,7 @@ func TestReference(t *testing.T) {
 		{"random failures", p, []OptimumState{{Topology: "t", Load: 0.5, Failure: "cut", End: 600, DelayMean: 0.01, LoadLimit: 2, States: results.StatesIntact}}, Optimum{},
 			nan, nan, "random failures: states not solved", ""},
 		{"failures without optimum.parquet", p, nil, Optimum{DelayMean: 0.01, LoadLimit: 2},
-			nan, nan, "no per-state optimum (optimum.parquet)", ""},
+			nan, nan, "no per-state optimum: no optimum.parquet", ""},
 		{"README example", p, []OptimumState{st(0, 300, "", 0, 0, 0.010, 2), st(300, 500, "c-d", 0.1, 0, 0.020, 1), st(500, 800, "", 0, 0, 0.010, 2)}, Optimum{},
 			0.0123076923076923, 0.025, "", "intact 75%, c-d down 25%"},
 		{"no failures, from the runs' columns", Panel{"t", 0.5, "none"}, nil, Optimum{DelayMean: 0.01, LoadLimit: 2},

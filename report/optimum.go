@@ -364,7 +364,7 @@ func reference(p Panel, runs []Run, states []OptimumState, intact Optimum) Refer
 	ref := Reference{DelayMean: math.NaN(), Loss: math.NaN(), LoadLimit: math.NaN()}
 	if len(states) == 0 {
 		if p.Failure != "none" {
-			ref.Why = "no per-state optimum (optimum.parquet)"
+			ref.Why = "no per-state optimum: no optimum.parquet"
 			return ref
 		}
 		if math.IsNaN(intact.DelayMean) && math.IsNaN(intact.LoadLimit) {
