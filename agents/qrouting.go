@@ -251,7 +251,6 @@ type qrShared struct {
 	utilOn   bool // a utilisation table is learned (objective utilisation, or a mix weighing it)
 	predQ    bool // predictive under objective delay: the recovery machinery acts on q
 	predD    bool // predictive under objective ≠ delay: recovery on the delivery-time table qd
-	needDrop bool // each channel's drop frequency is estimated (a loss table is learned)
 }
 
 var (
@@ -297,7 +296,6 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	}
 	s.predQ = s.variant == variantPredictive && !s.alt
 	s.predD = s.variant == variantPredictive && s.alt
-	s.needDrop = s.lossOn
 	return &QRouting{p: p, shared: s}, nil
 }
 
@@ -374,7 +372,9 @@ type qrNode struct {
 	deg int
 	net *sim.Net
 
-	q []float64 // [d*deg+k] seconds (objective loss: probabilities)
+	// [d*deg+k]: delay: seconds; loss and mix: the loss probability beyond
+	// the next node; utilisation: the utilisation ahead
+	q []float64
 	// objective loss: delivery-time estimates breaking ties, seconds, and
 	// the hop limit beyond which a packet counts as lost
 	qd, fqd  []float64
@@ -487,7 +487,7 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 	}
 	r.pref = newPrefs(s.n)
 	r.give = newGiveUp(s.p.GiveUpAfter, s.n)
-	if s.needDrop {
+	if s.lossOn { // each channel's drop frequency
 		r.pdrop = make([]float64, r.deg)
 	}
 	switch s.variant {
