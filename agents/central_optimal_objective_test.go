@@ -10,15 +10,17 @@ import (
 )
 
 // shortLong is a network of a short path and a long clean one from n0 to
-// n1: the direct link n0–n1 (link 0, 1 ms, waiting room buffer) and the
-// detour n0–n2–n1 (links 1 and 2, 10 ms each, 50 waiting places), all
-// 1 Mbit/s: 125 packets/s of 1000 bytes.
+// n1, two hops each: n0–n3–n1 (links 0 and 3, 1 ms each; link 0 with
+// waiting room buffer) and n0–n2–n1 (links 1 and 2, 10 ms each), 50
+// waiting places elsewhere, all 1 Mbit/s: 125 packets/s of 1000 bytes.
+// Channel 0 is n0→n3, channel 2 n0→n2.
 func shortLong(buffer int) *sim.Net {
-	g := &sim.Graph{Name: "short-long", Nodes: []sim.Node{{Name: "n0"}, {Name: "n1"}, {Name: "n2"}}}
+	g := &sim.Graph{Name: "short-long", Nodes: []sim.Node{{Name: "n0"}, {Name: "n1"}, {Name: "n2"}, {Name: "n3"}}}
 	g.Links = []sim.Link{
-		{A: 0, B: 1, Bandwidth: 1e6, Delay: sim.Millisecond, Buffer: buffer},
+		{A: 0, B: 3, Bandwidth: 1e6, Delay: sim.Millisecond, Buffer: buffer},
 		{A: 0, B: 2, Bandwidth: 1e6, Delay: 10 * sim.Millisecond, Buffer: 50},
 		{A: 2, B: 1, Bandwidth: 1e6, Delay: 10 * sim.Millisecond, Buffer: 50},
+		{A: 3, B: 1, Bandwidth: 1e6, Delay: sim.Millisecond, Buffer: 50},
 	}
 	return sim.Compile(g)
 }
@@ -26,17 +28,15 @@ func shortLong(buffer int) *sim.Net {
 // shortLongRun runs p on shortLong with 100 packets/s of 1000 bytes from
 // n0 to n1 (ρ = 0.8 on either path alone) for 120 s, 30 s of warm-up, and
 // returns the share of n0's packets sent on the direct channel after the
-// warm-up and the share of generated packets lost. The controller solves
-// every 5 s.
+// warm-up and the share of generated packets lost.
 func shortLongRun(t *testing.T, net *sim.Net, p agents.Params, conds []sim.LinkCondition, seed uint64) (direct, loss float64) {
 	t.Helper()
 	p.MeanPacketBytes, p.PacketSizeSCV = 1000, 0
-	p.Every = 5 * sim.Second // each solve's min–max start runs its full phase budget on this network
 	ag, err := agents.New(p, net)
 	if err != nil {
 		t.Fatal(err)
 	}
-	rates := [][]float64{{0, 100, 0}, {0, 0, 0}, {0, 0, 0}}
+	rates := [][]float64{{0, 100, 0, 0}, {0, 0, 0, 0}, {0, 0, 0, 0}, {0, 0, 0, 0}}
 	r, err := sim.Run(&sim.Config{
 		Net: net, Duration: 120 * sim.Second, Warmup: 30 * sim.Second, Bin: sim.Second,
 		Traffic:    sim.Traffic{Rates: rates, Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}},
@@ -45,7 +45,7 @@ func shortLongRun(t *testing.T, net *sim.Net, p agents.Params, conds []sim.LinkC
 	if err != nil {
 		t.Fatal(err)
 	}
-	d, l := float64(r.Channels[0].Packets), float64(r.Channels[2].Packets) // n0→n1, n0→n2
+	d, l := float64(r.Channels[0].Packets), float64(r.Channels[2].Packets) // n0→n3, n0→n2
 	return d / (d + l), float64(r.DroppedTotal()) / float64(r.Generated)
 }
 
@@ -63,7 +63,7 @@ func modelSplit(t *testing.T, net *sim.Net, w optimum.Weights, directLoss float6
 		err = s.SetServiceSCV(0)
 	}
 	if err == nil {
-		err = s.SetDemand([][]float64{{0, 100, 0}})
+		err = s.SetDemand([][]float64{{0, 100, 0, 0}})
 	}
 	if err == nil {
 		if w == (optimum.Weights{}) {
@@ -78,21 +78,22 @@ func modelSplit(t *testing.T, net *sim.Net, w optimum.Weights, directLoss float6
 	return s.Load()[0] / 100
 }
 
-// TestCentralOptimalLossObjective: a short path with a small buffer (2
-// waiting places: an M/M/1/K queue of K = 3 blocks (1 − ρ)ρ³/(1 − ρ⁴),
-// 17% at ρ = 0.8; Kleinrock, Queueing Systems Vol. 1, 1975, §3.6), or with
-// a 2% link loss, and a long clean path. objective: delay keeps most of
-// the traffic on the short path, as the model's least-delay routing does;
-// objective: loss moves it to the clean path, and loses less. Measured:
-// the share of packets n0 sends on the direct channel (split packet, so
-// that each packet follows the installed weights). Tolerances from a pilot
-// of seeds 11–14: the measured shares lay within 0.048 of the model's
-// split (0.773–0.836 against 0.821 under delay, 0.027–0.036 against 0.030
-// under loss with the small buffer, 0 against 0 with the lossy link: the
-// controller solves on its own noisy demand estimate, to gap epsilon, and
-// keeps a routing within epsilon of the new one); asserted: within 0.1 of
-// the model's split, and under loss at most half the loss rate of delay
-// (the pilot: none lost under loss, 4.3–5.8% and 1.5–1.7% under delay).
+// TestCentralOptimalLossObjective: a short path whose first link has a
+// small buffer (2 waiting places: an M/M/1/K queue of K = 3 blocks
+// (1 − ρ)ρ³/(1 − ρ⁴), 17% at ρ = 0.8; Kleinrock, Queueing Systems Vol. 1,
+// 1975, §3.6) or a 2% link loss, and a long clean path. objective: delay
+// keeps most of the traffic on the short path, as the model's least-delay
+// routing does; objective: loss moves it to the clean path, and loses
+// less. Measured: the share of packets n0 sends on the short path's first
+// channel (split packet, so that each packet follows the installed
+// weights). Tolerances from a pilot of seeds 11–14: the measured shares
+// lay within 0.038 of the model's split (0.604–0.661 against 0.641 under
+// delay, 0.027–0.035 against 0.030 under loss with the small buffer, 0
+// against 0 with the lossy link: the controller solves on its own noisy
+// demand estimate, to gap epsilon, and keeps a routing within epsilon of
+// the new one); asserted: within 0.1 of the model's split, and under loss
+// at most half the loss rate of delay (the pilot: none lost under loss,
+// 1.5–2.1% and 1.2–1.4% under delay).
 func TestCentralOptimalLossObjective(t *testing.T) {
 	seeds := []uint64{1, 2}
 	if testing.Short() {
@@ -142,9 +143,6 @@ func TestCentralOptimalMixSplit(t *testing.T) {
 	net := shortLong(2)
 	prev := math.Inf(1)
 	weights := []float64{0.1, 10, 1000}
-	if testing.Short() {
-		weights = []float64{0.1, 1000}
-	}
 	for _, wl := range weights {
 		want := modelSplit(t, net, optimum.Weights{Delay: 1, Loss: wl}, 0)
 		p := agents.Defaults(agents.CentralOptimalKind)
