@@ -155,6 +155,11 @@ const (
 //     delivery time; the feedback carries the three values of y's channel
 //     of least cost (with split horizon when w_u > 0).
 //
+// Under learning: frozen the parameters stay as they are, but a node still
+// measures its own channels' drop frequencies (the next node reports each
+// arrival, with a feedback message carrying no values) and utilisation: they are measurements, not
+// learned values, and start afresh in every run.
+//
 // Consensus averages all parameters, heads included, and works under every
 // objective; give_up_after compares the delivery-time head. A learned state
 // records the objective and holds every head; start_from loads only a
@@ -751,7 +756,12 @@ func (r *qnNode) value(d int) float64 {
 // Arrived returns the Q-routing feedback for the hop just made.
 func (r *qnNode) Arrived(p *sim.Packet, in int) {
 	if r.s.p.frozen() {
-		return // no feedback: nothing learns
+		if r.s.hLoss >= 0 {
+			// nothing learns, but the sender still measures its drop
+			// frequency: tell it the packet arrived
+			r.v.Tell(in^1, sim.Message{Type: msgNetFeedback, Dst: p.Dst})
+		}
+		return
 	}
 	qs := (p.LastWait + p.LastTx).Seconds()
 	if r.s.obj != qnObjDelay {
@@ -786,9 +796,6 @@ func (r *qnNode) objValue(d, avoid int) (delay, loss, util float64) {
 
 // Receive trains on feedback and mixes in neighbours' parameters.
 func (r *qnNode) Receive(m *sim.Message, in int) {
-	if r.s.p.frozen() {
-		return
-	}
 	k := -1
 	for i, c := range r.out {
 		if c == in^1 {
@@ -797,6 +804,12 @@ func (r *qnNode) Receive(m *sim.Message, in int) {
 		}
 	}
 	if k < 0 {
+		return
+	}
+	if r.s.p.frozen() {
+		if m.Type == msgNetFeedback && r.drops != nil {
+			r.drops[k] -= qnDropWeight * r.drops[k]
+		}
 		return
 	}
 	switch m.Type {
@@ -919,11 +932,12 @@ func (r *qnNode) sgd(d, k int, qf, target, loss, util float64) {
 }
 
 // Dropped counts a loss on the node's own channel out (full queue or link
-// loss) in that channel's drop frequency. Under objectives without a loss
-// term a drop teaches nothing.
+// loss) in that channel's drop frequency, a measurement that goes on under
+// learning: frozen. Under objectives without a loss term a drop teaches
+// nothing.
 func (r *qnNode) Dropped(_ *sim.Packet, out int, _ sim.DropReason) {
-	if r.drops == nil || r.s.p.frozen() {
-		return
+	if r.drops == nil {
+		return // measured under learning: frozen too
 	}
 	for k, c := range r.out {
 		if c == out {

@@ -247,3 +247,36 @@ func TestQNetworkStateObjective(t *testing.T) {
 		}
 	}
 }
+
+// Under learning: frozen nothing is trained, but a node still measures its
+// own channels: a frozen loss agent, its heads at their start value 0,
+// sees the 20% loss on s→a by its measured drop frequency alone and moves
+// the stream to the long clean path (exactly: the share is all or nothing
+// without exploration), where a frozen delay agent stays on the short one.
+// Measured long path's share: loss 1.000, delay 0.000.
+func TestQNetworkFrozenMeasures(t *testing.T) {
+	for _, c := range []struct {
+		objective string
+		long      bool
+	}{{agents.ObjectiveLoss, true}, {agents.ObjectiveDelay, false}} {
+		net := lossyShort(10e6)
+		p := agents.Defaults(agents.QNetworkKind)
+		p.Objective.Name, p.Learning = c.objective, "frozen"
+		a, err := agents.New(p, net)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, err := sim.Run(&sim.Config{Net: net, Agent: a, Seed: 3, AgentSeed: 4, Duration: 15 * sim.Second, Warmup: 5 * sim.Second,
+			Bin:        sim.Second,
+			Traffic:    sim.Traffic{Rates: stream(5, 0, 4, 200), Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1000}},
+			Conditions: []sim.LinkCondition{{Link: 0, Loss: 0.2, SetLoss: true}}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		share := float64(r.Channels[4].Packets) / float64(r.Channels[0].Packets+r.Channels[4].Packets)
+		t.Logf("frozen, objective %s: long path's share %.3f", c.objective, share)
+		if c.long && share < 0.99 || !c.long && share > 0.01 {
+			t.Errorf("frozen, objective %s: long path's share %.3f, want the stream on the %s path", c.objective, share, map[bool]string{true: "long", false: "short"}[c.long])
+		}
+	}
+}
