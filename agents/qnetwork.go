@@ -155,16 +155,13 @@ const (
 //     delivery time; the feedback carries the three values of y's channel
 //     of least cost (with split horizon when w_u > 0).
 //
-// Under learning: frozen the parameters stay as they are, but a node still
-// measures its own channels' drop frequencies (the next node reports each
-// arrival, with a feedback message carrying no values) and utilisation: they are measurements, not
-// learned values, and start afresh in every run.
-//
 // Consensus averages all parameters, heads included, and works under every
 // objective; give_up_after compares the delivery-time head. A learned state
 // records the objective and holds every head; start_from loads only a
-// state of the same objective (and shape); the measured parts, drop
-// frequencies and utilisation, start afresh.
+// state of the same objective (and shape). The measured parts, drop
+// frequencies and utilisation, are not learned values: they start afresh
+// in every run and are measured under learning: frozen too (the next node
+// then reports each arrival with a feedback message carrying no values).
 // With install_every the installed channel is the objective's choice on the
 // snapshot (see the hop budget below for the loops that can hold).
 //
@@ -226,7 +223,7 @@ type QNetwork struct {
 type qnShared struct {
 	p      Params
 	n      int
-	sizes  []int // layer widths: in, hidden..., 1
+	sizes  []int // layer widths: in, hidden..., heads
 	woff   []int // offset of layer l's weights
 	boff   []int // offset of layer l's biases
 	nParam int
