@@ -69,8 +69,8 @@ type Params struct {
 	DropPenalty  sim.Time // central-q: cost charged per dropped packet
 
 	// central-optimal (also Every, ControlDelay, Smoothing)
-	// central-optimal: min-max-util | min-delay; central-q, q-routing:
-	// delay | loss | utilisation | mix
+	// delay | loss | utilisation | mix; central-optimal also min-max-util
+	// and min-delay (utilisation and delay are the same two there)
 	Objective Objective
 	Split     string // flow (by flow hash) | packet
 	// every kind: PinPacket (default) or PinFlow (see PinFlow)
