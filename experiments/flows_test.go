@@ -197,3 +197,34 @@ func TestFlowMeanPacketBytes(t *testing.T) {
 		t.Errorf("packet size cs² %g, want %g", got, v/(m*m))
 	}
 }
+
+// A flow experiment's memory estimate counts the candidate paths of the
+// idle-network completion times: every node of the uniform matrix is a
+// destination; a packet-only experiment has no such term.
+func TestFlowMemoryTerm(t *testing.T) {
+	e, err := Load("testdata/flows/mixed.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := e.Runs()[0]
+	n, m := len(r.Topology.Graph.Nodes), len(r.Topology.Net.Channels)
+	want := sim.IdleRoutesBytes(n, m, n)
+	var found bool
+	for _, p := range r.memoryParts() {
+		if strings.HasPrefix(p.Setting, "traffic.flows: idle-network paths") {
+			found = true
+			if p.Bytes != want || !strings.Contains(p.Setting, fmt.Sprintf("towards %d destinations", n)) {
+				t.Errorf("%q: %g bytes, want %d destinations, %g bytes", p.Setting, p.Bytes, n, want)
+			}
+		}
+	}
+	if !found {
+		t.Error("no memory term for the flows' idle-network paths")
+	}
+	e.Traffic.FlowGen = nil
+	for _, p := range e.Runs()[0].memoryParts() {
+		if strings.HasPrefix(p.Setting, "traffic.flows") {
+			t.Errorf("packet traffic alone: term %q", p.Setting)
+		}
+	}
+}

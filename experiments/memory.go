@@ -62,7 +62,8 @@ const (
 // process itself, every run of the grid
 // (replicates × cells), and the largest runs held at once by the workers —
 // their time series (bin), their queues with every buffer full (buffer),
-// their topology, their agents' tables (as each kind estimates them) and
+// their topology, their agents' tables (as each kind estimates them), the
+// candidate paths of their flows' idle-network completion times and
 // their failure events (random failures: the expected count from mtbf and
 // mttr). Cost: one estimate per cell, not per replicate.
 func (e *Experiment) EstimateMemory(workers int) MemoryEstimate {
@@ -162,6 +163,22 @@ func (r *Run) memoryParts() []MemoryPart {
 		}
 		ps = append(ps, MemoryPart{replaySetting(e, t),
 			ReplayBytes(len(tr.Periods), len(t.Graph.Nodes)) + float64(demands)*replayDemandBytes + float64(len(tr.Periods)*len(t.Graph.Nodes))*replaySourceBytes})
+	}
+	if e.Traffic.FlowGen != nil {
+		// the candidate paths of the flows' idle-network completion
+		// times: next-hop trees per destination with flow traffic
+		var dests int
+		fr := r.FlowRates()
+		for d := range fr {
+			for s, row := range fr {
+				if s != d && d < len(row) && row[d] > 0 {
+					dests++
+					break
+				}
+			}
+		}
+		ps = append(ps, MemoryPart{fmt.Sprintf("traffic.flows: idle-network paths towards %d destinations (topology %s)", dests, t.Label),
+			sim.IdleRoutesBytes(len(t.Graph.Nodes), len(t.Net.Channels), dests)})
 	}
 	if f := r.Failure; f != nil && f.Random != nil {
 		n := float64(len(t.Graph.Links))

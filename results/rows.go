@@ -221,8 +221,11 @@ type FlowRow struct {
 	EndS *float64 `parquet:"end_s,optional"`
 	// FCTS is end_s − start_s; null unless completed.
 	FCTS *float64 `parquet:"fct_s,optional"`
-	// IdealFCTS is the completion time alone on the idle network
-	// (sim.IdealFCT); null when the destination cannot be reached.
+	// IdealFCTS is the completion time alone on the idle network along
+	// the best of sim.IdealFCT's candidate paths (the hop-count shortest
+	// path and the least-delay paths over channels of at least a few
+	// bandwidths), with the channels' parameters when the flow started;
+	// null when the destination cannot be reached.
 	IdealFCTS *float64 `parquet:"ideal_fct_s,optional"`
 	// Slowdown is fct_s / ideal_fct_s; null if either is.
 	Slowdown         *float64 `parquet:"slowdown,optional"`

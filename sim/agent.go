@@ -86,8 +86,9 @@ type FlowEnd struct {
 	// End is the delivery of the last packet of a completed flow, the
 	// instant of the ending (last delivery or drop) of a failed one.
 	End Time
-	// Ideal is the completion time alone on the idle network (IdealFCT), −1
-	// when the destination cannot be reached on the intact network.
+	// Ideal is the completion time alone on the idle network along the best
+	// of IdealFCT's candidate paths (FlowRecord.Ideal), −1 when the
+	// destination cannot be reached on the intact network.
 	Ideal     Time
 	Packets   int32 // packets sent
 	Delivered int32 // packets delivered

@@ -31,8 +31,10 @@
 // packets sent back to back at the source's access rate or a rate limit.
 // Flows live in a free list like packets, so they allocate nothing in the
 // steady state. Result.Flows holds completion times, slowdowns against the
-// idle network (IdealFCT, exact by max-plus tandem algebra) per size class,
-// and reordering.
+// idle network (IdealFCT: exact by max-plus tandem algebra along the best
+// of a few candidate paths, the hop-count one and the least-delay ones
+// over channels of at least a few bandwidths) per size class, and
+// reordering.
 //
 // Routing is delegated to agents through small interfaces declared here
 // (PerNode/Router with optional Arrivals, Dropper, Receiver, Detector,

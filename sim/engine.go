@@ -135,10 +135,11 @@ type engine struct {
 	fl      []flowState
 	ffree   []int32
 	fserial uint64
-	fpkt    int        // packet size of flows
-	fseen   int64      // measured flows offered to the sample
-	fsample *rand.Rand // the sample's reservoir draws
-	fend    FlowEnd    // what FlowWatcher.FlowEnded is handed
+	fpkt    int         // packet size of flows
+	idle    *idleRoutes // candidate paths of flows' idle-network completion times
+	fseen   int64       // measured flows offered to the sample
+	fsample *rand.Rand  // the sample's reservoir draws
+	fend    FlowEnd     // what FlowWatcher.FlowEnded is handed
 	// per pair, cumulative over packets of flow traffic (central agents,
 	// with flow traffic): Snapshot.PairFlow*
 	pairFDel   []int64
@@ -554,6 +555,9 @@ func (e *engine) interarrival(src *source) Time {
 // applyCondition sets the parameters of both channels of a link.
 func (e *engine) applyCondition(k int) {
 	c := &e.conds[k]
+	if e.idle != nil && (c.Bandwidth > 0 || c.SetDelay) {
+		e.idle.invalidate()
+	}
 	for _, ci := range [2]int{2 * c.Link, 2*c.Link + 1} {
 		ch := &e.ch[ci]
 		if c.Bandwidth > 0 {

@@ -3,6 +3,7 @@ package sim
 import (
 	"context"
 	"math/rand/v2"
+	"runtime"
 )
 
 // PendingEvents runs cfg and returns the mean number of events pending in
@@ -65,3 +66,44 @@ func (h *Hold) Run(n int) Time {
 
 // Len returns the number of pending events.
 func (h *Hold) Len() int { return h.h.len() }
+
+// IdealFCTAlong is IdealFCT's completion time along one given simple path
+// of channels from src to dst (path non-empty), rather than the best of
+// the candidates.
+func IdealFCTAlong(n *Net, path []int, size int64, packetBytes int, rate float64, bw []float64, delay []Time) Time {
+	next := make([]int32, n.NumNodes())
+	for i := range next {
+		next[i] = NoRoute
+	}
+	for _, c := range path {
+		next[n.Channels[c].From] = int32(c)
+	}
+	src, dst := n.Channels[path[0]].From, n.Channels[path[len(path)-1]].To
+	return idealFCT(n, src, dst, size, packetBytes, rate, &staticParams{bw, delay}, next)
+}
+
+// IdleFCT returns IdealFCT as the engine computes it at each flow start:
+// with the candidate trees cached per destination.
+func IdleFCT(n *Net, packetBytes int, bw []float64, delay []Time) func(src, dst int, size int64, rate float64) Time {
+	r, prm := newIdleRoutes(n, packetBytes), &staticParams{bw, delay}
+	return func(src, dst int, size int64, rate float64) Time { return r.fct(src, dst, size, rate, prm) }
+}
+
+// IdleRoutesHeap returns the bytes allocated for the candidate paths of
+// the idle-network completion time on net once dests destinations have
+// their trees, and runs one look-up per destination.
+func IdleRoutesHeap(n *Net, dests int) uint64 {
+	bw, delay := make([]float64, len(n.Channels)), make([]Time, len(n.Channels))
+	for c, ch := range n.Channels {
+		bw[c], delay[c] = ch.Bandwidth, ch.Delay
+	}
+	var m0, m1 runtime.MemStats
+	runtime.ReadMemStats(&m0)
+	r, prm := newIdleRoutes(n, DefaultFlowPacketBytes), &staticParams{bw, delay}
+	for d := 0; d < dests; d++ {
+		r.fct((d+1)%n.NumNodes(), d, 1e6, 1e9, prm)
+	}
+	runtime.ReadMemStats(&m1)
+	runtime.KeepAlive(r)
+	return m1.TotalAlloc - m0.TotalAlloc
+}

@@ -67,6 +67,17 @@ func (c FlowClass) String() string { return flowClassNames[c] }
 // the warm-up. A flow completes when its last packet is delivered; it fails
 // when one of its packets is dropped or its source stops it; it is
 // unfinished when the run ends first.
+//
+// The slowdown of a completed flow is its completion time over its
+// completion time alone on the idle network (IdealFCT, with the channels'
+// bandwidths and delays when it started): the best of the hop-count
+// shortest path and, per bandwidth threshold, the path of least zero-load
+// delay over the channels at least that wide, so that a flow sent alone
+// along the best of these paths has slowdown 1 wherever that path is.
+// Other traffic only delays a packet in the FIFO store-and-forward tandem,
+// so a flow kept on one of the candidate paths never falls below 1. A
+// routing that finds a path better than every candidate (rare: IdealFCT
+// states how often), or that splits one flow over several paths, can.
 type FlowResult struct {
 	Started, Completed, Failed, Unfinished int64
 	Classes                                [NumFlowClasses]FlowClassResult
@@ -109,7 +120,8 @@ type FlowRecord struct {
 	// End is the delivery of the last packet of a completed flow, −1
 	// otherwise.
 	End Time
-	// Ideal is the completion time alone on the idle network (IdealFCT),
+	// Ideal is the completion time alone on the idle network along the best
+	// of IdealFCT's candidate paths, with the channels' parameters at Start;
 	// −1 when the destination cannot be reached on the intact network.
 	Ideal     Time
 	Packets   int32 // packets sent
@@ -134,12 +146,20 @@ type FlowClassResult struct {
 
 // IdealFCT returns the completion time of a flow of size bytes from src to
 // dst on the idle network, alone: packets of packetBytes (the last holding
-// the rest) paced at rate bit/s along the hop-count shortest path of
-// HopRoute, over channels of bandwidth bw[c] (bit/s) and propagation delay
-// delay[c], plus each intermediate node's processing time. It returns −1
-// when dst cannot be reached.
+// the rest) paced at rate bit/s, over channels of bandwidth bw[c] (bit/s)
+// and propagation delay delay[c], plus each intermediate node's processing
+// time, along the best of a set of candidate paths: the hop-count shortest
+// path of HopRoute and, for each of up to IdleThresholds bandwidth
+// thresholds b (the smallest channel bandwidth always one of them), the
+// path of least zero-load delay (propagation, processing and one full
+// packet's transmission per hop) over the channels of bandwidth ≥ b. A
+// mouse's best is then the low-delay path, an elephant's the wide one; the
+// pacing rate caps the bottleneck. The candidates hold the best of all
+// simple paths in most cases and are never better than it (see the tests
+// for the measured share). It returns −1 when dst cannot be reached.
 func IdealFCT(n *Net, src, dst int, size int64, packetBytes int, rate float64, bw []float64, delay []Time) Time {
-	return idealFCT(n, src, dst, size, packetBytes, rate, &staticParams{bw, delay})
+	prm := &staticParams{bw, delay}
+	return newIdleRoutes(n, packetBytes).fct(src, dst, size, rate, prm)
 }
 
 // chanParams gives a channel's current bandwidth and propagation delay.
@@ -166,25 +186,24 @@ func (e *engine) chanParams(c int) (float64, Time) { return e.ch[c].bw, e.ch[c].
 // packets 1..n−1 all at one hop j, carries packet n−1 on to a hop k ≥ j,
 // and packet n from k to the end: maximised over j ≤ k by one pass along
 // the path. Transmission times are rounded to nanoseconds per packet, as
-// the engine does. Cost O(hops · degree), no allocation.
-func idealFCT(n *Net, src, dst int, size int64, packetBytes int, rate float64, prm chanParams) Time {
-	if src == dst {
-		return 0
-	}
-	if n.Hops[src][dst] <= 0 {
-		return -1
-	}
+// the engine does. The path follows the next-hop channels next (a tree into
+// dst that src reaches), or HopRoute's when next is nil; src ≠ dst, and dst
+// is reachable. Cost O(hops · degree), no allocation.
+func idealFCT(n *Net, src, dst int, size int64, packetBytes int, rate float64, prm chanParams, next []int32) Time {
 	np := (size + int64(packetBytes) - 1) / int64(packetBytes)
 	last := size - (np-1)*int64(packetBytes)
-	tx := func(bytes int64, b float64) Time { return Time(math.Round(float64(bytes) * 8 / b * 1e9)) }
 	hop := func(v int) (c, to int, full, lt, d Time) {
-		c = HopRoute(n, v, dst)
+		if next == nil {
+			c = HopRoute(n, v, dst)
+		} else {
+			c = int(next[v])
+		}
 		to = n.Channels[c].To
 		b, dl := prm.chanParams(c)
 		if to != dst {
 			dl += n.Graph.Nodes[to].Processing
 		}
-		return c, to, tx(int64(packetBytes), b), tx(last, b), dl
+		return c, to, txTime(int64(packetBytes), b), txTime(last, b), dl
 	}
 	// first pass: totals of the last packet's transmissions and the delays
 	var lTot, dTot Time
@@ -459,6 +478,7 @@ func (e *engine) initFlows() {
 	N := len(e.nodes)
 	e.fsrc = make([]flowSource, N)
 	e.fpkt = g.PacketSize()
+	e.idle = newIdleRoutes(e.net, e.fpkt)
 	e.res.Flows = &FlowResult{}
 	for c := range e.res.Flows.Classes {
 		e.res.Flows.Classes[c].FCT = NewHistogram()
@@ -527,7 +547,7 @@ func (e *engine) startFlow(s int) {
 		npkts: int32((size + int64(e.fpkt) - 1) / int64(e.fpkt)), start: e.now, rate: fs.send,
 		label: uint32(Mix(uint64(s)<<32|uint64(d), e.fserial)), class: g.Class(float64(size)),
 		measured: e.now >= e.cfg.Warmup, live: true, first: NoRoute}
-	f.ideal = idealFCT(e.net, s, d, size, e.fpkt, fs.send, e)
+	f.ideal = e.idle.fct(s, d, size, fs.send, e)
 	if f.measured {
 		e.res.Flows.Started++
 		e.res.Flows.Classes[f.class].Started++
