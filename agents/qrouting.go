@@ -379,10 +379,8 @@ type qrNode struct {
 	// the hop limit beyond which a packet counts as lost
 	qd, fqd  []float64
 	hopLimit int
-	// objective utilisation: per channel, the EWMA utilisation and the
-	// time and busy time of its last sample
-	util         []float64
-	utilT, utilB []sim.Time
+	// objective utilisation: per channel, the EWMA utilisation
+	meter busyMeter
 	// objective mix: the utilisation table (nil at weight 0) and its
 	// snapshot, and per destination the delay weight over this node's
 	// zero-load time to it (1/s)
@@ -469,9 +467,7 @@ func newQRNode(s *qrShared, v *sim.NodeView) *qrNode {
 		r.hopLimit = v.HopLimit()
 	}
 	if s.utilOn {
-		r.util = make([]float64, r.deg)
-		r.utilT = make([]sim.Time, r.deg)
-		r.utilB = make([]sim.Time, r.deg)
+		r.meter = newBusyMeter(r.deg)
 	}
 	if s.mix {
 		if s.w.Utilisation > 0 {
@@ -1127,20 +1123,9 @@ func (r *qrNode) update(d, k int, target, conf float64) {
 // packet time, short against the load changes routing should follow.
 const utilWindow = sim.Second
 
-// channelUtil returns the utilisation of channel out[k] as x measures it:
-// the channel's busy fraction since the last sample, folded into an EWMA
-// of time constant utilWindow. Cost O(1), no allocation.
-func (r *qrNode) channelUtil(k int) float64 {
-	now := r.v.Now()
-	if dt := now - r.utilT[k]; dt > 0 {
-		busy := r.v.Busy(r.out[k])
-		sample := float64(busy-r.utilB[k]) / float64(dt)
-		w := -math.Expm1(-float64(dt) / float64(utilWindow))
-		r.util[k] += w * (sample - r.util[k])
-		r.utilT[k], r.utilB[k] = now, busy
-	}
-	return r.util[k]
-}
+// channelUtil returns the utilisation of channel out[k] as x measures it
+// (busyMeter). Cost O(1), no allocation.
+func (r *qrNode) channelUtil(k int) float64 { return r.meter.at(r.v, k, r.out[k]) }
 
 // Dropped samples a drop when a loss table is learned: the packet sent into
 // this node's channel out was lost there (full queue or link loss), so the
