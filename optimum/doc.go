@@ -28,7 +28,8 @@
 //     buffers (each channel an M/M/1/K queue holding Channel.Room packets:
 //     its blocking probability, Kleinrock, Queueing Systems Vol. 1, 1975,
 //     §3.6) and a per-channel link loss probability (Channel.Loss); convex
-//     in the flows, solved by flow deviation with its Frank–Wolfe bound.
+//     in the flows, solved by flow deviation (conjugate Frank–Wolfe
+//     directions) with its Frank–Wolfe bound.
 //     Every routing is feasible: what does not fit is lost.
 //   - MinMix: the least w_d·(mean delay ÷ mean zero-load path time) +
 //     w_l·(loss share) + w_u·(maximum utilisation), the maximum made smooth
