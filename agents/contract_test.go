@@ -49,7 +49,8 @@ func qNetworkCases() []func(p *agents.Params) {
 // qRoutingCases are every variant with either feedback, consensus, and
 // every variant under the loss objective with in-band feedback, the
 // utilisation objective and a mix of all three terms; the loss objective
-// once with install_every, once with give_up_after; the mix with
+// once with install_every, once with give_up_after; the utilisation
+// objective with install_every; the mix with
 // consensus.
 func qRoutingCases() []func(p *agents.Params) {
 	var cs []func(p *agents.Params)
@@ -66,6 +67,7 @@ func qRoutingCases() []func(p *agents.Params) {
 			func(p *agents.Params) { p.Variant, p.Objective = v, mix })
 	}
 	cs = append(cs, func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveLoss, 500*sim.Millisecond })
+	cs = append(cs, func(p *agents.Params) { p.Objective.Name, p.InstallEvery = agents.ObjectiveUtilisation, 2*sim.Second })
 	cs = append(cs, func(p *agents.Params) { p.Objective.Name, p.GiveUpAfter = agents.ObjectiveLoss, sim.Second })
 	cs = append(cs, func(p *agents.Params) {
 		p.Variant, p.Objective, p.Consensus = "dual", mix, &agents.Consensus{Every: sim.Second, Weight: 0.5}

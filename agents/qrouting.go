@@ -251,6 +251,9 @@ type qrShared struct {
 	utilOn   bool // a utilisation table is learned (objective utilisation, or a mix weighing it)
 	predQ    bool // predictive under objective delay: the recovery machinery acts on q
 	predD    bool // predictive under objective ≠ delay: recovery on the delivery-time table qd
+	// with install_every: hops after which a packet leaves the snapshot
+	// and is decided on the live delivery-time estimates (see hopDetour)
+	hopBudget int
 }
 
 var (
@@ -296,6 +299,9 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	}
 	s.predQ = s.variant == variantPredictive && !s.alt
 	s.predD = s.variant == variantPredictive && s.alt
+	if p.InstallEvery > 0 {
+		s.hopBudget = 2 * hopDiameter(net)
+	}
 	return &QRouting{p: p, shared: s}, nil
 }
 
@@ -689,7 +695,11 @@ func (r *qrNode) Route(p *sim.Packet) int {
 			}
 		}
 		r.pref.saw(r.v, d, best)
-		if r.fq != nil && best >= 0 && r.net.Channels[r.out[best]].To == p.Prev {
+		switch {
+		case r.fq == nil || best < 0:
+		case p.Hops > r.s.hopBudget:
+			best = r.hopDetour(d, best, p.Prev)
+		case r.net.Channels[r.out[best]].To == p.Prev:
 			best = r.detour(d, best, p.Prev)
 		}
 	}
@@ -743,6 +753,53 @@ func (r *qrNode) detour(d, best, prev int) int {
 		return best
 	}
 	return alt
+}
+
+// hopDetour returns, with install_every, the channel for a packet that has
+// made more hops than the budget (twice the topology's hop diameter, past
+// any reasonable detour): the usable channel of least live delivery-time
+// estimate, not straight back to prev unless it is the only one, best if
+// none is usable. Loops of more than two nodes can hold in the snapshots
+// until the next install, above all under objective utilisation, whose
+// classes a loop does not raise; the live delivery times do rise around
+// a loop (as QNetwork). A detour is per packet, not a route change.
+func (r *qrNode) hopDetour(d, best, prev int) int {
+	alt, altT, back := -1, 0.0, -1
+	now := r.v.Now()
+	for k, c := range r.out {
+		if !r.v.Up(c) {
+			continue
+		}
+		if r.net.Channels[c].To == prev {
+			back = k
+			continue
+		}
+		if t := r.liveTime(d*r.deg+k, now); alt < 0 || t < altT {
+			alt, altT = k, t
+		}
+	}
+	switch {
+	case alt >= 0:
+		return alt
+	case back >= 0:
+		return back
+	}
+	return best
+}
+
+// liveTime returns the live (not snapshot) delivery-time estimate of entry
+// i: the delay table under objective delay (its predictive value for that
+// variant), the delivery-time table beside the others otherwise.
+func (r *qrNode) liveTime(i int, now sim.Time) float64 {
+	switch {
+	case r.s.predQ:
+		return predEst(r.q, r.b, r.r, r.u, i, now)
+	case !r.s.alt:
+		return r.q[i]
+	case r.s.predD:
+		return predEst(r.qd, r.bd, r.rd, r.ud, i, now)
+	}
+	return r.qd[i]
 }
 
 // utilBand is the width of the utilisation classes that objective
