@@ -16,27 +16,33 @@ const (
 )
 
 // WarmupMinBins is the fewest bins with a mean delivery time DetectWarmup
-// works on: 10 batches of MSER-5, the fewest for which its first half
+// works on: 10 batches of one bin, the fewest for which MSER's first half
 // offers a choice of five truncation points.
-const WarmupMinBins = 10 * stats.MSERBatch
+const WarmupMinBins = 10
 
-// warmupZ is the standardised difference between the deleted and the kept
-// part above which DetectWarmup takes MSER-5's truncation for a transient
-// (z = 3.29, two-sided 0.1%). On white noise MSER-5 still deletes some
-// batches by chance; measured over 4,000 series each, the deleted part
-// passes this threshold in none of 40, 50 or 60 values, 2 of 100 and 10 of
-// 500 (stats.Truncation.Z).
-const warmupZ = 3.29
+// WarmupBatch returns the batch size DetectWarmup uses on n bins with a
+// mean: MSER-5's 5 bins from 50 bins on, fewer below so that there are
+// still 10 batches (MSER-m, White 1997, takes any m: larger batches only
+// damp the noise the statistic sees), 0 below WarmupMinBins.
+func WarmupBatch(n int) int {
+	if n < WarmupMinBins {
+		return 0
+	}
+	return min(stats.MSERBatch, n/10)
+}
 
 // DetectWarmup returns where the initial transient of a run ends, in
 // seconds from its start: MSER-5 (stats.MSER5) over the mean delivery time
-// of the bins of its whole series, warm-up included. Bins without a
+// of the bins of its whole series, warm-up included; with fewer than 50
+// such bins MSER-m with the batch of WarmupBatch (10 batches). Bins without a
 // delivered packet are left out, and so is the last bin, whose packets had
 // the least time to arrive before the run ended (its mean is biased low).
 // The result is the start of the first bin kept after truncation, so its
-// resolution is 5 bins at worst. A truncation whose deleted part does not
-// differ from the kept part by more than 3.29 standard errors (stats.
-// Truncation.Z) is noise, not a transient: the result is then 0. how is
+// resolution is one batch (5 bins at most). A truncation whose deleted part
+// does not differ from the kept part (stats.Truncation.Z, in standard
+// errors from the kept batches' spread) beyond what white noise reaches
+// once in 1,000 series (stats.MSERCritical) is noise, not a transient: the
+// result is then 0. how is
 // WarmupDetected, or says why there is no result (at is then NaN):
 // WarmupTooFewBins when fewer than WarmupMinBins bins have a mean,
 // WarmupUnsettled when MSER-5 puts a significant end in the second half of
@@ -53,12 +59,13 @@ func DetectWarmup(series []sim.Bin) (at float64, how string) {
 			idx = append(idx, i)
 		}
 	}
-	if len(x) < WarmupMinBins {
+	m := WarmupBatch(len(x))
+	if m == 0 {
 		return math.NaN(), WarmupTooFewBins
 	}
-	tr := stats.MSER5(x)
+	tr := stats.MSER(x, m)
 	switch {
-	case !(math.Abs(tr.Z) > warmupZ): // nothing deleted, or noise
+	case !(math.Abs(tr.Z) > stats.MSERCritical(tr.K)): // nothing deleted, or noise
 		return 0, WarmupDetected
 	case !tr.OK:
 		return math.NaN(), WarmupUnsettled

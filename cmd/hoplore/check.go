@@ -114,7 +114,7 @@ func writeWarmupCheck(w io.Writer, e *experiments.Experiment, dir string) {
 		return
 	}
 	if tried == 0 {
-		fmt.Fprintf(w, "warm-up\tnot checked: the runs in %s have fewer than %d bins with a delivery time, too few to detect a transient (MSER-5)\n", path, results.WarmupMinBins)
+		fmt.Fprintf(w, "warm-up\tnot checked: the runs in %s have fewer than %d bins with a delivery time, too few to detect a transient (MSER)\n", path, results.WarmupMinBins)
 		return
 	}
 	short := results.ShortWarmups(mine)

@@ -35,7 +35,7 @@ func TestCheckWarmupAgainstEarlierRuns(t *testing.T) {
 		{"too short", []results.RunRow{row("calm", 0, f(warm/2), results.WarmupDetected), row("learner", 0, f(2*warm), results.WarmupDetected), row("learner", 1, nil, results.WarmupUnsettled)},
 			[]string{"warm-up too short for 1 cell", "one-link / learner / load 0.8 / none: warm-up 200s is shorter than the initial transient detected (up to 400s); 1 of 2 runs never settled"}},
 		{"too few bins", []results.RunRow{row("calm", 0, nil, results.WarmupTooFewBins)},
-			[]string{"not checked", "fewer than 50 bins"}},
+			[]string{"not checked", "fewer than 10 bins"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			dir := t.TempDir()
