@@ -51,6 +51,7 @@ type Solver struct {
 	lengths []float64 // per channel: coarse-step lengths, then marginal delays
 	lprimal []float64 // per channel: fine-step lengths
 	lmask   []float64 // per channel: coarse lengths kept on the nearly saturated channels
+	gtot    []float64 // per channel: the ℓp descent's loads (gradientBound)
 	flow    []float64 // [k*E+c]: flow towards k on channel c, the current solution
 	tot     []float64 // Σ_k flow
 	yk      []float64 // [k*E+c]: the latest direction (phase or all-or-nothing flow)
@@ -94,6 +95,7 @@ func NewSolver(net Network) (*Solver, error) {
 	s.lengths = make([]float64, E)
 	s.lprimal = make([]float64, E)
 	s.lmask = make([]float64, E)
+	s.gtot = make([]float64, E)
 	s.flow = make([]float64, N*E)
 	s.tot = make([]float64, E)
 	s.yk = make([]float64, N*E)
