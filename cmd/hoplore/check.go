@@ -15,8 +15,10 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"hoplore/agents"
 	"hoplore/experiments"
 	"hoplore/results"
+	"hoplore/sim"
 )
 
 // nominalEventsPerSecond is the engine speed check assumes per worker to
@@ -196,6 +198,9 @@ func writeCheck(w io.Writer, e *experiments.Experiment, workers int, out string,
 			fmt.Fprintf(tw, "traffic\ta matrix file of %s\n", checkPlural(demands, "demand"))
 		}
 	}
+	if g := e.Traffic.FlowGen; g != nil {
+		writeCheckFlows(tw, g, e.Agents)
+	}
 	if n := len(e.Conditions); n > 0 {
 		fmt.Fprintf(tw, "conditions\t%s changing links over time\n", checkPlural(n, "row"))
 	}
@@ -271,4 +276,44 @@ func checkRoughDuration(s float64) string {
 func checkSci(x float64) string {
 	s := strconv.FormatFloat(x, 'g', 2, 64)
 	return strings.NewReplacer("e+0", "e", "e+", "e").Replace(s)
+}
+
+// writeCheckFlows prints the flow traffic line: how much, the mean size, the
+// class bounds, and how many agents pin flows.
+func writeCheckFlows(w io.Writer, g *experiments.FlowTraffic, ags []agents.Params) {
+	how := fmt.Sprintf("%g of each cell's load", g.Share)
+	switch {
+	case g.Share == 1:
+		how = "all of each cell's load (no packets)"
+	case g.Arrivals > 0:
+		how = fmt.Sprintf("%g/s per source on top of the packets", g.Arrivals)
+	}
+	mice, el := g.MiceBytes, g.ElephantBytes
+	if mice == 0 {
+		mice = sim.DefaultMiceBytes
+	}
+	if el == 0 {
+		el = math.Max(sim.DefaultElephantBytes, mice)
+	}
+	pinned := 0
+	for i := range ags {
+		if ags[i].Pin == agents.PinFlow {
+			pinned++
+		}
+	}
+	fmt.Fprintf(w, "flows\t%s, mean size %s; mice up to %s, elephants from %s; %d of %s pin flows\n",
+		how, checkSize(g.Size.Mean()), checkSize(mice), checkSize(el), pinned, checkPlural(len(ags), "agent"))
+}
+
+// checkSize formats a size in bytes with an SI prefix.
+func checkSize(b float64) string {
+	switch {
+	case b >= 1e9:
+		return fmt.Sprintf("%.3g GB", b/1e9)
+	case b >= 1e6:
+		return fmt.Sprintf("%.3g MB", b/1e6)
+	case b >= 1e3:
+		return fmt.Sprintf("%.3g kB", b/1e3)
+	}
+	return fmt.Sprintf("%.3g B", b)
 }

@@ -29,8 +29,11 @@ func newReportCmd(d *deps) *cobra.Command {
 		Long: "report reads the Parquet tables in DIR and writes a self-contained HTML page (no network needed to\n" +
 			"view it; it follows the viewer's light or dark colour scheme) with delivery time and loss against\n" +
 			"load per agent (95% confidence bands), delivery time and loss around each failure event with the\n" +
-			"recovery times, link utilisation of one cell, and tables of every cell with the best agent marked.\n" +
-			"Each chart is also written beside the page as SVG and PNG.",
+			"recovery times, the distributions over every single failure, link utilisation of one cell, learning\n" +
+			"curves and route changes over the run, an at-a-glance table of the fastest agent per cell against\n" +
+			"its runner-up and the model optimum, and tables of every cell with the best agent marked. With flow\n" +
+			"traffic it adds completion time, slowdown and reordering against load (all flows, mice, elephants)\n" +
+			"and a flows-at-a-glance table. Each chart is also written beside the page as SVG and PNG.",
 		Example: "  hoplore report results/load-sweep\n" +
 			"  hoplore report results/link-failure --event-load 0.6\n" +
 			"  hoplore report results/load-sweep --links-topology two-region --links-load 1.4",

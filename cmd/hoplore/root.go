@@ -42,7 +42,7 @@ func newRootCmd(d *deps) *cobra.Command {
 	root := &cobra.Command{
 		Use:           "hoplore",
 		Short:         "Packet-level experiments: do learning routers beat shortest path and central control?",
-		Long:          "hoplore simulates networks packet by packet with a routing agent at every node (shortest path,\nQ-routing and its variants, a small neural Q function, central controllers), sweeps offered load\nand failures, and writes Parquet tables, plots and a report.",
+		Long:          "hoplore simulates networks packet by packet with a routing agent at every node (shortest path,\nQ-routing and its variants, a small neural Q function, central controllers), sweeps offered load\nand failures, and writes Parquet tables, plots and a report. Traffic is packets, flows (mice and\nelephants: completion time, slowdown, reordering) or both; agents decide per packet or per flow\n(pin), and learners optimise what the file asks for (objective: delay, loss, utilisation or a mix).\n`hoplore experiments show demo` prints a commented experiment file to start from; README.md documents\nevery field.",
 		Version:       d.version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
