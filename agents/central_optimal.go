@@ -110,10 +110,11 @@ func init() {
 //
 // When the estimated demand does not fit, so that no finite mean delay
 // exists, min-delay and a mix with a delay weight install the min–max
-// routing instead; loss alone always has a solution. Loss and mix model
-// each link as telemetry reports it now, the bit rate and loss
-// probability the link conditions set; min-max-util and min-delay keep
-// the topology's bit rates. Utilisation and
+// routing instead; loss alone always has a solution. Every objective
+// models each link's bit rate as telemetry reports it now (the rate the
+// link conditions set, ControlDelay old), and loss and mix its loss
+// probability too, so a trunk slowed by its conditions is routed as the
+// slower channel it is. Utilisation and
 // delay are labelled min-max-util and min-delay, so a file may use either
 // spelling for the same agent.
 // optimum). The solution's flow towards each destination, made loop-free,
@@ -360,7 +361,8 @@ func (a *CentralOptimal) Telemetry(s *sim.Snapshot) {
 // the usable channels, in the measure m: the maximum channel utilisation,
 // the mean delay of the optimum package's model (optimum.ChannelDelay:
 // M/G/1 channels of the run's packet-size variability, capacity
-// bandwidth/(8·mean packet size) packets/s, plus propagation), or the
+// bandwidth/(8·mean packet size) packets/s at the bit rate telemetry last
+// reported, plus propagation), or the
 // last loss or mix solve's objective (optimum.Solver.MixValue: the same
 // model, buffers and link losses, weights and zero-load reference).
 // ok is false when w does not carry every demand to its destination over
@@ -436,7 +438,7 @@ func (a *CentralOptimal) evaluate(w []float64, m coMeasure) (v float64, ok bool)
 		if load[c] == 0 {
 			continue
 		}
-		capacity := a.net.Channels[c].Bandwidth / (8 * a.p.packetBytes())
+		capacity := a.bandwidth[c] / (8 * a.p.packetBytes())
 		if !delay {
 			v = math.Max(v, load[c]/capacity)
 			continue

@@ -270,16 +270,15 @@ func TestCentralOptimalLossModel(t *testing.T) {
 			t.Logf("%s: share on the lossy direct channel %.4f, value %.4g, loss %.3g", tc.obj, next[i], want.Value, want.LossRate)
 		})
 	}
-	// Bit rates in force: loss and mix solve on the telemetry's, the
-	// min-max and min-delay objectives on the topology's, as before.
+	// Bit rates in force: every objective solves on the telemetry's.
 	for _, tc := range []struct {
 		obj  Objective
 		want float64
 	}{
 		{Objective{Name: ObjectiveLoss}, 62.5},
 		{Objective{Name: ObjectiveMix, Mix: Mix{Delay: 1}}, 62.5},
-		{Objective{Name: ObjectiveMinMaxUtil}, 125},
-		{Objective{Name: ObjectiveMinDelay}, 125},
+		{Objective{Name: ObjectiveMinMaxUtil}, 62.5},
+		{Objective{Name: ObjectiveMinDelay}, 62.5},
 	} {
 		p := Defaults(CentralOptimalKind)
 		p.Objective, p.MeanPacketBytes, p.PacketSizeSCV = tc.obj, 1000, 1

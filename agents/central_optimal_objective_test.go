@@ -156,3 +156,62 @@ func TestCentralOptimalMixSplit(t *testing.T) {
 		prev = want
 	}
 }
+
+// TestCentralOptimalSolvesOnConditions: link conditions that halve the
+// short path's bit rate (both links to 0.5 Mbit/s from the start: 62.5
+// packets/s of 1000 bytes against the long path's 125) move min-max-util's
+// split to the one that equalises the two paths' utilisations,
+// x/62.5 = (100 − x)/125, a third of the 100 packets/s on the short path
+// (the least maximum of two linear utilisations is where they cross:
+// definition), from half on the intact network. Measured: the share n0
+// sends on the short path's first channel (split packet). Tolerance 0.1,
+// as in TestCentralOptimalLossObjective (the controller solves on its own
+// noisy demand estimate, to gap epsilon, and keeps a routing within
+// epsilon of the new one).
+func TestCentralOptimalSolvesOnConditions(t *testing.T) {
+	net := shortLong(50)
+	halve := []sim.LinkCondition{{At: 0, Link: 0, Bandwidth: 0.5e6}, {At: 0, Link: 3, Bandwidth: 0.5e6}}
+	for _, obj := range []string{agents.ObjectiveMinMaxUtil, agents.ObjectiveMinDelay} {
+		p := agents.Defaults(agents.CentralOptimalKind)
+		p.Objective.Name, p.Split = obj, agents.SplitPacket
+		intact, _ := shortLongRun(t, net, p, nil, 5)
+		slowed, loss := shortLongRun(t, net, p, halve, 5)
+		want := map[string][2]float64{
+			agents.ObjectiveMinMaxUtil: {0.5, 1.0 / 3},
+			// Least M/D/1 delay with propagation, from the optimum
+			// package at gap 10⁻⁴ (checked there against gonum's simplex).
+			agents.ObjectiveMinDelay: {modelSplitBW(t, net, 1), modelSplitBW(t, net, 0.5)},
+		}[obj]
+		t.Logf("objective %s: short-path share intact %.4f (model %.4f), halved %.4f (model %.4f), %.4f lost", obj, intact, want[0], slowed, want[1], loss)
+		if math.Abs(intact-want[0]) > 0.1 || math.Abs(slowed-want[1]) > 0.1 {
+			t.Errorf("objective %s: short-path share intact %.4f, halved %.4f, want %.4f and %.4f", obj, intact, slowed, want[0], want[1])
+		}
+	}
+}
+
+// modelSplitBW returns the share of shortLong's n0→n1 demand on the direct
+// channel in the least-delay routing of the optimum package (fixed-size
+// packets) with the short path's bit rates scaled by f.
+func modelSplitBW(t *testing.T, net *sim.Net, f float64) float64 {
+	t.Helper()
+	m := optimum.FromNet(net, 1000, nil)
+	for c, ch := range net.Channels {
+		if l := ch.Link; l == 0 || l == 3 {
+			m.Channels[c].Capacity *= f
+		}
+	}
+	s, err := optimum.NewSolver(m)
+	if err == nil {
+		err = s.SetServiceSCV(0)
+	}
+	if err == nil {
+		err = s.SetDemand([][]float64{{0, 100, 0, 0}})
+	}
+	if err == nil {
+		_, err = s.MinDelay(1e-4)
+	}
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s.Load()[0] / 100
+}

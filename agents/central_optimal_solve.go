@@ -16,7 +16,7 @@ type coSolver struct {
 	s      *optimum.Solver
 	usable []bool    // the usable channels s was built for
 	loss   []float64 // and the link loss probabilities
-	bw     []float64 // and the bit rates (loss and mix objectives)
+	bw     []float64 // and the bit rates
 	splits optimum.Splits
 }
 
@@ -24,10 +24,9 @@ func (cs *coSolver) init(a *CentralOptimal) error { return cs.build(a) }
 
 func (cs *coSolver) build(a *CentralOptimal) error {
 	m := optimum.FromNet(a.net, a.p.packetBytes(), func(c int) bool { return !a.usable[c] })
-	inForce := coInForce(a.p.Objective)
 	for c := range m.Channels {
 		m.Channels[c].Loss = a.linkLoss[c]
-		if inForce && m.Channels[c].Capacity > 0 {
+		if m.Channels[c].Capacity > 0 {
 			m.Channels[c].Capacity = a.bandwidth[c] / (8 * a.p.packetBytes())
 		}
 	}
@@ -45,11 +44,10 @@ func (cs *coSolver) build(a *CentralOptimal) error {
 	return nil
 }
 
-// coInForce reports whether objective o models the links as telemetry
-// reports them now (bit rates and link losses the link conditions set):
-// loss and mix do; min-max-util and min-delay keep the topology's bit
-// rates, as they always have.
-func coInForce(o Objective) bool {
+// coLossModel reports whether objective o models the links' loss
+// probabilities (loss and mix do; every objective models their bit rates
+// as telemetry reports them now).
+func coLossModel(o Objective) bool {
 	o = coObjective(o)
 	return o.Name == ObjectiveLoss || o.Name == ObjectiveMix
 }
@@ -76,8 +74,7 @@ const (
 func (cs *coSolver) solveInto(a *CentralOptimal, w []float64) (coBound, error) {
 	var b coBound
 	o := coObjective(a.p.Objective)
-	inForce := coInForce(o)
-	if !slices.Equal(cs.usable, a.usable) || inForce && (!slices.Equal(cs.loss, a.linkLoss) || !slices.Equal(cs.bw, a.bandwidth)) {
+	if !slices.Equal(cs.usable, a.usable) || !slices.Equal(cs.bw, a.bandwidth) || coLossModel(o) && !slices.Equal(cs.loss, a.linkLoss) {
 		if err := cs.build(a); err != nil {
 			return b, err
 		}
