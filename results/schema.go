@@ -59,9 +59,9 @@ type Column struct {
 	// interval by batch means); summary.parquet's <name>_ci95 takes it for
 	// a cell of one replicate instead of leaving it null.
 	OneRunCI string
-	// FlowOnly columns describe flow traffic: text tables leave them out
-	// and the report draws them (against load, like Charted ones, but not
-	// in compare) only when some run holds a value.
+	// FlowOnly columns describe flow traffic: text tables show them and
+	// the report draws them (against load, like Charted ones) only when
+	// some run holds a value; compare tests report.FlowCompareMetrics.
 	FlowOnly bool
 	// Label is a short name for table heads and chart axes, without unit.
 	Label string
