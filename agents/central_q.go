@@ -139,14 +139,14 @@ const cqBuckets = len(cqEdges) + 2 // levels below each edge, above the last, an
 //
 // Both choices bound what a few flows do to a table. Slowdown is
 // heavy-tailed: a 3 kB flow queued behind a 1.5 MB one at a 10 Mbit/s
-// channel scores up to 340, and the flows of one interval share one choice
+// channel scores a slowdown in the hundreds, and the flows of one interval share one choice
 // and one queue, so one elephant delays several mice at once. With the
 // slowdown itself as reward and one update per flow, such an interval makes
 // a class's table shun a path for the many flows after it, until
 // exploration (ε per interval) brings enough good outcomes back; the
 // logarithm (the tables then rank paths by the mean log slowdown, the log
 // of the geometric mean) keeps the usual slowdowns in order (ln 1 = 0 <
-// ln 7 ≈ 1.9) while a slowdown of 340 weighs ln 340 ≈ 5.8, and the mean per
+// ln 5.4 ≈ 1.7) while a slowdown of 134 weighs ln 134 ≈ 4.9, and the mean per
 // interval makes the table learn at the pace of the per-interval learner.
 // In the package's flow-outcome test (two paths, mice and elephants, 12
 // seeds), the mice keep the short path, best for them once the elephants
