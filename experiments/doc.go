@@ -94,7 +94,10 @@
 //	             (required), weight: W (default 0.5), split_horizon: true|false (q-routing
 //	             only, default false)}. Two entries with the same label
 //	             (explicit or canonical) are an error. Every kind takes pin: packet
-//	             (default) | flow (agents.PinFlow)
+//	             (default) | flow (agents.PinFlow). q-routing, q-network and central-q
+//	             take objective: delay (default) | loss | utilisation | {mix: {delay: W,
+//	             loss: W, utilisation: W}} (weights ≥ 0, not all 0); central-optimal
+//	             takes those and min-max-util (default) | min-delay (agents.Objective)
 //	failures     default [none]; each entry is none or a mapping:
 //	  name         required, distinct, not "none"
 //	  detection    default 50ms, ≥ 0: time until the end nodes notice a link change
