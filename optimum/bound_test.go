@@ -95,5 +95,9 @@ func TestUnequalHopCounts(t *testing.T) {
 			}
 			checkRouting(t, s, tc.dem)
 		}
+		// The gradient bound's descent reuses the solver's buffers.
+		if a := testing.AllocsPerRun(3, func() { _, _ = s.MinMaxUtil(0.01) }); a != 0 {
+			t.Errorf("%s: %v allocations per solve, want 0", tc.name, a)
+		}
 	}
 }
