@@ -81,6 +81,9 @@ func TestCheckGrid(t *testing.T) {
 		{"../../examples/load-sweep.yaml", []string{"2 topologies × 4 loads × 1 failure schedule × 8 agents = 64 cells", "64 cells × 3 replicates = 192 runs", "mesh-10: 10 nodes, 14 links, diameter 5"}},
 		{"../../examples/single-queue.yaml", []string{"absolute rates", "1 cell × 4 replicates = 4 runs"}},
 		{"link-failure", []string{"12 cells × 3 replicates = 36 runs", "bundled/link-failure.yaml"}},
+		// mean flow size by hand: 0.9·15 kB + 0.09·150 kB + 0.01·2 MB = 47 kB
+		{"../../examples/flows-and-objectives.yaml", []string{"18 cells × 3 replicates = 54 runs",
+			"flows       all of each cell's load (no packets), mean size 47 kB; mice up to 100 kB, elephants from 1 MB; 7 of 9 agents pin flows"}},
 	}
 	for _, tt := range tests {
 		d, out, errb := testDeps()
