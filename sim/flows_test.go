@@ -394,6 +394,7 @@ func flowSteadyState(b *testing.B, sample int) {
 	var events int64
 	b.ReportAllocs()
 	b.ResetTimer()
+	cpu := cpuSeconds()
 	for i := 0; i < b.N; i++ {
 		t += 10 * sim.Millisecond
 		n, err := st.RunTo(t)
@@ -403,8 +404,8 @@ func flowSteadyState(b *testing.B, sample int) {
 		events += n
 	}
 	b.StopTimer()
+	reportRate(b, float64(events), cpu)
 	runtime.ReadMemStats(&ms)
-	b.ReportMetric(float64(events)/b.Elapsed().Seconds(), "events/s")
 	b.ReportMetric(float64(ms.Mallocs-mallocs)/float64(events), "allocs/event")
 }
 

@@ -280,6 +280,7 @@ func BenchmarkFlowWatched(b *testing.B) {
 	var events int64
 	b.ReportAllocs()
 	b.ResetTimer()
+	cpu := cpuSeconds()
 	for i := 0; i < b.N; i++ {
 		t += 10 * sim.Millisecond
 		n, err := st.RunTo(t)
@@ -293,7 +294,7 @@ func BenchmarkFlowWatched(b *testing.B) {
 	if cnt.heard == heard && b.N > 100 {
 		b.Fatal("no flow end heard")
 	}
-	b.ReportMetric(float64(events)/b.Elapsed().Seconds(), "events/s")
+	reportRate(b, float64(events), cpu)
 	b.ReportMetric(float64(ms.Mallocs-mallocs)/float64(events), "allocs/event")
 	b.ReportMetric(float64(cnt.heard-heard)/float64(b.N), "flow-ends/op")
 }
