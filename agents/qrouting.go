@@ -251,6 +251,7 @@ type qrShared struct {
 	utilOn   bool // a utilisation table is learned (objective utilisation, or a mix weighing it)
 	predQ    bool // predictive under objective delay: the recovery machinery acts on q
 	predD    bool // predictive under objective ≠ delay: recovery on the delivery-time table qd
+	bare     bool // objective delay, not predictive: a decision compares the Q-table's entries as they are
 	// with install_every: hops after which a packet leaves the snapshot
 	// and is decided on the live delivery-time estimates (see hopDetour)
 	hopBudget int
@@ -299,6 +300,7 @@ func newQRouting(p Params, net *sim.Net) (sim.Agent, error) {
 	}
 	s.predQ = s.variant == variantPredictive && !s.alt
 	s.predD = s.variant == variantPredictive && s.alt
+	s.bare = !s.alt && !s.predQ
 	if p.InstallEvery > 0 {
 		s.hopBudget = 2 * hopDiameter(net)
 	}
@@ -605,6 +607,25 @@ func (r *qrNode) resetColumn(k int) {
 // tables give their recovered values. With install_every it reads the
 // forwarding snapshot, as of the install. Cost O(1), no allocation.
 func (r *qrNode) view(i int, now sim.Time) (val, t float64) {
+	// objective delay: two short cases (the general one loads every
+	// table first: half of a plain decision's time)
+	switch {
+	case r.s.bare:
+		if r.fq != nil {
+			return r.fq[i], 0
+		}
+		return r.q[i], 0
+	case r.s.predQ:
+		if r.fq != nil {
+			return predEst(r.fq, r.fb, r.fr, r.fu, i, r.installed), 0
+		}
+		return predEst(r.q, r.b, r.r, r.u, i, now), 0
+	}
+	return r.viewAll(i, now)
+}
+
+// viewAll is view for every objective and variant.
+func (r *qrNode) viewAll(i int, now sim.Time) (val, t float64) {
 	q, qd, qu, b, rr, u, bd, rd, ud, pd := r.q, r.qd, r.qu, r.b, r.r, r.u, r.bd, r.rd, r.ud, r.pdrop
 	if r.fq != nil {
 		q, qd, qu, b, rr, u, bd, rd, ud, pd, now = r.fq, r.fqd, r.fqu, r.fb, r.fr, r.fu, r.fbd, r.frd, r.fud, r.fpdrop, r.installed
