@@ -31,6 +31,16 @@ func WarmupBatch(n int) int {
 	return min(stats.MSERBatch, n/10)
 }
 
+// warmupMargin is the least relative difference between the deleted and
+// the kept part's mean delivery time that DetectWarmup reports as a
+// transient: left in the measured window, a smaller one moves a run's mean
+// by less than 10% of the share of the run it covers. Learners and flow
+// traffic shift their level by a few per cent now and then, with quiet
+// stretches between, which the statistical test alone takes for
+// transients (on a six-site flow example, 4 of 54 runs read "not settled"
+// for level shifts of 6–9%). A choice.
+const warmupMargin = 0.10
+
 // DetectWarmup returns where the initial transient of a run ends, in
 // seconds from its start: MSER-5 (stats.MSER5) over the mean delivery time
 // of the bins of its whole series, warm-up included; with fewer than 50
@@ -41,8 +51,9 @@ func WarmupBatch(n int) int {
 // resolution is one batch (5 bins at most). A truncation whose deleted part
 // does not differ from the kept part (stats.Truncation.Z, in standard
 // errors from the kept batches' spread) beyond what white noise reaches
-// once in 1,000 series (stats.MSERCritical) is noise, not a transient: the
-// result is then 0. how is
+// once in 1,000 series (stats.MSERCritical), or by less than warmupMargin
+// of the kept part's mean, is noise or too small to matter, not a
+// transient: the result is then 0. how is
 // WarmupDetected, or says why there is no result (at is then NaN):
 // WarmupTooFewBins when fewer than WarmupMinBins bins have a mean,
 // WarmupUnsettled when MSER-5 puts a significant end in the second half of
@@ -66,6 +77,8 @@ func DetectWarmup(series []sim.Bin) (at float64, how string) {
 	tr := stats.MSER(x, m)
 	switch {
 	case !(math.Abs(tr.Z) > stats.MSERCritical(tr.K)): // nothing deleted, or noise
+		return 0, WarmupDetected
+	case !(math.Abs(tr.Deleted-tr.Kept) > warmupMargin*math.Abs(tr.Kept)): // too small to matter
 		return 0, WarmupDetected
 	case !tr.OK:
 		return math.NaN(), WarmupUnsettled

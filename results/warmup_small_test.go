@@ -59,3 +59,26 @@ func TestDetectWarmupFewBins(t *testing.T) {
 		}
 	}
 }
+
+// TestDetectWarmupMargin: a level shift smaller than warmupMargin (10% of
+// the kept part's mean) is not reported however significant it is against
+// very quiet noise; a larger one is, at its end (within a batch).
+func TestDetectWarmupMargin(t *testing.T) {
+	for _, tc := range []struct {
+		shift float64
+		want  float64 // seconds; 0: nothing reported
+	}{{0.05, 0}, {-0.08, 0}, {0.2, 40}, {-0.3, 40}} {
+		r := rand.New(rand.NewPCG(1, 2))
+		series := binsOf(201, func(i int) float64 {
+			v := 0.010 * (1 + 0.0005*r.NormFloat64())
+			if i < 40 {
+				v *= 1 + tc.shift
+			}
+			return v
+		})
+		at, how := results.DetectWarmup(series)
+		if how != results.WarmupDetected || math.Abs(at-tc.want) > 5 {
+			t.Errorf("shift %+g for 40 s: got %v s (%s), want %v s", tc.shift, at, how, tc.want)
+		}
+	}
+}

@@ -24,6 +24,9 @@ type Truncation struct {
 	Z float64
 	// K is the number of batches.
 	K int
+	// Deleted and Kept are the means of the deleted and the kept batches
+	// (NaN when nothing is deleted).
+	Deleted, Kept float64
 }
 
 // MSER returns the truncation point of the series x by the marginal
@@ -89,7 +92,7 @@ func MSER(x []float64, m int) Truncation {
 			best, bestD = stat[d], d
 		}
 	}
-	tr := Truncation{At: bestD * m, OK: bestD < half, Z: math.NaN(), K: k}
+	tr := Truncation{At: bestD * m, OK: bestD < half, Z: math.NaN(), K: k, Deleted: math.NaN(), Kept: math.NaN()}
 	if d := bestD; d > 0 {
 		var del, kept float64
 		for _, v := range z[:d] {
@@ -108,6 +111,7 @@ func MSER(x []float64, m int) Truncation {
 		nk := float64(k - d)
 		sd := math.Sqrt(stat[d] * nk * nk / (nk - 1))
 		tr.Z = (del - kept) / (sd * math.Sqrt(1/float64(d)+1/nk))
+		tr.Deleted, tr.Kept = del+c, kept+c
 	}
 	return tr
 }
