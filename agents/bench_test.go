@@ -223,6 +223,12 @@ func BenchmarkFeedback(b *testing.B) {
 // into a run, allocates (house rule: the hot loop allocates nothing). Speed
 // is measured by BenchmarkDecision, not asserted here.
 func TestDecisionsDoNotAllocate(t *testing.T) {
+	if testing.Short() {
+		// the full run checks every configuration; -short serves the race
+		// detector's run, under which this one took 25 s of the package's
+		// time for nothing the race detector looks at
+		t.Skip("allocation counts are checked without -short")
+	}
 	for _, p := range benchParams() {
 		var allocs float64
 		hookRun(t, agenttest.Grid(4, 4), p, false, 10000, func(call func()) {
