@@ -588,6 +588,52 @@ func sumRates(m [][]float64) float64 {
 	return s
 }
 
+// OptimumInput is what the model optimum routes for a run (README, The
+// model optimum): everything the run sends, as a fluid demand.
+type OptimumInput struct {
+	// Rates is the demand in packets per second per pair, a packet being
+	// the run's mean data packet: a pair's mean offered bit rate over
+	// 8·MeanBytes.
+	Rates [][]float64
+	// MeanBytes is the mean data packet size, SCV the squared coefficient
+	// of variation of the sizes (packets and flows' packets mixed by
+	// packets per second).
+	MeanBytes, SCV float64
+	// Load is the normalised load of the whole demand, the numerator of
+	// opt_load_limit: the cell's load, except with flow arrivals (the
+	// load then counts the packets alone), where it is sim.NormalisedLoad
+	// of the whole demand. NaN for absolute rates.
+	Load float64
+}
+
+// OptimumInput returns the run's demand for the model optimum. A pair's
+// bit rate is its packets per second times their mean size plus, with flow
+// traffic, its flows per second times the mean flow size (a flow's packets
+// carry its bytes and no more: sim.FlowGen sends a flow of S bytes as
+// ⌈S/P⌉ packets of at most P bytes); flows' burstiness (a flow's packets
+// sent back to back) is not in it. Without flow traffic it is Rates() with
+// the packet sizes' mean and variability and the cell's load.
+func (r *Run) OptimumInput() OptimumInput {
+	e := r.Exp
+	in := OptimumInput{Rates: r.Rates(), MeanBytes: e.Traffic.Size.Mean(), SCV: e.Traffic.Size.SCV(), Load: r.Dims.Load}
+	g := e.Traffic.FlowGen
+	if g == nil || e.Traffic.Replay {
+		return in
+	}
+	in.MeanBytes, in.SCV = r.meanPacketBytes(), r.packetSizeSCV()
+	pkt, flow := e.Traffic.Size.Mean(), g.Size.Mean()
+	fr := r.FlowRates()
+	for s, row := range in.Rates {
+		for d, v := range row {
+			row[d] = (v*pkt + fr[s][d]*flow) / in.MeanBytes
+		}
+	}
+	if g.Share == 0 && !math.IsNaN(in.Load) {
+		in.Load = sim.NormalisedLoad(r.Topology.Net, in.Rates, in.MeanBytes)
+	}
+	return in
+}
+
 // meanPacketBytes is the mean size of the run's data packets, for the
 // agents' estimates: the packet traffic's mean size and the flows' packets
 // (mean flow size over mean packets per flow), weighted by packets per

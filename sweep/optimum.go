@@ -104,16 +104,18 @@ func (o *optima) rows(r *experiments.Run) ([]results.OptimumRow, error) {
 }
 
 // computeOptimum solves the least maximum utilisation and the least mean
-// delay (package optimum) for run r's offered matrix — the matrix its
-// sources emit before any phase factor, the first matrix of a replay — on
-// the intact topology, with capacities from the mean packet size and M/G/1
-// channels of the packet sizes' variability (0 for a fixed size, 1 for
-// exponential sizes).
+// delay (package optimum) for run r's offered traffic — the matrix its
+// sources emit before any phase factor, the first matrix of a replay, and
+// its flow traffic, as the fluid demand of experiments.Run.OptimumInput —
+// on the intact topology, with capacities from the mean packet size and
+// M/G/1 channels of the packet sizes' variability (0 for a fixed size, 1
+// for exponential sizes).
 func computeOptimum(r *experiments.Run) (cellOptimum, error) {
 	if !wantOptimum(r) {
 		return cellOptimum{}, nil
 	}
-	c, _, err := solveState(r, r.Rates(), nil)
+	in := r.OptimumInput()
+	c, _, err := solveState(r, in, in.Rates, nil)
 	return c, err
 }
 
@@ -124,16 +126,16 @@ func wantOptimum(r *experiments.Run) bool {
 	return o.Compute && (o.Always || r.Topology.Net.NumNodes() <= experiments.OptimumAutoNodes)
 }
 
-// solveState solves the optimum of demand on run r's topology with the
-// channels for which down is true (nil: none) absent, and returns it with
-// the demand no path joins, in packets/s.
-func solveState(r *experiments.Run, demand [][]float64, down func(c int) bool) (cellOptimum, float64, error) {
+// solveState solves the optimum of demand (in's units: packets/s of
+// in.MeanBytes each) on run r's topology with the channels for which down
+// is true (nil: none) absent, and returns it with the demand no path
+// joins, in packets/s.
+func solveState(r *experiments.Run, in experiments.OptimumInput, demand [][]float64, down func(c int) bool) (cellOptimum, float64, error) {
 	var c cellOptimum
 	eps := r.Exp.Optimum.Epsilon
-	size := r.Exp.Traffic.Size
-	s, err := optimum.NewSolver(optimum.FromNet(r.Topology.Net, size.Mean(), down))
+	s, err := optimum.NewSolver(optimum.FromNet(r.Topology.Net, in.MeanBytes, down))
 	if err == nil {
-		err = s.SetServiceSCV(size.SCV())
+		err = s.SetServiceSCV(in.SCV)
 	}
 	if err == nil {
 		err = s.SetDemand(demand)
@@ -155,7 +157,7 @@ func solveState(r *experiments.Run, demand [][]float64, down func(c int) bool) (
 	}
 	c.utilMax, c.utilGap = finite(mm.Util), finite(mm.Gap)
 	if mm.Util > 0 {
-		c.loadLimit = finite(r.Dims.Load / mm.Util)
+		c.loadLimit = finite(in.Load / mm.Util)
 	}
 	if d.Feasible {
 		c.delayMean, c.delayGap = finite(d.Mean), finite(d.Gap)
@@ -243,7 +245,8 @@ func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEve
 	net := r.Topology.Net
 	linkDown := make([]bool, len(g.Links))
 	nodeDown := make([]bool, len(g.Nodes))
-	offered := r.Rates()
+	in := r.OptimumInput()
+	offered := in.Rates
 	var total float64
 	for s, row := range offered {
 		for d, v := range row {
@@ -306,7 +309,7 @@ func stateRows(r *experiments.Run, base results.OptimumRow, evs []sim.FailureEve
 				ch := net.Channels[c]
 				return linkDown[ch.Link] || nodeDown[ch.From] || nodeDown[ch.To]
 			}
-			c, unroutable, err := solveState(r, demand, down)
+			c, unroutable, err := solveState(r, in, demand, down)
 			if err != nil {
 				return nil, err
 			}
