@@ -38,6 +38,7 @@ td.dim { text-align: left; }
 td.best { background: var(--best); font-weight: bold; }
 td.best::after { content: " ★"; color: var(--accent); }
 td.clear { font-weight: bold; color: var(--accent); }
+td.caveat { font-style: italic; }
 .note { color: var(--muted); }
 .scroll { overflow-x: auto; }
 </style>
@@ -54,7 +55,7 @@ td.clear { font-weight: bold; color: var(--accent); }
 </dl>
 <nav aria-label="contents"><ol>
 {{if .Glance}}<li><a href="#glance">At a glance: the fastest agent in each cell</a></li>
-{{end}}{{if .FlowGlance}}<li><a href="#flow-glance">Flows at a glance: the agent whose flows were slowed least in each cell</a></li>
+{{end}}{{if .FlowGlance}}<li><a href="#flow-glance">Flows at a glance: among the agents completing the most flows, the one whose flows were slowed least in each cell</a></li>
 {{end}}{{range .Charts}}<li><a href="#{{.ID}}">{{.Title}}</a></li>
 {{end}}{{if .Events}}<li><a href="#recovery">Recovery after each failure event</a></li>
 {{end}}{{if .Worst}}<li><a href="#worst">The worst single failures of each agent</a></li>
@@ -73,12 +74,12 @@ td.clear { font-weight: bold; color: var(--accent); }
 {{end}}</tbody></table></div>
 </section>
 {{end}}{{if .FlowGlance}}<section id="flow-glance">
-<h2>Flows at a glance: the agent whose flows were slowed least in each cell</h2>
-<p class="note">Least slowed: lowest mean slowdown (a flow's completion time over its completion time alone on the idle network, runs.parquet slowdown_mean) across replicates. The runner-up is compared with it run by run (same replicate, same seeds, hence the same flows): differences (least slowed − runner-up) in mean slowdown, mean and 99th-percentile completion time and failed flows, each with its 95% confidence interval (Student t) and the paired t test's p-value adjusted by Holm's step-down method (1979) across the rows of this table, metric by metric. Verdict "less slowed": the interval of the slowdown difference lies below zero and its adjusted p is below 0.05; "unclear": not both; "untested": fewer than 3 paired replicates, or the same difference in every replicate. hoplore compare tests these and the other flow columns per agent pair.</p>
+<h2>Flows at a glance: among the agents completing the most flows, the one whose flows were slowed least in each cell</h2>
+<p class="note">Completion times and slowdowns average the completed flows only: an agent that fails its long flows (any lost packet fails a flow) would show the short flows' times and look fastest. So the agents are ranked in two steps. First by the share of flows completed (runs.parquet completed_share: flows completed over flows started after the warm-up; the rest failed or were unfinished at the end): the agent completing the highest mean share is compared run by run (same replicate, same seeds, hence the same flows) with every other agent, and an agent completes clearly fewer flows when the 95% confidence interval (Student t) of the difference lies below zero and the paired t test's p-value, adjusted by Holm's step-down method (1979) across all these tests of the table, is below 0.05. Those agents are left out of the second step (last column). Then, among the rest, least slowed: lowest mean slowdown (a completed flow's completion time over its completion time alone on the idle network, slowdown_mean) across replicates; the runner-up is the next lowest, or, when no other agent is left, the left-out agent completing most. The two are compared run by run: differences (least slowed − runner-up) in the share completed, mean slowdown, mean and 99th-percentile completion time and failed flows, each with its 95% confidence interval and the paired t test's p-value adjusted by Holm across the rows of this table, metric by metric. Verdict "less slowed": the interval of the slowdown difference lies below zero and its adjusted p is below 0.05; "unclear": not both; "untested": fewer than 3 paired replicates, or the same difference in every replicate. A verdict that adds "but completes fewer flows" names an agent completing fewer flows than the leader or the runner-up by a difference the replicates do not establish: its lower slowdown may come from the flows it did not complete. hoplore compare tests these and the other flow columns per agent pair.</p>
 <div class="scroll"><table class="glance" data-table="flow-glance">
-<thead><tr><th>topology</th><th>failures</th><th>load</th><th>least slowed</th><th>slowdown</th><th>runner-up</th><th>slowdown</th><th>difference ± 95% CI</th><th>relative</th><th>p (t)</th><th>p (t), Holm</th><th>verdict</th><th>completion time, mean: difference ({{.FCTUnit}})</th><th>Holm p</th><th>completion time, p99: difference ({{.FCTUnit}})</th><th>Holm p</th><th>failed flows: difference</th><th>Holm p</th></tr></thead>
+<thead><tr><th>topology</th><th>failures</th><th>load</th><th>least slowed</th><th>completed (%)</th><th>slowdown</th><th>runner-up</th><th>completed (%)</th><th>slowdown</th><th>completed: difference (points) ± 95% CI</th><th>Holm p</th><th>slowdown: difference ± 95% CI</th><th>relative</th><th>p (t)</th><th>p (t), Holm</th><th>verdict</th><th>completion time, mean: difference ({{.FCTUnit}})</th><th>Holm p</th><th>completion time, p99: difference ({{.FCTUnit}})</th><th>Holm p</th><th>failed flows: difference</th><th>Holm p</th><th>left out: completing clearly fewer flows (%)</th></tr></thead>
 <tbody>
-{{range .FlowGlance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestSD}}</td><td class="dim">{{.Second}}</td><td>{{.SecondSD}}</td><td>{{.SD}}</td><td>{{.SDRel}}</td><td>{{.SDPT}}</td><td>{{.SDPTHolm}}</td><td class="dim{{if .Clear}} clear{{end}}">{{.Verdict}}</td><td>{{.FCT}}</td><td>{{.FCTHolm}}</td><td>{{.P99}}</td><td>{{.P99Holm}}</td><td>{{.Failed}}</td><td>{{.FailedHolm}}</td></tr>
+{{range .FlowGlance}}<tr><td class="dim">{{.Topology}}</td><td class="dim">{{.Failure}}</td><td>{{.Load}}</td><td class="dim"><b>{{.Best}}</b></td><td>{{.BestShare}}</td><td>{{.BestSD}}</td><td class="dim">{{.Second}}</td><td>{{.SecondShare}}</td><td>{{.SecondSD}}</td><td>{{.Share}}</td><td>{{.ShareHolm}}</td><td>{{.SD}}</td><td>{{.SDRel}}</td><td>{{.SDPT}}</td><td>{{.SDPTHolm}}</td><td class="dim{{if .Clear}} clear{{end}}{{if .Caveat}} caveat{{end}}">{{.Verdict}}</td><td>{{.FCT}}</td><td>{{.FCTHolm}}</td><td>{{.P99}}</td><td>{{.P99Holm}}</td><td>{{.Failed}}</td><td>{{.FailedHolm}}</td><td class="dim">{{.Excluded}}</td></tr>
 {{end}}</tbody></table></div>
 </section>
 {{end}}{{range .Charts}}<section class="chart-section">
@@ -106,7 +107,7 @@ td.clear { font-weight: bold; color: var(--accent); }
 {{end}}</section>
 {{end}}{{range .Tables}}<section class="table-section">
 <h2 id="{{.ID}}">{{.Title}} ({{.Unit}}), mean ± 95% CI</h2>
-<p class="note">★ marks the lowest mean in each row.</p>
+<p class="note">★ marks the lowest mean in each row.{{if .Share}} Completed flows only: each cell gives the agent's mean share of {{.Share}} completed when below 100%; the lowest mean may be that of an agent that fails the slow flows.{{end}}</p>
 <div class="scroll"><table class="cells" data-table="{{.ID}}">
 <thead><tr><th>topology</th><th>load</th><th>failures</th>{{range .Agents}}<th>{{.}}</th>{{end}}</tr></thead>
 <tbody>

@@ -122,8 +122,33 @@ func textFor(c *results.Column) chartText {
 		return t
 	}
 	label := strings.ToUpper(c.Label[:1]) + c.Label[1:]
-	return chartText{id: slug(c.Name), title: label + " against load",
+	t := chartText{id: slug(c.Name), title: label + " against load",
 		caption: c.Doc + " (runs.parquet column " + c.Name + "), per agent, against offered load.", table: label}
+	if share, which := completedShareOf(c.Name); share != "" {
+		sc, _ := results.Runs.Column(share)
+		t.title = label + " against load (completed flows only)"
+		t.caption += " Completed flows only: an agent that fails or leaves unfinished some " + which +
+			" is averaged over the rest, often the shorter, and can look fast by failing the slow ones; read it beside the chart " +
+			strings.ToUpper(sc.Label[:1]) + sc.Label[1:] + " against load (" + share + ")."
+		t.table += " (completed flows only)"
+	}
+	return t
+}
+
+// completedShareOf returns the runs.parquet column holding the share of
+// flows completed that the completion-time or slowdown column name
+// averages over, and what those flows are called; "" for other columns.
+func completedShareOf(name string) (share, which string) {
+	if !strings.HasPrefix(name, "fct_") && !strings.HasPrefix(name, "slowdown_") {
+		return "", ""
+	}
+	switch {
+	case strings.Contains(name, "_mice_"):
+		return "completed_mice_share", "mice"
+	case strings.Contains(name, "_elephant_"):
+		return "completed_elephant_share", "elephants"
+	}
+	return "completed_share", "flows"
 }
 
 // Build aggregates d into charts and tables. It fails only on an option
@@ -220,7 +245,11 @@ func Build(d *Data, o Options) (*Report, error) {
 	r.FlowGlance = FlowGlance(d)
 	for _, c := range chartedColumns(d) {
 		t := textFor(c)
-		r.tables = append(r.tables, makeTable("table-"+t.id, t.table, c, agents, cellTable(d, results.Runs.Index(c.Name))))
+		tab := makeTable("table-"+t.id, t.table, c, agents, cellTable(d, results.Runs.Index(c.Name)))
+		if share, which := completedShareOf(c.Name); share != "" {
+			tab.addShares(which, cellTable(d, results.Runs.Index(share)))
+		}
+		r.tables = append(r.tables, tab)
 	}
 	return r, nil
 }
@@ -299,6 +328,26 @@ type htmlTable struct {
 	ID, Title, Unit string
 	Agents          []string
 	Rows            []htmlRow
+	// Share names the flows whose completed share the cells give beside
+	// a mean over completed flows (addShares); "" in other tables.
+	Share string
+}
+
+// addShares appends to each cell the agent's mean share of flows
+// completed (shares, rows and agents as t's) when it is below 1, so that a
+// mean over completed flows is never read without it.
+func (t *htmlTable) addShares(which string, shares []TableRow) {
+	t.Share = which
+	for i := range t.Rows {
+		if i >= len(shares) {
+			break
+		}
+		for j := range t.Rows[i].Cells {
+			if m := shares[i].Est[j].Mean; m < 1 {
+				t.Rows[i].Cells[j].Text += " (" + stats.Sig(100*m, 3) + "% completed)"
+			}
+		}
+	}
 }
 
 type htmlRow struct {
@@ -540,14 +589,15 @@ func chartedColumns(d *Data) []*results.Column {
 
 // flowGlanceView is a FlowGlanceRow as the page shows it.
 type flowGlanceView struct {
-	Topology, Load, Failure    string
-	Best, BestSD               string
-	Second, SecondSD           string
-	SD, SDRel, SDPT, SDPTHolm  string
-	Verdict                    string
-	Clear                      bool
-	FCT, FCTHolm, P99, P99Holm string
-	Failed, FailedHolm         string
+	Topology, Load, Failure       string
+	Best, BestShare, BestSD       string
+	Second, SecondShare, SecondSD string
+	Share, ShareHolm              string
+	SD, SDRel, SDPT, SDPTHolm     string
+	Verdict                       string
+	Clear, Caveat                 bool
+	FCT, FCTHolm, P99, P99Holm    string
+	Failed, FailedHolm, Excluded  string
 }
 
 // flowGlanceView formats r.FlowGlance, completion times in the unit
@@ -555,20 +605,22 @@ type flowGlanceView struct {
 func (r *Report) flowGlanceView() ([]flowGlanceView, string) {
 	var hi float64
 	for _, g := range r.FlowGlance {
-		for _, c := range g.Diffs[1:3] {
+		for _, c := range g.Diffs[2:4] {
 			hi = math.Max(hi, math.Max(nanZero(c.MeanA), nanZero(c.MeanB)))
 		}
 	}
 	scale, unit := timeUnit(hi)
 	var out []flowGlanceView
 	for _, g := range r.FlowGlance {
-		sd, fct, p99, failed := g.Diffs[0], g.Diffs[1], g.Diffs[2], g.Diffs[3]
+		share, sd, fct, p99, failed := g.Diffs[0], g.Diffs[1], g.Diffs[2], g.Diffs[3], g.Diffs[4]
 		v := flowGlanceView{Topology: g.Topology, Load: fmtNum(g.Load), Failure: g.Failure,
-			Best: g.Best, BestSD: g.BestSlowdown.Format(1), Second: g.Second, SecondSD: g.SecondSlowdown.Format(1),
+			Best: g.Best, BestShare: g.BestShare.Format(100), BestSD: g.BestSlowdown.Format(1),
+			Second: g.Second, SecondShare: g.SecondShare.Format(100), SecondSD: g.SecondSlowdown.Format(1),
+			Share: stats.PlusMinus(share.MeanDiff*100, share.CI95*100), ShareHolm: fmtP(share.PTHolm),
 			SD: stats.PlusMinus(sd.MeanDiff, sd.CI95), SDRel: fmtPercent(sd.RelDiff), SDPT: fmtP(sd.PT), SDPTHolm: fmtP(sd.PTHolm),
 			FCT: stats.PlusMinus(fct.MeanDiff*scale, fct.CI95*scale), FCTHolm: fmtP(fct.PTHolm),
 			P99: stats.PlusMinus(p99.MeanDiff*scale, p99.CI95*scale), P99Holm: fmtP(p99.PTHolm),
-			Failed: stats.PlusMinus(failed.MeanDiff, failed.CI95), FailedHolm: fmtP(failed.PTHolm)}
+			Failed: stats.PlusMinus(failed.MeanDiff, failed.CI95), FailedHolm: fmtP(failed.PTHolm), Excluded: "none"}
 		switch {
 		case sd.Note != "":
 			v.Verdict = "untested: " + sd.Note
@@ -576,6 +628,24 @@ func (r *Report) flowGlanceView() ([]flowGlanceView, string) {
 			v.Verdict, v.Clear = "less slowed", true
 		default:
 			v.Verdict = "unclear"
+		}
+		switch {
+		case g.FewerFlows():
+			// not clearly fewer (else excluded), but fewer: say so
+			v.Verdict += fmt.Sprintf("; but completes fewer flows than %s (%s%% against %s%%, Holm p %s)",
+				g.Leader, stats.Sig(100*g.BestShare.Mean, 3), stats.Sig(100*g.LeaderShare.Mean, 3), fmtP(g.BestVsLeader.PTHolm))
+			v.Clear, v.Caveat = false, true
+		case g.BestShare.Mean < g.SecondShare.Mean:
+			v.Verdict += fmt.Sprintf("; runner-up completes more flows (%s%% against %s%%)",
+				stats.Sig(100*g.SecondShare.Mean, 3), stats.Sig(100*g.BestShare.Mean, 3))
+			v.Clear, v.Caveat = false, true
+		}
+		if len(g.Excluded) > 0 {
+			var parts []string
+			for _, c := range g.Excluded {
+				parts = append(parts, fmt.Sprintf("%s (%s%%)", c.AgentA, stats.Sig(100*c.MeanA, 3)))
+			}
+			v.Excluded = strings.Join(parts, ", ")
 		}
 		out = append(out, v)
 	}

@@ -14,8 +14,8 @@ func TestFromRunFlows(t *testing.T) {
 	net := resultstest.Net()
 	cfg := resultstest.Config(net)
 	r := resultstest.Run(net, 0, false)
-	if got := results.FromRun(resultstest.Dims("q-routing", 0.5, 0), net, cfg, r, 1, "v").Run; got.FCTMeanS != nil || got.ReorderedFraction != nil || got.FlowsStarted != 0 {
-		t.Fatalf("packet traffic: flow columns %v %v %d, want null and 0", got.FCTMeanS, got.ReorderedFraction, got.FlowsStarted)
+	if got := results.FromRun(resultstest.Dims("q-routing", 0.5, 0), net, cfg, r, 1, "v").Run; got.FCTMeanS != nil || got.ReorderedFraction != nil || got.CompletedShare != nil || got.FlowsStarted != 0 {
+		t.Fatalf("packet traffic: flow columns %v %v %v %d, want null and 0", got.FCTMeanS, got.ReorderedFraction, got.CompletedShare, got.FlowsStarted)
 	}
 	f := &sim.FlowResult{Started: 7, Completed: 5, Failed: 1, Unfinished: 1, Delivered: 40, Reordered: 4}
 	for k := range f.Classes {
@@ -34,6 +34,9 @@ func TestFromRunFlows(t *testing.T) {
 	add(sim.Mice, 0.002, 3)
 	add(sim.Medium, 0.05, 1.5)
 	add(sim.Elephant, 2, 1.2)
+	// of the 7 started: 4 mice (one failed), 1 medium, 2 elephants (one
+	// unfinished)
+	f.Classes[sim.Mice].Started, f.Classes[sim.Medium].Started, f.Classes[sim.Elephant].Started = 4, 1, 2
 	r.Flows = f
 	got := results.FromRun(resultstest.Dims("q-routing", 0.5, 0), net, cfg, r, 1, "v").Run
 	for _, c := range []struct {
@@ -49,6 +52,9 @@ func TestFromRunFlows(t *testing.T) {
 		{"slowdown_elephant_mean", got.SlowdownElephantMean, 1.2},
 		{"reordered_fraction", got.ReorderedFraction, 0.1},
 		{"fct_p99_s", got.FCTP99S, 2},
+		{"completed_share", got.CompletedShare, 5.0 / 7},
+		{"completed_mice_share", got.CompletedMiceShare, 3.0 / 4},
+		{"completed_elephant_share", got.CompletedElephantShare, 1.0 / 2},
 	} {
 		if c.p == nil || !approx(*c.p, c.want, sim.HistRelErr) {
 			t.Errorf("%s: got %v, want %g", c.name, c.p, c.want)

@@ -267,5 +267,8 @@ func flowColumns(run *RunRow, f *sim.FlowResult) {
 		run.SlowdownMiceMean = ratio(mice.SlowdownSum, mice.Slowdown.Count())
 		run.SlowdownElephantMean = ratio(el.SlowdownSum, el.Slowdown.Count())
 	}
+	run.CompletedShare = ratio(float64(f.Completed), f.Started)
+	run.CompletedMiceShare = ratio(float64(mice.Completed), mice.Started)
+	run.CompletedElephantShare = ratio(float64(el.Completed), el.Started)
 	run.ReorderedFraction = ratio(float64(f.Reordered), f.Delivered)
 }

@@ -107,20 +107,26 @@ type RunRow struct {
 	// Flow traffic (sim.FlowResult): flows started at or after the
 	// warm-up; completion times and slowdowns of the completed ones, all
 	// and by size class; null without flow traffic or with none completed.
-	FlowsStarted         int64    `parquet:"flows_started"`
-	FlowsCompleted       int64    `parquet:"flows_completed"`
-	FlowsFailed          int64    `parquet:"flows_failed"`
-	FCTMeanS             *float64 `parquet:"fct_mean_s,optional"`
-	FCTP99S              *float64 `parquet:"fct_p99_s,optional"`
-	FCTMiceMeanS         *float64 `parquet:"fct_mice_mean_s,optional"`
-	FCTElephantMeanS     *float64 `parquet:"fct_elephant_mean_s,optional"`
-	SlowdownMean         *float64 `parquet:"slowdown_mean,optional"`
-	SlowdownP99          *float64 `parquet:"slowdown_p99,optional"`
-	SlowdownMiceMean     *float64 `parquet:"slowdown_mice_mean,optional"`
-	SlowdownElephantMean *float64 `parquet:"slowdown_elephant_mean,optional"`
-	ReorderedFraction    *float64 `parquet:"reordered_fraction,optional"`
-	FailureEvents        int      `parquet:"failure_events"`
-	Events               int64    `parquet:"events"`
+	FlowsStarted   int64 `parquet:"flows_started"`
+	FlowsCompleted int64 `parquet:"flows_completed"`
+	FlowsFailed    int64 `parquet:"flows_failed"`
+	// CompletedShare and the per-class shares are flows completed over
+	// flows started: the part of the flows the completion times and
+	// slowdowns describe.
+	CompletedShare         *float64 `parquet:"completed_share,optional"`
+	CompletedMiceShare     *float64 `parquet:"completed_mice_share,optional"`
+	CompletedElephantShare *float64 `parquet:"completed_elephant_share,optional"`
+	FCTMeanS               *float64 `parquet:"fct_mean_s,optional"`
+	FCTP99S                *float64 `parquet:"fct_p99_s,optional"`
+	FCTMiceMeanS           *float64 `parquet:"fct_mice_mean_s,optional"`
+	FCTElephantMeanS       *float64 `parquet:"fct_elephant_mean_s,optional"`
+	SlowdownMean           *float64 `parquet:"slowdown_mean,optional"`
+	SlowdownP99            *float64 `parquet:"slowdown_p99,optional"`
+	SlowdownMiceMean       *float64 `parquet:"slowdown_mice_mean,optional"`
+	SlowdownElephantMean   *float64 `parquet:"slowdown_elephant_mean,optional"`
+	ReorderedFraction      *float64 `parquet:"reordered_fraction,optional"`
+	FailureEvents          int      `parquet:"failure_events"`
+	Events                 int64    `parquet:"events"`
 	// WallS is the run's wall-clock time in seconds: the one column that
 	// differs between two executions of the same run. Compare tables with
 	// it masked.
