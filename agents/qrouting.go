@@ -621,11 +621,6 @@ func (r *qrNode) view(i int, now sim.Time) (val, t float64) {
 		}
 		return predEst(r.q, r.b, r.r, r.u, i, now), 0
 	}
-	return r.viewAll(i, now)
-}
-
-// viewAll is view for every objective and variant.
-func (r *qrNode) viewAll(i int, now sim.Time) (val, t float64) {
 	q, qd, qu, b, rr, u, bd, rd, ud, pd := r.q, r.qd, r.qu, r.b, r.r, r.u, r.bd, r.rd, r.ud, r.pdrop
 	if r.fq != nil {
 		q, qd, qu, b, rr, u, bd, rd, ud, pd, now = r.fq, r.fqd, r.fqu, r.fb, r.fr, r.fu, r.fbd, r.frd, r.fud, r.fpdrop, r.installed
