@@ -6,6 +6,7 @@ import (
 	"math"
 	"slices"
 	"time"
+	"unsafe"
 
 	"hoplore/sim"
 )
@@ -50,6 +51,12 @@ const (
 	// about 370).
 	demandRowBytes    = 400
 	replaySourceBytes = 160
+	// A flow of traffic.flows.sample beyond its record (sim.FlowRecord,
+	// with the slack of its slice's growth): its flows.parquet row (256
+	// bytes and its optional values) and its encoding in the run's part,
+	// both held while the part is written (measured with the record:
+	// about 435 bytes per sampled flow).
+	flowRowBytes = 400
 	// GCFactor turns live heap into resident memory: with the garbage
 	// collector's default pacing (GOGC=100) the heap grows to about twice
 	// its live part before a collection.
@@ -63,8 +70,9 @@ const (
 // (replicates × cells), and the largest runs held at once by the workers —
 // their time series (bin), their queues with every buffer full (buffer),
 // their topology, their agents' tables (as each kind estimates them), the
-// candidate paths of their flows' idle-network completion times and
-// their failure events (random failures: the expected count from mtbf and
+// candidate paths of their flows' idle-network completion times, the
+// flows they record one by one (traffic.flows.sample: the flows expected
+// in the measured window, at most the sample) and their failure events (random failures: the expected count from mtbf and
 // mttr). Cost: one estimate per cell, not per replicate.
 func (e *Experiment) EstimateMemory(workers int) MemoryEstimate {
 	runs := e.Runs()
@@ -179,6 +187,10 @@ func (r *Run) memoryParts() []MemoryPart {
 		}
 		ps = append(ps, MemoryPart{fmt.Sprintf("traffic.flows: idle-network paths towards %d destinations (topology %s)", dests, t.Label),
 			sim.IdleRoutesBytes(len(t.Graph.Nodes), len(t.Net.Channels), dests)})
+		if n := r.sampledFlows(); n > 0 {
+			ps = append(ps, MemoryPart{fmt.Sprintf("traffic.flows.sample: %d (%.3g flows recorded per run)", e.Traffic.FlowGen.Sample, n),
+				n * FlowSampleBytes})
+		}
 	}
 	if f := r.Failure; f != nil && f.Random != nil {
 		n := float64(len(t.Graph.Links))
@@ -193,6 +205,30 @@ func (r *Run) memoryParts() []MemoryPart {
 		ps = append(ps, MemoryPart{"failures " + f.Name, float64(len(f.Events)) * failureBytes})
 	}
 	return ps
+}
+
+// FlowSampleBytes is the memory a run takes per flow of its
+// traffic.flows.sample: the record in the engine's sample, with the slack
+// of the slice's growth (a quarter), its flows.parquet row and its
+// encoding in the run's part.
+const FlowSampleBytes = float64(unsafe.Sizeof(sim.FlowRecord{}))*5/4 + flowRowBytes
+
+// sampledFlows returns how many flows the run records one by one, about:
+// the flows expected to start in its measured window (flows per second,
+// at the highest phase factor if above 1, times the window), at most
+// traffic.flows.sample.
+func (r *Run) sampledFlows() float64 {
+	e := r.Exp
+	g := e.Traffic.FlowGen
+	if g == nil || g.Sample == 0 {
+		return 0
+	}
+	peak := 1.0
+	for _, ph := range e.Traffic.Phases {
+		peak = math.Max(peak, ph.Factor)
+	}
+	n := sumRates(r.FlowRates()) * peak * (e.Duration - e.Warmup).Seconds()
+	return math.Min(math.Ceil(n), float64(g.Sample))
 }
 
 // replaySetting names a replay's memory term on topology t.
