@@ -22,11 +22,12 @@ var CompareMetrics = chartedNames()
 
 // FlowCompareMetrics are the runs.parquet columns of flow traffic that
 // Compare tests after CompareMetrics when given none and some run of the
-// folder had flows (flows_started > 0): completion time (mean, p99, mice,
-// elephants), slowdown likewise, the reordered fraction and the failed
-// flows (a count: paired runs share their seeds, so they start the same
-// flows).
-var FlowCompareMetrics = []string{"fct_mean_s", "fct_p99_s", "fct_mice_mean_s", "fct_elephant_mean_s",
+// folder had flows (flows_started > 0): the share of flows completed
+// (which the completion times and slowdowns describe), completion time
+// (mean, p99, mice, elephants), slowdown likewise, the reordered fraction
+// and the failed flows (a count: paired runs share their seeds, so they
+// start the same flows).
+var FlowCompareMetrics = []string{"completed_share", "fct_mean_s", "fct_p99_s", "fct_mice_mean_s", "fct_elephant_mean_s",
 	"slowdown_mean", "slowdown_p99", "slowdown_mice_mean", "slowdown_elephant_mean", "reordered_fraction", "flows_failed"}
 
 // HasFlows reports whether some run of d had flow traffic (flows_started

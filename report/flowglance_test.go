@@ -268,3 +268,15 @@ func TestFlowGlanceCountsFailures(t *testing.T) {
 		t.Errorf("no slowdown table among %v", ids)
 	}
 }
+
+// A share completed is never shown as 100% unless every flow completed.
+func TestShareText(t *testing.T) {
+	for _, c := range []struct {
+		m    float64
+		want string
+	}{{1, "100"}, {0.839, "83.9"}, {0.9995, "99.95"}, {0.99996, "99.996"}, {0.5, "50"}} {
+		if got := shareText(c.m); got != c.want {
+			t.Errorf("shareText(%v) = %q, want %q", c.m, got, c.want)
+		}
+	}
+}

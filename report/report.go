@@ -128,7 +128,7 @@ func textFor(c *results.Column) chartText {
 		sc, _ := results.Runs.Column(share)
 		t.title = label + " against load (completed flows only)"
 		t.caption += " Completed flows only: an agent that fails or leaves unfinished some " + which +
-			" is averaged over the rest, often the shorter, and can look fast by failing the slow ones; read it beside the chart " +
+			" is averaged over the rest and can look fast by failing its slow ones; read it beside the chart " +
 			strings.ToUpper(sc.Label[:1]) + sc.Label[1:] + " against load (" + share + ")."
 		t.table += " (completed flows only)"
 	}
@@ -323,6 +323,19 @@ func orDefault(s, def string) string {
 	return s
 }
 
+// shareText formats a share in percent to 3 significant digits, more
+// when 3 would round a share below 1 to 100.
+func shareText(m float64) string {
+	if !(m < 1) {
+		return stats.Sig(100*m, 3)
+	}
+	for sig := 3; ; sig++ {
+		if s := stats.Sig(100*m, sig); s != "100" && !strings.HasPrefix(s, "100.") || sig == 8 {
+			return s
+		}
+	}
+}
+
 // htmlTable is a cell table ready for the page.
 type htmlTable struct {
 	ID, Title, Unit string
@@ -344,7 +357,7 @@ func (t *htmlTable) addShares(which string, shares []TableRow) {
 		}
 		for j := range t.Rows[i].Cells {
 			if m := shares[i].Est[j].Mean; m < 1 {
-				t.Rows[i].Cells[j].Text += " (" + stats.Sig(100*m, 3) + "% completed)"
+				t.Rows[i].Cells[j].Text += " (" + shareText(m) + "% completed)"
 			}
 		}
 	}
@@ -633,17 +646,17 @@ func (r *Report) flowGlanceView() ([]flowGlanceView, string) {
 		case g.FewerFlows():
 			// not clearly fewer (else excluded), but fewer: say so
 			v.Verdict += fmt.Sprintf("; but completes fewer flows than %s (%s%% against %s%%, Holm p %s)",
-				g.Leader, stats.Sig(100*g.BestShare.Mean, 3), stats.Sig(100*g.LeaderShare.Mean, 3), fmtP(g.BestVsLeader.PTHolm))
+				g.Leader, shareText(g.BestShare.Mean), shareText(g.LeaderShare.Mean), fmtP(g.BestVsLeader.PTHolm))
 			v.Clear, v.Caveat = false, true
 		case g.BestShare.Mean < g.SecondShare.Mean:
 			v.Verdict += fmt.Sprintf("; runner-up completes more flows (%s%% against %s%%)",
-				stats.Sig(100*g.SecondShare.Mean, 3), stats.Sig(100*g.BestShare.Mean, 3))
+				shareText(g.SecondShare.Mean), shareText(g.BestShare.Mean))
 			v.Clear, v.Caveat = false, true
 		}
 		if len(g.Excluded) > 0 {
 			var parts []string
 			for _, c := range g.Excluded {
-				parts = append(parts, fmt.Sprintf("%s (%s%%)", c.AgentA, stats.Sig(100*c.MeanA, 3)))
+				parts = append(parts, fmt.Sprintf("%s (%s%%)", c.AgentA, shareText(c.MeanA)))
 			}
 			v.Excluded = strings.Join(parts, ", ")
 		}
