@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
@@ -89,7 +90,11 @@ func agentIndex(agents []string) map[string]int {
 
 // loadChart draws column col against load: rows are topologies, columns
 // failure schedules. refs, by topology, add the model optimum (nil: none).
-func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column, refs map[refKey]optimumRef) *chart {
+//
+// ringed, when not nil, marks a chart of means over completed flows: the
+// legend says so, and the points of the cells in ringed (agents completing
+// clearly fewer flows, fewerCompleted) are ringed.
+func loadChart(id, title, caption string, panels []LoadPanel, agents []string, col *results.Column, refs map[refKey]optimumRef, ringed map[Cell]bool, which string) *chart {
 	idx := agentIndex(agents)
 	var topos, fails []string
 	var all []Curve
@@ -124,6 +129,10 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 		notes = append(notes, "grey dashed: model optimum (best routing of each topology state)",
 			"grey dotted: load limit, the highest load any routing could carry")
 	}
+	if ringed != nil {
+		notes = append(notes, "completed "+which+" only: the share completed has its own chart",
+			"ringed: completes clearly fewer "+which+" than the agent completing most")
+	}
 	legend := agentLegend(agents, idx, notes...)
 	return &chart{ID: id, Title: title, Caption: caption, build: func(th theme) *figure {
 		f := &figure{panelW: panelW, panelH: panelH, legend: legend}
@@ -141,6 +150,7 @@ func loadChart(id, title, caption string, panels []LoadPanel, agents []string, c
 			for _, c := range lp.Curves {
 				addCurve(p, c, styleFor(idx[c.Agent]), ax.scale, ax.logY, true)
 			}
+			addRings(p, th, lp, ringed, ax.scale, ax.logY)
 			setRange(&p.X, xlo, xhi, false)
 			setRange(&p.Y, lo*ax.scale, hi*ax.scale, ax.logY)
 			if ref, ok := refs[refKey{lp.Topology, lp.Failure}]; ok {
@@ -401,4 +411,28 @@ func slug(s string) string {
 		}
 	}
 	return strings.TrimSuffix(b.String(), "-")
+}
+
+// addRings rings the points of lp's curves whose cell is in ringed.
+func addRings(p *plot.Plot, th theme, lp LoadPanel, ringed map[Cell]bool, yscale float64, logY bool) {
+	var pts plotter.XYs
+	for _, c := range lp.Curves {
+		for _, pt := range c.Points {
+			m := pt.Est.Mean * yscale
+			if !ringed[Cell{lp.Topology, c.Agent, pt.X, lp.Failure}] || math.IsNaN(m) || math.IsInf(m, 0) || (logY && m <= 0) {
+				continue
+			}
+			if logY {
+				m = math.Log10(m)
+			}
+			pts = append(pts, plotter.XY{X: pt.X, Y: m})
+		}
+	}
+	if len(pts) == 0 {
+		return
+	}
+	if sc, err := plotter.NewScatter(pts); err == nil {
+		sc.GlyphStyle = draw.GlyphStyle{Color: th.ink, Radius: vg.Points(6), Shape: draw.RingGlyph{}}
+		p.Add(sc)
+	}
 }

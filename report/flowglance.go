@@ -78,53 +78,12 @@ func FlowGlance(d *Data) []FlowGlanceRow {
 		p := Panel{r.Topology, r.Load, r.Failure}
 		byPanel[p] = append(byPanel[p], r)
 	}
-	share := cellTable(d, results.Runs.Index("completed_share"))
-	slow := cellTable(d, results.Runs.Index("slowdown_mean"))
-	// step 1: every agent against the leader on completed share
-	type panelRank struct {
-		row     int   // index in share and slow
-		leader  int   // agent index
-		vs      []int // agent indices compared with the leader
-		firstVs int   // index of vs[0]'s comparison in the family
-	}
-	var ranks []panelRank
-	var family []Comparison
-	for i, row := range share {
-		var have []int
-		for j, e := range row.Est {
-			if !math.IsNaN(e.Mean) {
-				have = append(have, j)
-			}
-		}
-		if len(have) < 2 {
-			continue
-		}
-		sd := slow[i].Est
-		// highest share; ties: lower slowdown (a NaN slowdown last)
-		slices.SortStableFunc(have, func(a, b int) int {
-			return cmp.Or(cmp.Compare(row.Est[b].Mean, row.Est[a].Mean), cmpNaNLast(sd[a].Mean, sd[b].Mean))
-		})
-		pr := panelRank{row: i, leader: have[0], firstVs: len(family)}
-		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
-		for _, j := range have[1:] {
-			cs, err := Compare(sub, agents[j], agents[pr.leader], "completed_share")
-			if err != nil {
-				continue // the two never shared a replicate index
-			}
-			pr.vs = append(pr.vs, j)
-			family = append(family, cs[0])
-		}
-		ranks = append(ranks, pr)
-	}
-	// one family: every completion test the table makes (Holm 1979)
-	adjustHolm(family, func(*Comparison) bool { return true })
-	for i := range family {
-		family[i].Verdict = verdict(&family[i])
-	}
+	share, slow, ranks, family := completionTests(d, "completed_share", "slowdown_mean")
 	// step 2: slowdown among the agents not completing clearly fewer
 	var out []FlowGlanceRow
 	for _, pr := range ranks {
 		row, sd := share[pr.row], slow[pr.row].Est
+		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
 		vsOf := map[int]Comparison{}
 		in := []int{pr.leader}
 		var out2 []int
@@ -144,7 +103,6 @@ func FlowGlance(d *Data) []FlowGlanceRow {
 		// out2 keeps the order of the first step: highest share first
 		order := append(slices.Clone(in), out2...)
 		b, s := order[0], order[1]
-		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
 		cs, err := Compare(sub, agents[b], agents[s], FlowGlanceMetrics...)
 		if err != nil {
 			continue // the two never shared a replicate index
@@ -170,6 +128,79 @@ func FlowGlance(d *Data) []FlowGlanceRow {
 		for i := range out {
 			out[i].Diffs[mi] = diffs[i]
 			out[i].Diffs[mi].Verdict = verdict(&out[i].Diffs[mi])
+		}
+	}
+	return out
+}
+
+// completionRank is one panel's first ranking step (completionTests): the
+// agent completing most and the agents compared with it.
+type completionRank struct {
+	row     int   // index in the share and slowdown tables
+	leader  int   // agent index
+	vs      []int // agent indices compared with the leader
+	firstVs int   // index of vs[0]'s comparison in the family
+}
+
+// completionTests is the first step of the flows-at-a-glance ranking on
+// the share-completed column share, with slowdown breaking ties: per panel
+// in which at least two agents have a mean share, the leader (highest mean
+// share; ties: lower mean slowdown, a NaN slowdown last, then label
+// order) and every other agent's comparison with it (agent − leader,
+// paired by replicate), all of them one family adjusted by Holm (1979).
+// It returns the cell tables of share and slowdown, the panels' ranks and
+// the family.
+func completionTests(d *Data, share, slowdown string) (shares, slows []TableRow, ranks []completionRank, family []Comparison) {
+	agents := d.Agents()
+	byPanel := map[Panel][]Run{}
+	for _, r := range d.Runs {
+		p := Panel{r.Topology, r.Load, r.Failure}
+		byPanel[p] = append(byPanel[p], r)
+	}
+	shares = cellTable(d, results.Runs.Index(share))
+	slows = cellTable(d, results.Runs.Index(slowdown))
+	for i, row := range shares {
+		var have []int
+		for j, e := range row.Est {
+			if !math.IsNaN(e.Mean) {
+				have = append(have, j)
+			}
+		}
+		if len(have) < 2 {
+			continue
+		}
+		sd := slows[i].Est
+		slices.SortStableFunc(have, func(a, b int) int {
+			return cmp.Or(cmp.Compare(row.Est[b].Mean, row.Est[a].Mean), cmpNaNLast(sd[a].Mean, sd[b].Mean))
+		})
+		pr := completionRank{row: i, leader: have[0], firstVs: len(family)}
+		sub := &Data{Dir: d.Dir, Experiment: d.Experiment, Runs: byPanel[row.Panel]}
+		for _, j := range have[1:] {
+			cs, err := Compare(sub, agents[j], agents[pr.leader], share)
+			if err != nil {
+				continue // the two never shared a replicate index
+			}
+			pr.vs = append(pr.vs, j)
+			family = append(family, cs[0])
+		}
+		ranks = append(ranks, pr)
+	}
+	// one family: every completion test made (Holm 1979)
+	adjustHolm(family, func(*Comparison) bool { return true })
+	for i := range family {
+		family[i].Verdict = verdict(&family[i])
+	}
+	return shares, slows, ranks, family
+}
+
+// fewerCompleted returns the cells whose agent completes clearly fewer
+// flows (share column share) than the panel's leader (completionTests).
+func fewerCompleted(d *Data, share, slowdown string) map[Cell]bool {
+	_, _, _, family := completionTests(d, share, slowdown)
+	out := map[Cell]bool{}
+	for i := range family {
+		if c := &family[i]; clearlyLower(c) {
+			out[Cell{c.Topology, c.AgentA, c.Load, c.Failure}] = true
 		}
 	}
 	return out

@@ -236,11 +236,21 @@ func TestFlowGlanceCountsFailures(t *testing.T) {
 			}
 		}
 	}
+	// the charts of completion times and slowdowns ring the cells left out
+	ringed := fewerCompleted(d, "completed_share", "slowdown_mean")
+	if want := (Cell{"many", "drops", 0.5, "none"}); len(ringed) != 1 || !ringed[want] {
+		t.Errorf("ringed cells %v, want only %v", ringed, want)
+	}
 	// the page's cell tables of completion times and slowdowns carry the
-	// share completed
+	// share completed, their charts say completed flows only
 	rep, err := Build(d, Options{})
 	if err != nil {
 		t.Fatal(err)
+	}
+	for _, c := range rep.charts {
+		if c.ID == "slowdown-mean" && (!strings.Contains(c.Title, "completed flows only") || !strings.Contains(c.Caption, "A ring marks")) {
+			t.Errorf("slowdown chart: title %q, caption %q", c.Title, c.Caption)
+		}
 	}
 	found := false
 	for _, tab := range rep.tables {

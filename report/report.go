@@ -135,6 +135,11 @@ func textFor(c *results.Column) chartText {
 	return t
 }
 
+// classSlowdown names the mean slowdown of the flows each share-completed
+// column counts: it breaks ties between the agents completing most.
+var classSlowdown = map[string]string{"completed_share": "slowdown_mean",
+	"completed_mice_share": "slowdown_mice_mean", "completed_elephant_share": "slowdown_elephant_mean"}
+
 // completedShareOf returns the runs.parquet column holding the share of
 // flows completed that the completion-time or slowdown column name
 // averages over, and what those flows are called; "" for other columns.
@@ -164,7 +169,14 @@ func Build(d *Data, o Options) (*Report, error) {
 		if c.Name == "delivery_mean_s" && belowOptimum(panels, refs) {
 			caption += " " + belowOptimumText
 		}
-		r.charts = append(r.charts, loadChart(t.id, t.title, caption, panels, agents, c, refs))
+		var ringed map[Cell]bool
+		share, which := completedShareOf(c.Name)
+		if share != "" {
+			ringed = fewerCompleted(d, share, classSlowdown[share])
+			caption += " A ring marks the points of an agent completing clearly fewer " + which +
+				" than the agent completing most in that cell (the first step of the flows-at-a-glance ranking)."
+		}
+		r.charts = append(r.charts, loadChart(t.id, t.title, caption, panels, agents, c, refs, ringed, which))
 	}
 	if o.ExpectedRuns > len(d.Runs) {
 		r.Notes = append(r.Notes, fmt.Sprintf("Incomplete: the tables hold %d of the experiment's %d runs (%d missing: a shard not merged, or a sweep not finished). Means and intervals cover the runs present only.",
