@@ -1,6 +1,7 @@
 package report
 
 import (
+	"bytes"
 	"errors"
 	"math"
 	"slices"
@@ -246,6 +247,15 @@ func TestFlowGlanceCountsFailures(t *testing.T) {
 	rep, err := Build(d, Options{})
 	if err != nil {
 		t.Fatal(err)
+	}
+	var page bytes.Buffer
+	if err := rep.HTML(&page); err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range []string{"<b>keeps</b>", "drops (80%)", "<b>drops</b>", "but completes fewer flows than keeps (80% against 100%"} {
+		if !strings.Contains(page.String(), w) {
+			t.Errorf("the page lacks %q", w)
+		}
 	}
 	for _, c := range rep.charts {
 		if c.ID == "slowdown-mean" && (!strings.Contains(c.Title, "completed flows only") || !strings.Contains(c.Caption, "A ring marks")) {
