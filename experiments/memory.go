@@ -55,8 +55,9 @@ const (
 	// with the slack of its slice's growth): its flows.parquet row (256
 	// bytes and its optional values) and its encoding in the run's part,
 	// both held while the part is written (measured with the record:
-	// about 435 bytes per sampled flow).
-	flowRowBytes = 400
+	// 420–515 bytes per sampled flow, the higher when the record's slice
+	// or the rows are not yet collected at the peak).
+	flowRowBytes = 500
 	// GCFactor turns live heap into resident memory: with the garbage
 	// collector's default pacing (GOGC=100) the heap grows to about twice
 	// its live part before a collection.
