@@ -71,8 +71,9 @@ type Report struct {
 	// events' load (see Resilience).
 	Resilience []AgentResilience
 	Glance     []GlanceRow // the fastest agent per cell against the runner-up
-	// FlowGlance is the agent whose flows were slowed least per cell
-	// against the runner-up, when the runs had flow traffic.
+	// FlowGlance is, per cell, the agent whose flows were slowed least
+	// among those not completing clearly fewer flows, against the
+	// runner-up, when the runs had flow traffic (FlowGlanceRow).
 	FlowGlance []FlowGlanceRow
 	Notes      []string // what the page leaves out and why
 
