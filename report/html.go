@@ -106,7 +106,7 @@ td.caveat { font-style: italic; }
 {{end}}</tbody></table></div>
 {{end}}</section>
 {{end}}{{range .Tables}}<section class="table-section">
-<h2 id="{{.ID}}">{{.Title}} ({{.Unit}}), mean ± 95% CI</h2>
+<h2 id="{{.ID}}">{{.Title}}{{if .Unit}} ({{.Unit}}){{end}}, mean ± 95% CI</h2>
 <p class="note">★ marks the lowest mean in each row.{{if .Share}} Completed flows only: each cell gives the agent's mean share of {{.Share}} completed when below 100%; the lowest mean may be that of an agent that fails the slow flows.{{end}}</p>
 <div class="scroll"><table class="cells" data-table="{{.ID}}">
 <thead><tr><th>topology</th><th>load</th><th>failures</th>{{range .Agents}}<th>{{.}}</th>{{end}}</tr></thead>
