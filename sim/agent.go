@@ -220,6 +220,9 @@ type Packet struct {
 	unreachable bool
 	cause       int32 // when unreachable: the failure event that made it so (index), −1 before any
 	fl          int32 // flow traffic: index of the flow + 1; 0 for packet traffic
+	// Config.PinFlows: the generation of its flow's pins the packet follows,
+	// and Hops − pinOff, its position on that generation's pinned walk
+	pinGen, pinOff int32
 }
 
 // FlowSlot returns the slot of the packet's flow of flow traffic

@@ -17,9 +17,20 @@ type Config struct {
 	Agent      Agent
 	// PinFlows makes the packets of a flow of flow traffic follow, at every
 	// node, the channel the flow's first packet to reach that node was sent
-	// on, while the node sees that channel up: per-flow decisions. The agent
-	// is still asked (and learns) for every packet; only the forwarding
-	// follows the pin.
+	// on: per-flow decisions. The agent is still asked (and learns) for
+	// every packet; only the forwarding follows the pin. A pin is never
+	// followed into a loop: it is re-decided (it takes the agent's choice for
+	// the packet at hand) when the node sees its channel down; when a packet
+	// of the flow comes back to the node further along the pinned path than
+	// the path first reached it, or dies there at the hop limit (the path
+	// loops through the node); and when it would send a packet straight back
+	// to the node it came from. The packet that re-decided a pin then
+	// chooses afresh, as a first packet, at the nodes after it, and the
+	// packets sent before it take the new pins where they meet them: the
+	// packets in flight round a loop when it is found go round it at most
+	// once, the later ones not at all. No reordering comes of pinning on a
+	// network without failures whose agent sends no first packet round a
+	// loop.
 	PinFlows bool
 	// ControlDelay is the age of a central agent's telemetry and the delay
 	// before its tables take effect.

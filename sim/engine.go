@@ -661,6 +661,9 @@ func (e *engine) forward(node int, id int32) {
 		return
 	}
 	if p.Hops >= e.hopLimit {
+		if p.fl != 0 && e.cfg.PinFlows {
+			e.pinHopLimit(node, p)
+		}
 		e.drop(id, HopLimit, -1)
 		return
 	}

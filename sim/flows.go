@@ -467,7 +467,8 @@ type flowState struct {
 	stopped   bool
 	live      bool
 	first     int32    // channel of the first packet at the source (FlowEnd.First)
-	path      []pinHop // with Config.PinFlows: the flow's channel at each node it reached
+	path      []pinHop // with Config.PinFlows: the flow's pin at each node it reached
+	gen       int32    // the latest generation of its pins (Config.PinFlows)
 }
 
 func (e *engine) initFlows() {
@@ -690,30 +691,97 @@ func (e *engine) tellFlowEnd(fi int32) {
 	e.fw[f.src].FlowEnded(fe)
 }
 
-// pinHop is one node's channel of a pinned flow.
-type pinHop struct{ node, ch int32 }
+// pinHop is one node's pin of a flow: the channel its packets take there,
+// the node's position on the pinned walk (hops from where the walk's
+// generation began, in the generation's count), and the generation.
+type pinHop struct{ node, ch, pos, gen int32 }
 
-// pinned returns the channel packet p of a flow follows at node: the one
-// recorded by the flow's first packet there while node sees it up, else
-// choice (the agent's), which is then recorded.
+// pinned returns the channel packet p of a flow follows at node under
+// Config.PinFlows, choice being the agent's. The flow's pins form a walk
+// from the source; a generation of it begins with the first packet and
+// again wherever a pin is re-decided, and the packet that re-decided it
+// chooses afresh (the agent's choice) at every node after it that holds a
+// pin of an older generation, as the first packet did. A packet carries the
+// generation it follows and its position on it (hops from the source, less
+// the loops it was taken out of): one of an older generation (sent before
+// the pin changed, or still in flight round a loop) takes the newer pin's
+// generation and position where it meets one. A pin is re-decided when its
+// channel is seen down; when a packet of its generation comes back to it
+// further along than the walk reached it (a loop; see pinHopLimit for a
+// packet that dies there); and when it would send a packet of its
+// generation, at its position, straight back to the node it came from (the
+// walk goes there and back). A packet that has just joined a walk whose pin
+// would send it back takes the agent's choice and leaves the pin as it is.
+// So the packets in flight round a loop when it is found go round it at
+// most once, and the later ones not at all.
 func (e *engine) pinned(node int, p *Packet, choice int) int {
 	f := &e.fl[p.fl-1]
+	pos := int32(p.Hops) - p.pinOff
 	for i := range f.path {
 		h := &f.path[i]
 		if int(h.node) != node {
 			continue
 		}
+		back := e.net.Channels[h.ch].To == p.Prev
+		switch {
+		case h.gen < 0:
+			return e.repin(f, h, p, choice) // a packet died here in a loop
+		case p.pinGen < h.gen || (p.pinGen == h.gen && pos < h.pos):
+			// the packet joins the walk here
+			p.pinGen, p.pinOff = h.gen, int32(p.Hops)-h.pos
+			if back {
+				return choice // not round the walk's way back to where it came from
+			}
+		case p.pinGen > h.gen:
+			// a re-decided walk meets an older pin: decide afresh
+			if choice != NoRoute {
+				h.ch, h.pos, h.gen = int32(choice), pos, p.pinGen
+			}
+			return choice
+		case pos > h.pos:
+			return e.repin(f, h, p, choice) // back where it passed: a loop
+		case back:
+			return e.repin(f, h, p, choice) // the walk goes straight back
+		}
 		if e.ch[h.ch].seenUp {
 			return int(h.ch)
 		}
-		if choice != NoRoute {
-			h.ch = int32(choice)
-		}
-		return choice
+		return e.repin(f, h, p, choice)
 	}
 	if choice != NoRoute {
-		f.path = append(f.path, pinHop{int32(node), int32(choice)})
+		f.path = append(f.path, pinHop{int32(node), int32(choice), pos, p.pinGen})
 	}
+	return choice
+}
+
+// pinHopLimit notes that packet p of a flow dies at the hop limit at node
+// under Config.PinFlows: if it had passed the node on its walk, the walk
+// loops there, and the pin is re-decided for the next packet to reach it
+// (the loop is detected when a packet comes back, which this one no longer
+// does).
+func (e *engine) pinHopLimit(node int, p *Packet) {
+	f := &e.fl[p.fl-1]
+	pos := int32(p.Hops) - p.pinOff
+	for i := range f.path {
+		if h := &f.path[i]; int(h.node) == node {
+			if h.gen == p.pinGen && pos > h.pos {
+				h.gen = -1
+			}
+			return
+		}
+	}
+}
+
+// repin re-decides pin h of flow f: it takes choice, the agent's for
+// packet p, and a new generation, which p follows from h's position on.
+// Without a choice the pin stays as it was and p is dropped.
+func (e *engine) repin(f *flowState, h *pinHop, p *Packet, choice int) int {
+	if choice == NoRoute {
+		return NoRoute
+	}
+	f.gen++
+	h.ch, h.gen = int32(choice), f.gen
+	p.pinGen, p.pinOff = f.gen, int32(p.Hops)-h.pos
 	return choice
 }
 

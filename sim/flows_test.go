@@ -361,14 +361,18 @@ func BenchmarkFlowEngine(b *testing.B) {
 // lists of packets and flows and the histograms have grown, and a sample
 // of 1000 flows is full), each iteration runs 10 ms more of grid4x4's flow
 // workload of BenchmarkFlowEngine at load 0.7; without and with the
-// per-flow sample.
+// per-flow sample, and pinned per flow (Config.PinFlows): on hop-count
+// paths, and with every flow's first packet sent back once from its second
+// node, so that every flow re-decides pins (firstBack).
 func BenchmarkFlowSteadyState(b *testing.B) {
 	for _, sample := range []int{0, 1000} {
-		b.Run(fmt.Sprintf("sample=%d", sample), func(b *testing.B) { flowSteadyState(b, sample) })
+		b.Run(fmt.Sprintf("sample=%d", sample), func(b *testing.B) { flowSteadyState(b, sample, false, false) })
 	}
+	b.Run("pin=flow", func(b *testing.B) { flowSteadyState(b, 0, true, false) })
+	b.Run("pin=flow,loops", func(b *testing.B) { flowSteadyState(b, 0, true, true) })
 }
 
-func flowSteadyState(b *testing.B, sample int) {
+func flowSteadyState(b *testing.B, sample int, pin, loops bool) {
 	size := sim.SizeDist{Kind: sim.Classes, Classes: []sim.SizeClass{{Fraction: 0.9, Bytes: 10_000}, {Fraction: 0.1, Bytes: 1e6}}}
 	net := sim.Compile(gridGraph(4, 4, 10e6, 64))
 	fm := sim.UniformMatrix(net)
@@ -380,6 +384,10 @@ func flowSteadyState(b *testing.B, sample int) {
 	}
 	cfg := &sim.Config{Net: net, Agent: shortest(b, net), Seed: 1, Duration: 1 << 62, Warmup: 0, Bin: 1 << 60,
 		Traffic: sim.Traffic{Size: sim.SizeDist{Kind: sim.Fixed, Bytes: 1}, FlowGen: &sim.FlowGen{Rates: fm, Size: size, Sample: sample}}}
+	cfg.PinFlows = pin
+	if loops {
+		cfg.Agent = &firstBack{net: net}
+	}
 	st, err := sim.NewStepper(cfg)
 	if err != nil {
 		b.Fatal(err)
