@@ -40,7 +40,7 @@ func FromRun(d Dims, net *sim.Net, cfg *sim.Config, r *sim.Result, wall float64,
 	run.LossRateReachable = ratio(float64(run.Dropped-run.DroppedUnreachable), r.Generated-run.DroppedUnreachable)
 	run.DeliveryMeanS = ratio(r.DeliverySum, r.Delivered)
 	run.DeliveryMeanSCI95, run.DeliveryMeanCIMethod = runInterval(&r.DeliveryBatches)
-	at, how := DetectWarmup(r.Series)
+	at, how := DetectWarmup(beforeFailures(r.Series, r.Failures))
 	run.WarmupDetectedS, run.WarmupDetection = finite(at), how
 	if r.Delivered > 0 {
 		run.DeliveryMaxS = f64(r.DeliveryMax)
@@ -271,4 +271,25 @@ func flowColumns(run *RunRow, f *sim.FlowResult) {
 	run.CompletedMiceShare = ratio(float64(mice.Completed), mice.Started)
 	run.CompletedElephantShare = ratio(float64(el.Completed), el.Started)
 	run.ReorderedFraction = ratio(float64(f.Reordered), f.Delivered)
+}
+
+// beforeFailures returns the bins of series that end by the first failure
+// event applied (all of them without failures, plus the bin after, which
+// DetectWarmup leaves out as the last): a failure starts a transient of
+// its own, the subject of recoveries.parquet, not a sign of a short
+// warm-up, and a run with a failure mid-run would otherwise read as one
+// that never settled.
+func beforeFailures(series []sim.Bin, failures []sim.FailureEvent) []sim.Bin {
+	if len(failures) == 0 {
+		return series
+	}
+	first := failures[0].At
+	for _, f := range failures[1:] {
+		first = min(first, f.At)
+	}
+	n := 0
+	for n < len(series) && series[n].End <= first {
+		n++
+	}
+	return series[:min(n+1, len(series))]
 }
