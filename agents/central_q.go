@@ -560,15 +560,7 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 			if k > 0 && len(l.ended) > 0 {
 				// the flows that ended: one update per state and candidate they
 				// started on, with their mean reward
-				best := math.Inf(-1)
-				for j := 0; j < nc; j++ {
-					if ok[j] && l.q[int(row)*nc+j] > best {
-						best = l.q[int(row)*nc+j]
-					}
-				}
-				if math.IsInf(best, -1) {
-					best = 0
-				}
+				best := bestUp(l.q[int(row)*nc:int(row+1)*nc], ok)
 				for _, qi := range l.ended {
 					r := l.acc[qi] / float64(l.cnt[qi])
 					l.q[qi] += a.p.LearningRate * (r + a.p.Discount*best - l.q[qi])
@@ -591,15 +583,7 @@ func (a *CentralQ) Telemetry(s *sim.Snapshot) {
 					}
 					r -= a.p.DropPenalty.Seconds() * float64(dDrop) / float64(dDel+dDrop)
 				}
-				best := math.Inf(-1)
-				for j := 0; j < nc; j++ {
-					if ok[j] && l.q[int(row)*nc+j] > best {
-						best = l.q[int(row)*nc+j]
-					}
-				}
-				if math.IsInf(best, -1) {
-					best = 0
-				}
+				best := bestUp(l.q[int(row)*nc:int(row+1)*nc], ok)
 				qi := int(l.row)*nc + int(l.action)
 				l.q[qi] += a.p.LearningRate * (r + a.p.Discount*best - l.q[qi])
 			}
@@ -652,4 +636,19 @@ func (a *CentralQ) choose(l *cqLearner, row int32, ok []bool, rng *rand.Rand) in
 		}
 	}
 	return act
+}
+
+// bestUp returns the largest of the Q values q of a state's candidates
+// that are up (ok), 0 when none is: the max_a' Q(s',a') of the update.
+func bestUp(q []float64, ok []bool) float64 {
+	best := math.Inf(-1)
+	for j, v := range q {
+		if ok[j] && v > best {
+			best = v
+		}
+	}
+	if math.IsInf(best, -1) {
+		return 0
+	}
+	return best
 }

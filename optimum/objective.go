@@ -309,23 +309,7 @@ func (s *Solver) objSetup(w Weights, eps float64) float64 {
 		}
 	}
 	if w.Delay > 0 {
-		for c, ch := range s.net.Channels {
-			s.lengths[c] = usable(ch, 1/math.Max(ch.Capacity, math.SmallestNonzeroFloat64)+ch.Delay)
-		}
-		var d0 float64
-		N := s.net.Nodes
-		for k := 0; k < N; k++ {
-			row := s.dem[k*N : (k+1)*N]
-			if !hasDemand(row) {
-				continue
-			}
-			s.towards(k, s.lengths)
-			for v, r := range row {
-				if r > 0 {
-					d0 += r * s.dist[v]
-				}
-			}
-		}
+		d0 := s.zeroLoadSum(s.lengths)
 		s.objD0 = d0 / s.total
 		s.objWD = w.Delay / d0
 	}
@@ -352,9 +336,14 @@ func (s *Solver) objTerms() (delayRatio, loss, util float64) {
 }
 
 // zeroLoadMean returns T₀ for the current demand (N Dijkstras).
-func (s *Solver) zeroLoadMean() float64 {
+func (s *Solver) zeroLoadMean() float64 { return s.zeroLoadSum(s.lprimal) / s.total }
+
+// zeroLoadSum returns γT₀ = Σ d_sk·τ(s,k), τ the least Σ 1/c + p over the
+// usable channels, for the current demand (N Dijkstras), with lengths as
+// the scratch for the zero-load lengths.
+func (s *Solver) zeroLoadSum(lengths []float64) float64 {
 	for c, ch := range s.net.Channels {
-		s.lprimal[c] = usable(ch, 1/math.Max(ch.Capacity, math.SmallestNonzeroFloat64)+ch.Delay)
+		lengths[c] = usable(ch, 1/math.Max(ch.Capacity, math.SmallestNonzeroFloat64)+ch.Delay)
 	}
 	var d0 float64
 	N := s.net.Nodes
@@ -363,14 +352,14 @@ func (s *Solver) zeroLoadMean() float64 {
 		if !hasDemand(row) {
 			continue
 		}
-		s.towards(k, s.lprimal)
+		s.towards(k, lengths)
 		for v, r := range row {
 			if r > 0 {
 				d0 += r * s.dist[v]
 			}
 		}
 	}
-	return d0 / s.total
+	return d0
 }
 
 // lossSum returns Σ_e ChannelLoss(tot_e) in packets/s.
