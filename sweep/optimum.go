@@ -32,9 +32,8 @@ func (c cellOptimum) fill(row *results.RunRow) {
 // replicate or the failure schedule. Runs of a cell that start while it is
 // being computed wait for it. Safe for concurrent use.
 type optima struct {
-	mu    sync.Mutex
-	m     map[optKey]*optEntry
-	cells map[cellKey]*rowsEntry
+	m     onceMap[optKey, cellOptimum]
+	cells onceMap[cellKey, []results.OptimumRow]
 }
 
 // cellKey identifies a cell of optimum.parquet: a topology, a load and a
@@ -45,21 +44,39 @@ type cellKey struct {
 	failure string
 }
 
-type rowsEntry struct {
-	once sync.Once
-	rows []results.OptimumRow
-	err  error
-}
-
 type optKey struct {
 	topo *experiments.Topology
 	load float64
 }
 
-type optEntry struct {
+// onceMap computes a value once per key and shares it: callers of a key
+// being computed wait for it. Safe for concurrent use; the zero value is
+// ready.
+type onceMap[K comparable, V any] struct {
+	mu sync.Mutex
+	m  map[K]*onceEntry[V]
+}
+
+type onceEntry[V any] struct {
 	once sync.Once
-	v    cellOptimum
+	v    V
 	err  error
+}
+
+// get returns the value of key k, computing it with f the first time.
+func (om *onceMap[K, V]) get(k K, f func() (V, error)) (V, error) {
+	om.mu.Lock()
+	if om.m == nil {
+		om.m = make(map[K]*onceEntry[V])
+	}
+	e, ok := om.m[k]
+	if !ok {
+		e = &onceEntry[V]{}
+		om.m[k] = e
+	}
+	om.mu.Unlock()
+	e.once.Do(func() { e.v, e.err = f() })
+	return e.v, e.err
 }
 
 // of returns the optimum of run r's cell; o may be nil (computed afresh).
@@ -67,19 +84,7 @@ func (o *optima) of(r *experiments.Run) (cellOptimum, error) {
 	if o == nil {
 		return computeOptimum(r)
 	}
-	k := optKey{r.Topology, r.Dims.Load}
-	o.mu.Lock()
-	if o.m == nil {
-		o.m = make(map[optKey]*optEntry)
-	}
-	e, ok := o.m[k]
-	if !ok {
-		e = &optEntry{}
-		o.m[k] = e
-	}
-	o.mu.Unlock()
-	e.once.Do(func() { e.v, e.err = computeOptimum(r) })
-	return e.v, e.err
+	return o.m.get(optKey{r.Topology, r.Dims.Load}, func() (cellOptimum, error) { return computeOptimum(r) })
 }
 
 // rows returns the rows of optimum.parquet for run r's cell (cellRows),
@@ -88,19 +93,7 @@ func (o *optima) rows(r *experiments.Run) ([]results.OptimumRow, error) {
 	if o == nil {
 		return cellRows(r, o)
 	}
-	k := cellKey{r.Topology, r.Dims.Load, r.Dims.Failure}
-	o.mu.Lock()
-	if o.cells == nil {
-		o.cells = make(map[cellKey]*rowsEntry)
-	}
-	e, ok := o.cells[k]
-	if !ok {
-		e = &rowsEntry{}
-		o.cells[k] = e
-	}
-	o.mu.Unlock()
-	e.once.Do(func() { e.rows, e.err = cellRows(r, o) })
-	return e.rows, e.err
+	return o.cells.get(cellKey{r.Topology, r.Dims.Load, r.Dims.Failure}, func() ([]results.OptimumRow, error) { return cellRows(r, o) })
 }
 
 // computeOptimum solves the least maximum utilisation and the least mean
