@@ -503,14 +503,7 @@ func (r *Report) HTML(w io.Writer) error {
 		if g.Ref.Why != "" {
 			v.Opt = "– (" + g.Ref.Why + ")"
 		}
-		switch {
-		case c.Note != "":
-			v.Verdict = "untested: " + c.Note
-		case c.CI95High < 0 && c.PTHolm < Alpha:
-			v.Verdict, v.Clear = "faster", true
-		default:
-			v.Verdict = "unclear"
-		}
+		v.Verdict, v.Clear = glanceVerdict(c, "faster")
 		glance = append(glance, v)
 	}
 	flowGlance, fctUnit := r.flowGlanceView()
@@ -647,14 +640,7 @@ func (r *Report) flowGlanceView() ([]flowGlanceView, string) {
 			FCT: stats.PlusMinus(fct.MeanDiff*scale, fct.CI95*scale), FCTHolm: fmtP(fct.PTHolm),
 			P99: stats.PlusMinus(p99.MeanDiff*scale, p99.CI95*scale), P99Holm: fmtP(p99.PTHolm),
 			Failed: stats.PlusMinus(failed.MeanDiff, failed.CI95), FailedHolm: fmtP(failed.PTHolm), Excluded: "none"}
-		switch {
-		case sd.Note != "":
-			v.Verdict = "untested: " + sd.Note
-		case sd.CI95High < 0 && sd.PTHolm < Alpha:
-			v.Verdict, v.Clear = "less slowed", true
-		default:
-			v.Verdict = "unclear"
-		}
+		v.Verdict, v.Clear = glanceVerdict(sd, "less slowed")
 		switch {
 		case g.FewerFlows():
 			// not clearly fewer (else excluded), but fewer: say so
@@ -676,4 +662,18 @@ func (r *Report) flowGlanceView() ([]flowGlanceView, string) {
 		out = append(out, v)
 	}
 	return out, unit
+}
+
+// glanceVerdict says what comparison c of an at-a-glance table's leader
+// against its runner-up shows: clear (the word, true) when the difference's 95% interval lies
+// below zero and its Holm-adjusted t-test p is below Alpha, "untested"
+// with the reason when no test exists, "unclear" otherwise.
+func glanceVerdict(c Comparison, clear string) (string, bool) {
+	switch {
+	case c.Note != "":
+		return "untested: " + c.Note, false
+	case c.CI95High < 0 && c.PTHolm < Alpha:
+		return clear, true
+	}
+	return "unclear", false
 }
